@@ -1,0 +1,5 @@
+"""``python -m matchtool``."""
+
+from matchtool.cli import run
+
+run()

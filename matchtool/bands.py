@@ -1,0 +1,98 @@
+"""Threshold bands on a sweep: where return loss meets a limit, with interpolated edges.
+
+Band edges are found by linear interpolation of the dB curve between the two bracketing samples
+(common practice, no source). A band that runs into either end of the sweep is marked clipped on
+that side: its true edge lies outside the measurement.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+_CAP_DB = 400.0  # stands in for +inf return loss (a perfect sample) when interpolating
+
+
+@dataclass(frozen=True)
+class Band:
+    """A contiguous frequency range meeting a threshold. Frequencies in Hz."""
+
+    f_low_hz: float
+    f_high_hz: float
+    clipped_low: bool
+    clipped_high: bool
+
+    @property
+    def f_center_hz(self) -> float:
+        """Arithmetic centre of the band edges."""
+        return 0.5 * (self.f_low_hz + self.f_high_hz)
+
+    @property
+    def bandwidth_hz(self) -> float:
+        return self.f_high_hz - self.f_low_hz
+
+    @property
+    def fractional_bandwidth(self) -> float:
+        """Bandwidth divided by the centre frequency (0 for a zero-width band)."""
+        c = self.f_center_hz
+        return self.bandwidth_hz / c if c > 0 else 0.0
+
+    def contains(self, f_hz: float) -> bool:
+        return self.f_low_hz <= f_hz <= self.f_high_hz
+
+
+def _crossing(f0: float, f1: float, y0: float, y1: float, level: float) -> float:
+    if y1 == y0:
+        return 0.5 * (f0 + f1)
+    return f0 + (level - y0) * (f1 - f0) / (y1 - y0)
+
+
+def find_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float) -> list[Band]:
+    """Bands where ``value_db >= threshold_db`` (e.g. return loss in dB against a minimum).
+
+    To find where S11 dB stays below a maximum, pass ``-s11_db`` and ``-max``.
+    """
+    f = np.asarray(f_hz, dtype=float)
+    y = np.minimum(np.nan_to_num(np.asarray(value_db, dtype=float), nan=-np.inf), _CAP_DB)
+    ok = y >= threshold_db
+    if not ok.any():
+        return []
+    edges = np.diff(ok.astype(np.int8))
+    starts = list(np.flatnonzero(edges == 1) + 1)
+    stops = list(np.flatnonzero(edges == -1))
+    if ok[0]:
+        starts.insert(0, 0)
+    if ok[-1]:
+        stops.append(len(ok) - 1)
+    bands = []
+    for i, j in zip(starts, stops, strict=True):
+        lo = f[0] if i == 0 else _crossing(f[i - 1], f[i], y[i - 1], y[i], threshold_db)
+        hi = f[-1] if j == len(ok) - 1 else _crossing(f[j], f[j + 1], y[j], y[j + 1], threshold_db)
+        bands.append(Band(float(lo), float(hi), i == 0, j == len(ok) - 1))
+    return bands
+
+
+def band_containing(bands: list[Band], f_hz: float) -> Band | None:
+    """The band that holds ``f_hz``, or None."""
+    for b in bands:
+        if b.contains(f_hz):
+            return b
+    return None
+
+
+def band_samples(f_hz: np.ndarray, y: np.ndarray, f_low_hz: float, f_high_hz: float) -> tuple[np.ndarray, np.ndarray]:
+    """Samples of ``y`` (real or complex) over [f_low, f_high], with the edge values linearly
+    interpolated and included, so that a worst case over the band never misses the edges.
+
+    The band must lie inside the sweep (callers check coverage first).
+    """
+    f = np.asarray(f_hz, dtype=float)
+    y = np.asarray(y)
+    inside = (f > f_low_hz) & (f < f_high_hz)
+    fe = np.array([f_low_hz, f_high_hz])
+    if np.iscomplexobj(y):
+        ye = np.interp(fe, f, y.real) + 1j * np.interp(fe, f, y.imag)
+    else:
+        ye = np.interp(fe, f, y)
+    return (np.concatenate(([fe[0]], f[inside], [fe[1]])), np.concatenate(([ye[0]], y[inside], [ye[1]])))

@@ -1,0 +1,106 @@
+"""Command-line entry point: the typer app, and one handler that turns expected failures into a
+single ``error: ...`` line on stderr with exit status 2 (``--debug`` anywhere shows the traceback).
+"""
+
+from __future__ import annotations
+
+import importlib
+import sys
+
+import typer
+
+from .errors import ExitStatus, MatchtoolError
+
+try:  # recent typer releases carry their own copy of click
+    from typer._click import exceptions as _click_exc
+except ImportError:  # pragma: no cover - older typer uses click itself
+    from click import exceptions as _click_exc
+
+HELP = """Antenna match from measured S11 sweeps (Touchstone files).
+
+Return loss is positive dB (S11 in dB is its negative). Exit status: 0 ran and passed,
+1 a spec requirement failed, 2 could not run. Add --debug anywhere for a traceback.
+
+The tool computes; it does not certify. Transmitting into a badly matched antenna can damage an
+amplifier, and EIRP, band and RF-exposure limits are set by local regulation.
+"""
+
+app = typer.Typer(
+    name="matchtool",
+    help=HELP,
+    add_completion=False,
+    no_args_is_help=True,
+    pretty_exceptions_enable=False,
+    rich_markup_mode=None,
+    context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100},
+)
+
+# Each command lives in matchtool/commands/<name>.py and exposes register(app).
+_COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report")
+for _name in _COMMANDS:
+    try:
+        _module = importlib.import_module(f"matchtool.commands.{_name}")
+    except ModuleNotFoundError as _exc:  # a command not built yet
+        if _exc.name != f"matchtool.commands.{_name}":
+            raise
+        continue
+    _module.register(app)
+
+
+@app.callback()
+def _root() -> None:
+    """Antenna match from measured S11 sweeps."""
+
+
+def _one_line(text: str) -> str:
+    return " ".join(str(text).split())
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the CLI with ``argv`` (default: ``sys.argv[1:]``) and return the exit status."""
+    args = list(sys.argv[1:] if argv is None else argv)
+    debug = "--debug" in args
+    args = [a for a in args if a != "--debug"]
+    try:
+        rv = app(args=args, prog_name="matchtool", standalone_mode=False)
+        return int(rv or 0)
+    except MatchtoolError as exc:
+        if debug:
+            raise
+        print(f"error: {exc}", file=sys.stderr)
+        return ExitStatus.ERROR
+    except (KeyboardInterrupt, typer.Abort):
+        if debug:
+            raise
+        print("error: interrupted; no output file was left half-written", file=sys.stderr)
+        return ExitStatus.INTERRUPTED
+    except _click_exc.ClickException as exc:
+        if type(exc).__name__ == "NoArgsIsHelpError":  # bare 'matchtool' or 'matchtool CMD': show help
+            print(exc.format_message())
+            return ExitStatus.OK
+        if debug:
+            raise
+        hint = ""
+        if isinstance(exc, _click_exc.UsageError) and exc.ctx is not None:
+            hint = f" (see '{exc.ctx.command_path} --help')"
+        print(f"error: {_one_line(exc.format_message())}{hint}", file=sys.stderr)
+        return ExitStatus.ERROR
+    except typer.Exit as exc:
+        return int(exc.exit_code)
+    except OSError as exc:
+        if debug:
+            raise
+        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
+        print(f"error: {where}{_one_line(exc.strerror or exc)}", file=sys.stderr)
+        return ExitStatus.ERROR
+    except Exception as exc:  # a bug: still one line, but say how to get the traceback
+        if debug:
+            raise
+        print(f"error: internal error ({type(exc).__name__}: {_one_line(exc)}); "
+              "rerun with --debug and report the traceback", file=sys.stderr)
+        return ExitStatus.ERROR
+
+
+def run() -> None:
+    """Console-script entry point."""
+    sys.exit(main())

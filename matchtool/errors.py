@@ -1,0 +1,88 @@
+"""One exception hierarchy for matchtool.
+
+Every error carries structured fields (``path``, ``line``, ``key``) and builds its one-line
+message from them, so the CLI can print ``error: <message>`` and exit with status 2. Each class
+also subclasses the matching built-in exception, so library callers may catch either.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+
+class MatchtoolError(Exception):
+    """Base class: something matchtool could not do. ``str(err)`` is one line."""
+
+    def __init__(
+        self,
+        what: str,
+        path: str | Path | None = None,
+        line: int | None = None,
+        key: str | None = None,
+        expected: str | None = None,
+    ) -> None:
+        self.what = what
+        self.path = str(path) if path is not None else None
+        self.line = line
+        self.key = key
+        self.expected = expected
+        super().__init__(self.message)
+
+    @property
+    def message(self) -> str:
+        where = []
+        if self.path is not None:
+            where.append(self.path)
+        if self.line is not None:
+            where.append(f"line {self.line}")
+        if self.key is not None:
+            where.append(f"key '{self.key}'")
+        text = self.what
+        if self.expected:
+            text = f"{text}; expected {self.expected}"
+        text = " ".join(text.split())  # always one line
+        return f"{' '.join(where)}: {text}" if where else text
+
+    def __str__(self) -> str:
+        return self.message
+
+
+class InputError(MatchtoolError, ValueError):
+    """An input file is unreadable or malformed."""
+
+
+class TouchstoneError(InputError):
+    """A Touchstone file that cannot be loaded without guessing."""
+
+
+class SpecError(InputError):
+    """A spec file (TOML) that is malformed or inconsistent."""
+
+
+class BudgetError(InputError):
+    """A link-budget file (TOML) that is malformed or inconsistent."""
+
+
+class UsageError(MatchtoolError, ValueError):
+    """Bad command-line arguments or bad arguments to a library function."""
+
+
+class OutOfRangeError(UsageError):
+    """A frequency or band asked for lies outside the measured sweep (never extrapolated)."""
+
+
+class OutputError(MatchtoolError, OSError):
+    """An output could not be written, or would replace an existing file without --force."""
+
+
+class NoSolutionError(MatchtoolError, ValueError):
+    """A computation has no valid answer for these inputs (e.g. no matching network)."""
+
+
+class ExitStatus:
+    """Exit statuses of every command (see the interface contract)."""
+
+    OK = 0  # ran; every spec requirement (if any) passed
+    FAIL = 1  # ran; at least one spec requirement failed
+    ERROR = 2  # could not run: bad arguments, unreadable or malformed input, refused overwrite
+    INTERRUPTED = 130  # Ctrl-C: stopped cleanly, nothing half-written

@@ -1,0 +1,111 @@
+"""The metrics of one sweep, as ``matchtool inspect`` shows them (a plain dataclass)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import reflection as rf
+from .bands import Band, find_bands
+from .errors import UsageError
+from .sweep import Sweep, gamma_at_many
+
+
+@dataclass(frozen=True)
+class PointMetrics:
+    """Every reflection metric at one frequency (Hz); impedance in ohms."""
+
+    f_hz: float
+    gamma: complex
+    z0_ohm: float
+
+    @property
+    def gamma_mag(self) -> float:
+        return abs(self.gamma)
+
+    @property
+    def s11_db(self) -> float:
+        return float(rf.s11_db(self.gamma))
+
+    @property
+    def return_loss_db(self) -> float:
+        return float(rf.return_loss_db(self.gamma))
+
+    @property
+    def vswr(self) -> float:
+        return float(rf.vswr(self.gamma))
+
+    @property
+    def mismatch_loss_db(self) -> float:
+        return float(rf.mismatch_loss_db(self.gamma))
+
+    @property
+    def delivered_fraction(self) -> float:
+        return float(rf.delivered_fraction(self.gamma))
+
+    @property
+    def z_ohm(self) -> complex:
+        return complex(rf.impedance_ohm(self.gamma, self.z0_ohm))
+
+
+@dataclass(frozen=True)
+class SweepSummary:
+    """What ``inspect`` reports of one sweep: the best sample, threshold bands, values at points."""
+
+    path: str
+    port: int
+    z0_ohm: float
+    points: int
+    f_start_hz: float
+    f_stop_hz: float
+    threshold_return_loss_db: float
+    best: PointMetrics
+    bands: list[Band]
+    at: list[PointMetrics]
+    warnings: list[str] = field(default_factory=list)
+
+
+def threshold_from_options(min_return_loss_db: float | None = None, max_vswr: float | None = None,
+                           max_s11_db: float | None = None, default_db: float = 10.0) -> float:
+    """Turn one of the three equivalent limits into a return-loss threshold (positive dB).
+
+    At most one may be given; none gives ``default_db`` (10 dB, i.e. S11 = -10 dB).
+    """
+    given = [x is not None for x in (min_return_loss_db, max_vswr, max_s11_db)]
+    if sum(given) > 1:
+        raise UsageError("give only one of --min-return-loss, --max-vswr, --max-s11-db")
+    if min_return_loss_db is not None:
+        if not np.isfinite(min_return_loss_db) or min_return_loss_db < 0:
+            raise UsageError(f"--min-return-loss {min_return_loss_db:g} dB",
+                             expected="a positive return loss (S11 of -10 dB is a return loss of 10 dB)")
+        return float(min_return_loss_db)
+    if max_vswr is not None:
+        if not np.isfinite(max_vswr) or max_vswr <= 1:
+            raise UsageError(f"--max-vswr {max_vswr:g}", expected="a VSWR above 1")
+        return float(rf.return_loss_from_vswr(max_vswr))
+    if max_s11_db is not None:
+        if not np.isfinite(max_s11_db) or max_s11_db > 0:
+            raise UsageError(f"--max-s11-db {max_s11_db:g} dB", expected="a negative S11 in dB, e.g. -10")
+        return float(-max_s11_db)
+    return float(default_db)
+
+
+def best_index(gamma: np.ndarray) -> int:
+    """Index of the measured sample with the smallest |Gamma| (no refinement between samples)."""
+    return int(np.argmin(np.abs(gamma)))
+
+
+def summarize(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz: list[float] = ()) -> SweepSummary:
+    """Compute the inspect metrics of ``sweep`` (threshold in positive dB of return loss)."""
+    f, g = sweep.f_hz, sweep.gamma
+    i = best_index(g)
+    bands = find_bands(f, rf.return_loss_db(g), threshold_return_loss_db)
+    at_hz = list(at_hz)
+    values = gamma_at_many(f, g, np.asarray(at_hz, dtype=float), sweep.path) if at_hz else []
+    at = [PointMetrics(float(q), complex(v), sweep.z0_ohm) for q, v in zip(at_hz, values, strict=True)]
+    return SweepSummary(path=sweep.path, port=sweep.port, z0_ohm=sweep.z0_ohm, points=int(f.size),
+                        f_start_hz=float(f[0]), f_stop_hz=float(f[-1]),
+                        threshold_return_loss_db=float(threshold_return_loss_db),
+                        best=PointMetrics(float(f[i]), complex(g[i]), sweep.z0_ohm), bands=bands, at=at,
+                        warnings=list(sweep.warnings))

@@ -1,0 +1,728 @@
+"""Loading and writing Touchstone sweeps.
+
+The text is read and checked here, line by line where it matters, and the numbers are handed to
+scikit-rf (``skrf.Network``, ``skrf.network.z2s`` and friends) as arrays. A path is never passed
+to ``skrf.Network(path)``, which would first try to unpickle the file.
+
+Loading policy (see DEVELOPERS.md): harmless layout variation is accepted; anything that would
+force a guess that changes a number is refused with a one-line :class:`TouchstoneError` naming
+the file and line; a few usable oddities load with a warning.
+
+Conventions: frequencies in Hz (``f_hz``), S-parameters complex and dimensionless, reference
+impedances in ohms (``z0_ohm``); ports are numbered from 1 as in the file.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import skrf
+
+from .errors import OutOfRangeError, TouchstoneError, UsageError
+from .outputs import atomic_write
+
+DEFAULT_MAX_BYTES = 500 * 1024 * 1024
+"""Files larger than this are refused (override with ``max_bytes`` or MATCHTOOL_MAX_INPUT_MB)."""
+
+_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
+_PARAMS = {"s", "y", "z", "h", "g"}
+_FORMATS = {"ri", "ma", "db"}
+_KEYWORDS = {
+    "version", "number of ports", "two-port data order", "number of frequencies",
+    "number of noise frequencies", "reference", "matrix format", "mixed-mode order",
+    "begin information", "end information", "network data", "noise data", "end",
+}
+_COMMENT = re.compile(r"![^\n]*")
+_CONTROL = re.compile(r"^[ \t\f\v]*([#\[][^\n]*)", re.M)
+_NOT_NUMERIC = re.compile(r"[^0-9eE+\-.\s]")
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+_EXT_PORTS = re.compile(r"\.s(\d+)p$", re.I)
+_BINARY = re.compile(rb"[\x00-\x08\x0e-\x1f\x7f]")
+
+
+@dataclass(frozen=True, eq=False)
+class Touchstone:
+    """The parsed content of a Touchstone file, converted to S-parameters.
+
+    ``f_hz`` (n,), ``s`` (n, N, N) complex at reference ``z0_ohm`` (N,) per port.
+    """
+
+    f_hz: np.ndarray
+    s: np.ndarray
+    z0_ohm: np.ndarray
+    version: str
+    parameter: str
+    noise_points: int
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def nports(self) -> int:
+        return int(self.s.shape[1])
+
+
+@dataclass(frozen=True, eq=False)
+class Sweep:
+    """A loaded sweep and the port chosen for reflection metrics.
+
+    ``network`` is the whole N-port as an ``skrf.Network`` (renormalised when ``z0_ohm`` was
+    asked for); ``gamma`` is S_pp of the chosen port ``port`` (1-based) at ``z0_ohm``.
+    """
+
+    network: skrf.Network
+    port: int
+    path: str
+    z0_ohm: float
+    warnings: list[str] = field(default_factory=list)
+    version: str = "1"
+
+    @property
+    def f_hz(self) -> np.ndarray:
+        return self.network.frequency.f
+
+    @property
+    def gamma(self) -> np.ndarray:
+        return self.network.s[:, self.port - 1, self.port - 1]
+
+    @property
+    def nports(self) -> int:
+        return int(self.network.nports)
+
+    @property
+    def name(self) -> str:
+        return Path(self.path).name
+
+
+def _max_bytes(max_bytes: int | None) -> int:
+    if max_bytes is not None:
+        return int(max_bytes)
+    env = os.environ.get("MATCHTOOL_MAX_INPUT_MB")
+    if env:
+        try:
+            return int(float(env) * 1024 * 1024)
+        except ValueError:
+            raise UsageError(f"MATCHTOOL_MAX_INPUT_MB={env!r} is not a number") from None
+    return DEFAULT_MAX_BYTES
+
+
+def read_text(path: str | Path, max_bytes: int | None = None) -> str:
+    """Read an input file as text, refusing directories, oversize and binary content.
+
+    UTF-8 (with or without a byte-order mark) is read as such; other bytes fall back to Latin-1
+    (old instruments write Latin-1 comments). Line endings are normalised to ``\\n``.
+    """
+    p = Path(path)
+    limit = _max_bytes(max_bytes)
+    try:
+        st = p.stat()
+    except FileNotFoundError:
+        raise TouchstoneError("no such file", path=path) from None
+    except OSError as exc:
+        raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
+    if p.is_dir():
+        raise TouchstoneError("is a directory", path=path, expected="a Touchstone file")
+    if st.st_size > limit:
+        raise TouchstoneError(
+            f"file is {st.st_size / 1e6:.1f} MB, over the input limit of {limit / 1e6:.1f} MB",
+            path=path, expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
+    try:
+        with open(p, "rb") as fh:
+            raw = fh.read(limit + 1)
+    except OSError as exc:
+        raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
+    if len(raw) > limit:
+        raise TouchstoneError(f"file is over the input limit of {limit / 1e6:.1f} MB", path=path)
+    return decode_text(raw, path)
+
+
+def decode_text(raw: bytes, path: str | Path) -> str:
+    """Decode bytes of a text input file; refuse binary content."""
+    if raw.startswith(b"\xff\xfe") or raw.startswith(b"\xfe\xff"):
+        raise TouchstoneError("file is UTF-16 text", path=path, expected="ASCII or UTF-8 text")
+    m = _BINARY.search(raw)
+    if m:
+        line = raw.count(b"\n", 0, m.start()) + 1
+        raise TouchstoneError(f"binary content (byte 0x{raw[m.start()]:02x})", path=path, line=line,
+                              expected="a Touchstone text file")
+    if raw.startswith(b"\xef\xbb\xbf"):
+        raw = raw[3:]
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        text = raw.decode("latin-1")
+    return text.replace("\r\n", "\n").replace("\r", "\n")
+
+
+def ports_from_name(path: str | Path) -> int | None:
+    """The port count that a ``.sNp`` extension states, or None (``.ts`` and others)."""
+    m = _EXT_PORTS.search(str(path))
+    return int(m.group(1)) if m else None
+
+
+class _Lines:
+    """Maps character offsets in the text to 1-based line numbers (monotonic queries are cheap)."""
+
+    def __init__(self, text: str) -> None:
+        self.text = text
+        self.pos = 0
+        self.line = 1
+
+    def at(self, offset: int) -> int:
+        if offset < self.pos:
+            self.pos, self.line = 0, 1
+        self.line += self.text.count("\n", self.pos, offset)
+        self.pos = offset
+        return self.line
+
+
+def _option_line(text: str, path: str, line: int) -> tuple[float, str, str, float]:
+    tokens = text[1:].split()
+    unit = param = fmt = r = None
+    i = 0
+    while i < len(tokens):
+        t = tokens[i].lower()
+        if t in _UNITS:
+            if unit is not None:
+                raise TouchstoneError(f"option line gives the frequency unit twice ({tokens[i]!r})", path, line)
+            unit = t
+        elif t in _PARAMS:
+            if param is not None:
+                raise TouchstoneError(f"option line gives the parameter twice ({tokens[i]!r})", path, line)
+            param = t
+        elif t in _FORMATS:
+            if fmt is not None:
+                raise TouchstoneError(f"option line gives the format twice ({tokens[i]!r})", path, line)
+            fmt = t
+        elif t == "r":
+            if r is not None:
+                raise TouchstoneError("option line gives R twice", path, line)
+            if i + 1 >= len(tokens):
+                raise TouchstoneError("option line has R without a value", path, line,
+                                      expected="R followed by the reference impedance in ohms")
+            r = _positive(tokens[i + 1], path, line, "reference impedance R")
+            i += 1
+        else:
+            raise TouchstoneError(
+                f"unknown option-line token {tokens[i]!r}", path, line,
+                expected="a unit (Hz kHz MHz GHz), a parameter (S Y Z H G), a format (RI MA DB) or R <ohms>")
+        i += 1
+    return (_UNITS[unit or "ghz"], (param or "s").upper(), (fmt or "ma").upper(), 50.0 if r is None else r)
+
+
+def _positive(token: str, path: str, line: int, what: str) -> float:
+    if not _NUMBER.fullmatch(token):
+        raise TouchstoneError(f"{what} {token!r} is not a number", path, line)
+    value = float(token)
+    if not (math.isfinite(value) and value > 0):
+        raise TouchstoneError(f"{what} is {token}", path, line, expected="a positive number of ohms")
+    return value
+
+
+def _bad_token(chunk: str, first_line: int, path: str, what: str) -> TouchstoneError:
+    """Find the first token of ``chunk`` that is not a plain decimal number and describe it."""
+    for k, text in enumerate(chunk.split("\n")):
+        for tok in text.split():
+            if not _NUMBER.fullmatch(tok):
+                low = tok.lower()
+                if low.lstrip("+-") in ("nan", "inf", "infinity"):
+                    return TouchstoneError(f"non-finite value {tok!r} in {what}", path, first_line + k,
+                                           expected="finite numbers")
+                if low.startswith("["):
+                    return TouchstoneError(f"keyword {tok!r} out of place", path, first_line + k)
+                return TouchstoneError(f"expected a number in {what}, found {tok[:40]!r}", path, first_line + k)
+    return TouchstoneError(f"unreadable numbers in {what}", path, first_line)
+
+
+def _numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndarray, np.ndarray]:
+    """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised)."""
+    if _NOT_NUMERIC.search(chunk):
+        raise _bad_token(chunk, first_line, path, what)
+    raw = np.frombuffer(chunk.encode("ascii"), dtype=np.uint8)
+    if raw.size == 0:
+        return np.empty(0), np.zeros(1, dtype=np.int64)
+    space = (raw == 32) | (raw == 9) | (raw == 11) | (raw == 12)
+    newline = raw == 10
+    filled = ~(space | newline)
+    start = filled.copy()
+    start[1:] &= ~filled[:-1]
+    line_of = np.cumsum(newline)
+    counts = np.bincount(line_of[start], minlength=int(line_of[-1]) + 1)
+    values = np.fromstring(chunk, dtype=float, sep=" ") if counts.sum() else np.empty(0)
+    if values.size != counts.sum():
+        raise _bad_token(chunk, first_line, path, what)
+    return values, counts
+
+
+@dataclass
+class _Chunk:
+    text: str
+    line: int  # 1-based line number of the chunk's first line
+    section: str  # "network", "noise", "reference"
+
+
+def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None = None) -> Touchstone:
+    """Parse Touchstone text (v1 or v2) into S-parameters.
+
+    ``nports`` is the port count that the file name states (``.sNp``); None when the name does not
+    say (then a version 2 ``[Number of Ports]`` must). Raises :class:`TouchstoneError`.
+    """
+    path = str(path)
+    warnings: list[str] = []
+    body = _COMMENT.sub("", text)
+    lines = _Lines(body)
+    option = None
+    version = "1"
+    kw: dict[str, tuple[str, int]] = {}
+    chunks: list[_Chunk] = []
+    section: str | None = None  # v1: "network" after the option line; v2: by keyword
+    in_info = False
+    ended = False
+    prev_end = 0
+
+    def region(start: int, end: int) -> None:
+        seg = body[start:end]
+        stripped = seg.lstrip()
+        if not stripped or in_info:
+            return
+        first = lines.at(start) + seg[: len(seg) - len(stripped)].count("\n")
+        if ended:
+            raise TouchstoneError("text after [End]", path, first)
+        if option is None:
+            later = re.search(r"^[ \t]*#", body[end:], re.M)
+            raise TouchstoneError("data before the option line" if later else "no option line before the data",
+                                  path, first, expected="'# <unit> <parameter> <format> R <ohms>' first")
+        if section is None:
+            raise TouchstoneError("data before [Network Data]", path, first)
+        chunks.append(_Chunk(seg, lines.at(start), section))
+
+    for m in _CONTROL.finditer(body):
+        region(prev_end, m.start())
+        prev_end = m.end()
+        ln = lines.at(m.start())
+        ctrl = m.group(1).strip()
+        if ctrl.startswith("#"):
+            if in_info:
+                continue
+            if option is not None:
+                warnings.append(f"{path} line {ln}: a second option line is ignored (only the first counts)")
+                continue
+            if chunks:
+                raise TouchstoneError("data before the option line", path, chunks[0].line)
+            option = _option_line(ctrl, path, ln)
+            if version == "1":
+                section = "network"
+            continue
+        close = ctrl.find("]")
+        if close < 0:
+            raise TouchstoneError(f"unclosed keyword {ctrl[:40]!r}", path, ln)
+        name = " ".join(ctrl[1:close].lower().split())
+        arg = ctrl[close + 1:].strip()
+        if in_info:
+            if name == "end information":
+                in_info = False
+            continue
+        if name not in _KEYWORDS:
+            raise TouchstoneError(f"unknown keyword [{ctrl[1:close]}]", path, ln)
+        if ended:
+            raise TouchstoneError("text after [End]", path, ln)
+        if name == "version":
+            if kw or option is not None:
+                raise TouchstoneError("[Version] must come first", path, ln)
+            if arg not in ("2.0", "2.1"):
+                raise TouchstoneError(f"unsupported [Version] {arg!r}", path, ln, expected="2.0 or 2.1")
+            version = arg
+        elif version == "1":
+            raise TouchstoneError(f"keyword [{ctrl[1:close]}] in a version 1 file", path, ln,
+                                  expected="[Version] 2.0 as the first line of a file that uses keywords")
+        elif name == "begin information":
+            in_info = True
+            continue
+        elif name == "network data":
+            if option is None:
+                raise TouchstoneError("[Network Data] before the option line", path, ln)
+            section = "network"
+        elif name == "noise data":
+            section = "noise"
+        elif name == "end":
+            ended = True
+            section = None
+        elif name == "reference":
+            section = "reference"
+            if arg:
+                chunks.append(_Chunk(arg, ln, "reference"))
+        elif name == "mixed-mode order":
+            raise TouchstoneError("mixed-mode data is not supported", path, ln,
+                                  expected="single-ended S-parameters")
+        if name in kw and name not in ("end",):
+            raise TouchstoneError(f"keyword [{ctrl[1:close]}] given twice", path, ln)
+        kw[name] = (arg, ln)
+        if name not in ("reference", "network data", "noise data", "end", "version"):
+            section = None if version != "1" else section
+    region(prev_end, len(body))
+
+    if option is None:
+        raise TouchstoneError("no option line", path,
+                              expected="'# <unit> <parameter> <format> R <ohms>' before the data")
+    unit, param, fmt, r_ohm = option
+
+    # port count
+    n_kw = None
+    if "number of ports" in kw:
+        arg, ln = kw["number of ports"]
+        if not re.fullmatch(r"\d+", arg) or int(arg) < 1:
+            raise TouchstoneError(f"[Number of Ports] {arg!r} is not a positive whole number", path, ln)
+        n_kw = int(arg)
+    elif version != "1":
+        raise TouchstoneError("version 2 file without [Number of Ports]", path)
+    if nports is not None and n_kw is not None and nports != n_kw:
+        raise TouchstoneError(f"[Number of Ports] is {n_kw} but the file name says {nports} ports", path,
+                              kw["number of ports"][1])
+    n = n_kw or nports
+    if n is None:
+        raise TouchstoneError("cannot tell the port count", path,
+                              expected="a .sNp file name (e.g. .s1p) or a version 2 [Number of Ports]")
+    if param in ("H", "G") and n != 2:
+        raise TouchstoneError(f"{param}-parameters need a 2-port, this file has {n} ports", path)
+
+    # reference impedances
+    z0 = np.full(n, r_ohm)
+    ref_chunks = [c for c in chunks if c.section == "reference"]
+    if ref_chunks:
+        vals = []
+        for c in ref_chunks:
+            v, _ = _numbers(c.text, c.line, path, "[Reference]")
+            vals.extend(v.tolist())
+        if len(vals) != n:
+            raise TouchstoneError(f"[Reference] gives {len(vals)} impedances for {n} ports", path,
+                                  ref_chunks[0].line)
+        z0 = np.asarray(vals, dtype=float)
+        if not np.all(z0 > 0):
+            raise TouchstoneError("[Reference] has a zero or negative impedance", path, ref_chunks[0].line,
+                                  expected="positive ohms")
+
+    # layout of one record
+    fmt_arg = kw.get("matrix format", ("full", 0))[0].lower()
+    if fmt_arg not in ("full", "lower", "upper"):
+        raise TouchstoneError(f"unknown [Matrix Format] {fmt_arg!r}", path, kw["matrix format"][1],
+                              expected="Full, Lower or Upper")
+    npairs = n * n if fmt_arg == "full" else n * (n + 1) // 2
+    per = 1 + 2 * npairs
+    order = "21_12" if version == "1" else None
+    if n == 2 and version != "1":
+        if "two-port data order" not in kw:
+            raise TouchstoneError("version 2 two-port file without [Two-Port Data Order]", path,
+                                  expected="[Two-Port Data Order] 12_21 or 21_12")
+        order = kw["two-port data order"][0].replace(" ", "")
+        if order not in ("12_21", "21_12"):
+            raise TouchstoneError(f"[Two-Port Data Order] {order!r}", path, kw["two-port data order"][1],
+                                  expected="12_21 or 21_12")
+
+    net_chunks = [c for c in chunks if c.section == "network"]
+    if not net_chunks:
+        raise TouchstoneError("no data", path, expected="at least one frequency row")
+    records, rec_lines, noise_rows = _assemble(net_chunks, n, per, version, path)
+    noise_chunks = [c for c in chunks if c.section == "noise"]
+    if noise_chunks and not (version != "1" and n == 2):
+        raise TouchstoneError("[Noise Data] in a file that is not a two-port", path, noise_chunks[0].line)
+    for c in noise_chunks:
+        v, counts = _numbers(c.text, c.line, path, "noise data")
+        _check_rows(counts, c.line, 5, path, "noise row")
+        noise_rows += int(v.size // 5)
+
+    f_file = records[:, 0]
+    _check_frequencies(f_file, rec_lines, path)
+    f_hz = f_file * unit
+    pairs = records[:, 1:].reshape(len(records), npairs, 2)
+    a, b = pairs[..., 0], pairs[..., 1]
+    if fmt == "RI":
+        vals = a + 1j * b
+    elif fmt == "MA":
+        vals = a * np.exp(1j * np.deg2rad(b))
+    else:
+        vals = 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
+    mat = _to_matrix(vals, n, fmt_arg, order)
+    s = _to_s(mat, param, z0, r_ohm, version, path)
+    bad = ~np.isfinite(s).all(axis=(1, 2))
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise TouchstoneError(f"{param}-parameters at {f_hz[i]:g} Hz have no finite S-parameter equivalent",
+                              path, int(rec_lines[i]))
+
+    if "number of frequencies" in kw:
+        arg, ln = kw["number of frequencies"]
+        if not re.fullmatch(r"\d+", arg) or int(arg) != len(f_hz):
+            raise TouchstoneError(f"[Number of Frequencies] is {arg} but the file holds {len(f_hz)}", path, ln)
+    elif version != "1":
+        warnings.append(f"{path}: version 2 file without [Number of Frequencies]")
+    if version != "1" and not ended:
+        warnings.append(f"{path}: version 2 file without [End]; read to the end of the file")
+    if "number of noise frequencies" in kw:
+        arg, ln = kw["number of noise frequencies"]
+        if not re.fullmatch(r"\d+", arg) or int(arg) != noise_rows:
+            raise TouchstoneError(f"[Number of Noise Frequencies] is {arg} but the file holds {noise_rows}",
+                                  path, ln)
+    if len(f_hz) == 1:
+        warnings.append(f"{path}: a single frequency point; bands and interpolation need more")
+    if f_hz[0] == 0:
+        warnings.append(f"{path}: the sweep includes a 0 Hz point")
+    return Touchstone(f_hz=f_hz, s=s, z0_ohm=z0, version=version, parameter=param,
+                      noise_points=noise_rows, warnings=warnings)
+
+
+def _check_rows(counts: np.ndarray, first_line: int, per: int, path: str, what: str) -> None:
+    wrong = np.flatnonzero((counts != 0) & (counts != per))
+    if wrong.size:
+        k = int(wrong[0])
+        raise TouchstoneError(f"expected {per} numbers for a {what}, found {int(counts[k])}", path, first_line + k)
+
+
+def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
+    """Group the numbers of the network-data chunks into records of ``per`` numbers.
+
+    Returns (records (m, per), line of each record, number of v1 noise rows skipped).
+    """
+    recs, lines_out = [], []
+    noise_rows = 0
+    last_f = -math.inf
+    in_noise = False
+    for c in chunks:
+        values, counts = _numbers(c.text, c.line, path, "network data")
+        line_no = c.line + np.arange(counts.size)
+        if n <= 2 and not in_noise:
+            if n == 2 and version == "1":
+                # a v1 two-port switches to noise data at the first frequency not above the last
+                starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
+                rows = np.flatnonzero(counts)
+                row_f = values[starts[rows]] if values.size else np.empty(0)
+                full = counts[rows] == per
+                noise_at = None
+                prev = last_f
+                for k in range(rows.size):
+                    if row_f[k] <= prev:
+                        noise_at = k
+                        break
+                    if not full[k]:
+                        break
+                    prev = row_f[k]
+                if noise_at is not None:
+                    after = rows[noise_at:]
+                    if np.all(counts[after] == 5):
+                        in_noise = True
+                        noise_rows += int(after.size)
+                        keep = rows[:noise_at]
+                        _check_rows(counts[: rows[noise_at]], c.line, per, path, f"{n}-port row")
+                        if keep.size:
+                            block = values[: starts[rows[noise_at]]].reshape(-1, per)
+                            recs.append(block)
+                            lines_out.append(line_no[keep])
+                            last_f = float(block[-1, 0])
+                        continue
+                    if counts[rows[noise_at]] == per:
+                        k = rows[noise_at]
+                        raise TouchstoneError(
+                            f"frequency {row_f[noise_at]:g} does not increase (previous {prev:g})",
+                            path, int(line_no[k]), expected="strictly increasing frequencies")
+                    bad = after[counts[after] != 5]
+                    k = int(bad[0]) if bad.size else int(rows[noise_at])
+                    raise TouchstoneError(f"expected 5 numbers for a noise row, found {int(counts[k])}",
+                                          path, int(line_no[k]))
+            _check_rows(counts, c.line, per, path, f"{n}-port row")
+            block = values.reshape(-1, per)
+            recs.append(block)
+            lines_out.append(line_no[counts != 0])
+            if block.size:
+                last_f = float(block[-1, 0])
+        elif in_noise:
+            _check_rows(counts, c.line, 5, path, "noise row")
+            noise_rows += int(np.count_nonzero(counts))
+        else:
+            # N >= 3: a record may wrap over several lines; no line may hold parts of two records
+            have = 0
+            first = None
+            for k in np.flatnonzero(counts):
+                if have == 0:
+                    first = int(line_no[k])
+                have += int(counts[k])
+                if have > per:
+                    raise TouchstoneError(
+                        f"a {n}-port record needs {per} numbers; line ends {have - per} past the record",
+                        path, int(line_no[k]))
+                if have == per:
+                    lines_out.append(np.array([first]))
+                    have = 0
+            if have:
+                raise TouchstoneError(f"incomplete {n}-port record ({have} of {per} numbers)", path, first)
+            recs.append(values.reshape(-1, per))
+    records = np.concatenate(recs) if recs else np.empty((0, per))
+    if records.shape[0] == 0:
+        raise TouchstoneError("no data", path, expected="at least one frequency row")
+    return records, np.concatenate(lines_out), noise_rows
+
+
+def _check_frequencies(f: np.ndarray, rec_lines: np.ndarray, path: str) -> None:
+    neg = np.flatnonzero(f < 0)
+    if neg.size:
+        raise TouchstoneError(f"negative frequency {f[neg[0]]:g}", path, int(rec_lines[neg[0]]))
+    if f.size > 1:
+        step = np.diff(f)
+        bad = np.flatnonzero(step <= 0)
+        if bad.size:
+            k = int(bad[0]) + 1
+            what = "repeats" if step[k - 1] == 0 else "decreases"
+            raise TouchstoneError(f"frequency {f[k]:g} {what} (previous {f[k - 1]:g})", path, int(rec_lines[k]),
+                                  expected="strictly increasing frequencies")
+
+
+def _to_matrix(vals: np.ndarray, n: int, layout: str, order: str | None) -> np.ndarray:
+    m = len(vals)
+    if layout == "full":
+        mat = vals.reshape(m, n, n)
+        if n == 2 and order == "21_12":
+            mat = mat.transpose(0, 2, 1)
+        return mat.copy()
+    mat = np.zeros((m, n, n), dtype=complex)
+    rows, cols = np.tril_indices(n) if layout == "lower" else np.triu_indices(n)
+    mat[:, rows, cols] = vals
+    mat[:, cols, rows] = vals
+    return mat
+
+
+def _to_s(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str, path: str) -> np.ndarray:
+    """Convert file parameters to S at ``z0``. Version 1 Z/Y/H/G data are normalised to R."""
+    if param == "S":
+        return mat
+    v1 = version == "1"
+    with np.errstate(all="ignore"):
+        if param == "Z":
+            return skrf.network.z2s(mat * r_ohm if v1 else mat, z0)
+        if param == "Y":
+            return np.asarray(skrf.network.y2s(mat / r_ohm if v1 else mat, z0))
+        scale = np.array([[r_ohm, 1.0], [1.0, 1.0 / r_ohm]])
+        if param == "H":
+            return skrf.network.h2s(mat * scale if v1 else mat, z0)
+        return skrf.network.g2s(mat * scale.T[::-1, ::-1] if v1 else mat, z0)
+
+
+def load(path: str | Path, port: int = 1, z0_ohm: float | None = None, max_bytes: int | None = None) -> Sweep:
+    """Load a Touchstone sweep and choose the port whose reflection S_pp is analysed.
+
+    ``port`` is 1-based; ``z0_ohm`` renormalises every port to that real impedance (ohms);
+    otherwise the file's reference impedance is kept. Raises TouchstoneError or UsageError.
+    """
+    text = read_text(path, max_bytes)
+    ts = parse_touchstone(text, path, ports_from_name(path))
+    return sweep_from_arrays(ts.f_hz, ts.s, ts.z0_ohm, path=str(path), port=port, z0_ohm=z0_ohm,
+                             warnings=ts.warnings, version=ts.version)
+
+
+def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray | float, path: str = "<arrays>",
+                      port: int = 1, z0_ohm: float | None = None, warnings: list[str] | None = None,
+                      version: str = "1") -> Sweep:
+    """Build a Sweep from arrays: ``f_hz`` (n,), ``s`` (n,) or (n, N, N), reference ``z0_file_ohm``."""
+    f_hz = np.asarray(f_hz, dtype=float)
+    s = np.asarray(s, dtype=complex)
+    if s.ndim == 1:
+        s = s.reshape(-1, 1, 1)
+    n = s.shape[1]
+    warnings = list(warnings or [])
+    if isinstance(port, bool) or not isinstance(port, int | np.integer) or not 1 <= port <= n:
+        raise UsageError(f"port {port} does not exist", path=path, expected=f"a port from 1 to {n}")
+    z0_file = np.broadcast_to(np.asarray(z0_file_ohm, dtype=float), (n,)).copy()
+    if z0_ohm is not None:
+        if not (math.isfinite(z0_ohm) and z0_ohm > 0):
+            raise UsageError(f"--z0 {z0_ohm:g} ohm", expected="a positive, finite impedance")
+        if not np.allclose(z0_file, z0_ohm):
+            s = skrf.network.renormalize_s(s, z0_file, np.full(n, float(z0_ohm)))
+        z0_file = np.full(n, float(z0_ohm))
+    freq = skrf.Frequency.from_f(f_hz, unit="Hz")
+    net = skrf.Network(frequency=freq, s=s, z0=z0_file, name=Path(path).stem)
+    g = np.abs(s[:, port - 1, port - 1])
+    over = g > 1.0
+    if over.any():
+        k = int(np.argmax(g))
+        warnings.append(
+            f"{path}: {int(over.sum())} point(s) with |S{port}{port}| > 1 (up to {g[k]:.4f} at {f_hz[k]:g} Hz): "
+            "a passive antenna cannot reflect more than it receives; check the calibration or de-embedding")
+    return Sweep(network=net, port=int(port), path=str(path), z0_ohm=float(z0_file[port - 1]),
+                 warnings=warnings, version=version)
+
+
+def gamma_at(sweep: Sweep, f_hz: float) -> complex:
+    """Reflection coefficient at ``f_hz``, linear in complex Gamma between the bracketing samples.
+
+    A frequency outside the sweep raises OutOfRangeError (never extrapolated).
+    """
+    return complex(gamma_at_many(sweep.f_hz, sweep.gamma, np.array([f_hz]), sweep.path)[0])
+
+
+def gamma_at_many(f_hz: np.ndarray, gamma: np.ndarray, f_query_hz: np.ndarray, path: str = "") -> np.ndarray:
+    """Vectorised :func:`gamma_at` over the sweep arrays ``f_hz`` and ``gamma``."""
+    q = np.asarray(f_query_hz, dtype=float)
+    lo, hi = float(f_hz[0]), float(f_hz[-1])
+    out = (q < lo) | (q > hi) | ~np.isfinite(q)
+    if out.any():
+        bad = float(q[np.argmax(out)])
+        raise OutOfRangeError(f"{bad / 1e6:.6g} MHz is outside the sweep ({lo / 1e6:.6g} to {hi / 1e6:.6g} MHz)",
+                              path=path or None, expected="a frequency inside the sweep (never extrapolated)")
+    return np.interp(q, f_hz, gamma.real) + 1j * np.interp(q, f_hz, gamma.imag)
+
+
+def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float, comments: list[str] = ()) -> str:
+    """Touchstone text (RI, Hz) for ``s`` of shape (n, N, N) at reference ``z0_ohm``.
+
+    Version 1 when all ports share one reference impedance, version 2.0 with [Reference] otherwise.
+    """
+    s = np.asarray(s, dtype=complex)
+    if s.ndim == 1:
+        s = s.reshape(-1, 1, 1)
+    m, n, _ = s.shape
+    z0 = np.broadcast_to(np.asarray(z0_ohm, dtype=float), (n,))
+    out = [f"! {c}" for c in comments]
+    one_ref = bool(np.all(z0 == z0[0]))
+    if one_ref:
+        out.append(f"# Hz S RI R {z0[0]:.12g}")
+    else:
+        out += ["[Version] 2.0", "# Hz S RI R 50", f"[Number of Ports] {n}"]
+        if n == 2:
+            out.append("[Two-Port Data Order] 21_12")
+        out += [f"[Number of Frequencies] {m}", "[Reference] " + " ".join(f"{z:.12g}" for z in z0),
+                "[Network Data]"]
+    cols = s.transpose(0, 2, 1) if n == 2 else s  # two-port rows are N11 N21 N12 N22
+    flat = cols.reshape(m, n * n)
+    ri = np.empty((m, 2 * n * n))
+    ri[:, 0::2], ri[:, 1::2] = flat.real, flat.imag
+    if n <= 2:
+        data = np.column_stack([f_hz, ri])
+        out += [" ".join(f"{v:.12g}" for v in row) for row in data]
+    else:
+        for k in range(m):
+            for i in range(n):
+                row = ri[k, 2 * n * i: 2 * n * (i + 1)]
+                for j in range(0, 2 * n, 8):
+                    lead = f"{f_hz[k]:.12g} " if (i == 0 and j == 0) else "  "
+                    out.append(lead + " ".join(f"{v:.12g}" for v in row[j: j + 8]))
+    if not one_ref:
+        out.append("[End]")
+    return "\n".join(out) + "\n"
+
+
+def write_touchstone(path: str | Path, network: skrf.Network, force: bool = False,
+                     comments: list[str] = ()) -> Path:
+    """Write ``network`` to ``path`` atomically (no overwrite without ``force``).
+
+    The extension must be ``.sNp`` with N the network's port count (or ``.ts``).
+    """
+    p = Path(path)
+    n = int(network.nports)
+    want = ports_from_name(p)
+    if want is None and p.suffix.lower() != ".ts":
+        raise UsageError(f"cannot tell the Touchstone kind from the name {p.name!r}", path=p,
+                         expected=f"a .s{n}p file name")
+    if want is not None and want != n:
+        raise UsageError(f"a {n}-port network cannot be written as .s{want}p", path=p, expected=f".s{n}p")
+    z0 = np.asarray(network.z0)[0].real
+    return atomic_write(p, touchstone_text(network.f, network.s, z0, comments), force=force)
