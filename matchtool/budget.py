@@ -35,6 +35,7 @@ from numpy.typing import ArrayLike
 from .errors import BudgetError, MatchtoolError, OutOfRangeError
 from .feedline import matched_loss_db
 from .reflection import gamma_mag_from_vswr, mismatch_loss_db
+from .reflection import vswr as vswr_of_gamma
 from .units import parse_frequency, parse_length
 
 C0_M_PER_S = 299_792_458.0  # exact, SI definition of the metre
@@ -288,15 +289,19 @@ class _Reader:
             raise self.err(name, f"is {v!r}", "a finite number")
         return x
 
-    def quantity(self, key: str, parser, unit_words: str, table: dict[str, Any] | None = None,
+    def quantity(self, key: str | int, parser, unit_words: str, table: dict[str, Any] | None = None,
                  prefix: str = "", required: bool = False) -> float | None:
         src = self.data if table is None else table
-        name = prefix + key
-        if key not in src:
+        if isinstance(key, int):  # an item of a list
+            name = f"{prefix}[{key}]"
+            v = src[key]
+        elif key not in src:
             if required:
-                raise self.err(name, "is missing", unit_words)
+                raise self.err(prefix + key, "is missing", unit_words)
             return None
-        v = src[key]
+        else:
+            name = prefix + key
+            v = src[key]
         if isinstance(v, bool) or not isinstance(v, int | float | str):
             raise self.err(name, f"is {type(v).__name__} {v!r}", unit_words)
         try:
@@ -320,6 +325,16 @@ def _frequency_grid(r: _Reader) -> tuple[tuple[float, ...], tuple[float, float] 
     for k in ("step", "points"):
         if r.has(k) and not band:
             raise r.err(k, "is given without a band", "f_low and f_high with it")
+    if single and isinstance(r.data["f_hz"], list):
+        items = r.data["f_hz"]
+        if not 1 <= len(items) <= MAX_POINTS:
+            raise r.err("f_hz", f"is a list of {len(items)} frequencies", f"1 to {MAX_POINTS} frequencies")
+        out = []
+        for i in range(len(items)):
+            f = r.quantity(i, parse_frequency, "a frequency such as \"915 MHz\" or 915e6", items, "f_hz")
+            _positive(r, f"f_hz[{i}]", f)
+            out.append(f)
+        return tuple(out), None
     if single:
         f = r.quantity("f_hz", parse_frequency, "a frequency such as \"915 MHz\" or 915e6")
         _positive(r, "f_hz", f)
@@ -421,7 +436,7 @@ def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
     for k, v in data.items():
         if k not in _TOP_KEYS:
             raise r.err(k, "is not a known key", "see 'matchtool budget --help' for the keys")
-        if isinstance(v, dict) and not k.endswith("_cable"):
+        if isinstance(v, dict) and not k.endswith("_cable") or isinstance(v, list) and k != "f_hz":
             raise r.err(k, "is a table", "a plain value")
     f_hz, band = _frequency_grid(r)
     distance = r.quantity("distance_m", parse_length, "a distance in metres", required=True)
@@ -513,9 +528,10 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
             raise BudgetError(exc.what, path=r_path, key=f"{s}_sweep",
                               expected=f"an operating frequency inside the sweep {full}") from None
         mag = np.abs(g)
-        if np.any(mag >= 1.0):
-            warnings.append(f"{full}: |Gamma| >= 1 at the operating frequency; no power crosses the antenna "
-                            "terminals and the link cannot close (high VSWR can also damage an amplifier)")
+        if np.any(mag >= 0.95):
+            k = int(np.argmax(mag))
+            warnings.append(f"{full}: |Gamma| = {mag[k]:.4f} (VSWR {float(vswr_of_gamma(mag[k])):.3g}) at {f[k] / 1e6:.6g} MHz; "
+                            "almost no power crosses the antenna terminals (high VSWR can also damage an amplifier)")
         return mag, np.asarray(mismatch_loss_db(g), dtype=float), "sweep"
     if side.vswr is not None:
         mag = np.full(f.shape, float(gamma_mag_from_vswr(side.vswr)))

@@ -425,3 +425,28 @@ def test_file_round_trip_with_relative_sweep(tmp_path):
     assert res.worst.tx.source == "sweep" and res.worst.rx.source == "vswr"
     # R = 30 ohm at resonance on 50 ohm: |Gamma| = 0.25 (Pozar 4th ed. eq. 2.35)
     assert res.worst.tx.gamma_mag == pytest.approx(0.25, abs=1e-6)
+
+
+def test_list_of_frequencies():
+    res = run(f_hz=["868 MHz", 915e6, "2.45 GHz"])
+    assert [p.f_hz for p in res.points] == [868e6, 915e6, 2.45e9] and res.band is None
+    # free-space loss grows 20 log10(f2/f1) with frequency at fixed distance (same gains): the worst is 2.45 GHz
+    assert res.worst.f_hz == 2.45e9
+    assert res.points[2].path_loss_db - res.points[1].path_loss_db == pytest.approx(20 * math.log10(2450 / 915))
+    with pytest.raises(BudgetError, match=r"key 'f_hz\[1\]'"):
+        run(f_hz=["868 MHz", "fast"])
+    with pytest.raises(BudgetError, match="key 'distance_m'"):
+        run(distance_m=[1.0, 2.0])
+
+
+def test_total_reflection_cannot_close(tmp_path):
+    # a pure reactance reflects everything: |Gamma| = 1, delivered 1 - |Gamma|^2 = 0 (Pozar 4th ed. eq. 2.37)
+    f = np.linspace(800e6, 1030e6, 11)
+    from helpers import s1p_text
+    (tmp_path / "x.s1p").write_text(s1p_text(f, gamma_of(1j * 2 * np.pi * f * 10e-9)))
+    res = run(str(tmp_path / "l.toml"), tx_sweep="x.s1p", f_hz=f[3])
+    p = res.worst
+    # (the 12-digit text leaves 1 - |Gamma|^2 of order 1e-12 or 0: a loss of 100 dB or more, up to infinite)
+    assert p.tx.mismatch_loss_db > 100 and p.max_range_m < 1.0 and not res.closes
+    assert p.max_range_m / p.matched_range_m == pytest.approx(10 ** (-p.tx.mismatch_loss_db / 20))
+    assert p.matched_range_m > 1e3 and any("|Gamma| = 1.0000" in w for w in res.warnings)
