@@ -106,7 +106,7 @@ def render_budget(res: BudgetResult) -> None:
     t.add_column("dB", justify="right")
     t.add_column("running total dBm", justify="right")
     for r in w.rows:
-        t.add_row(r.name, fmt(r.value_db, 2), fmt(r.total_dbm, 2))
+        t.add_row(r.name, fmt(r.value_db, 3), fmt(r.total_dbm, 2))
     c.print(t)
     c.print(f"EIRP                      {fmt(w.eirp_dbm)} dBm"
             + ("" if res.eirp_limit_dbm is None else
