@@ -133,3 +133,19 @@ def test_sample_budget_file(cli, tmp_path):
 def test_shipped_sample_runs(cli):
     r = cli("budget", ROOT / "sample_sweeps" / "link_915.toml", "--json")
     assert r.code in (0, 1) and "received_power_dbm" in r.json()
+
+
+def test_core_imports_no_ui_libraries():
+    # design.md: the core never imports typer, rich or matplotlib
+    code = ("import sys, matchtool.budget; bad = [m for m in ('matplotlib', 'typer', 'rich') if m in sys.modules]; "
+            "print(bad); sys.exit(1 if bad else 0)")
+    import subprocess
+    import sys
+
+    p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=120)
+    assert p.returncode == 0, p.stdout + p.stderr
+
+
+def test_budget_in_subprocess(cli_subprocess, link):
+    r = cli_subprocess("budget", link, "--json")
+    assert r.code == 0 and r.json()["margin_db"] > 0

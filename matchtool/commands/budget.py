@@ -126,7 +126,7 @@ def render_budget(res: BudgetResult) -> None:
     if res.band is not None:
         t = Table(title="Per frequency", title_justify="left", show_edge=False)
         for col in ("frequency", "tx mismatch dB", "rx mismatch dB", "EIRP dBm", "received dBm", "margin dB",
-                    "range m"):
+                    f"range m ({res.path_loss_model}, margin {res.required_margin_db:g} dB)"):
             t.add_column(col, justify="right")
         for p in res.points:
             t.add_row(ff(p.f_hz), fmt(p.tx.mismatch_loss_db, 3), fmt(p.rx.mismatch_loss_db, 3), fmt(p.eirp_dbm),
