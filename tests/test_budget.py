@@ -450,3 +450,24 @@ def test_total_reflection_cannot_close(tmp_path):
     assert p.tx.mismatch_loss_db > 100 and p.max_range_m < 1.0 and not res.closes
     assert p.max_range_m / p.matched_range_m == pytest.approx(10 ** (-p.tx.mismatch_loss_db / 20))
     assert p.matched_range_m > 1e3 and any("|Gamma| = 1.0000" in w for w in res.warnings)
+
+
+@pytest.mark.parametrize("n", [None, 2.0, 3.3])
+def test_doubling_distance_through_the_budget(n):
+    # free space: 20 log10(2) = 6.02 dB per doubling; log-distance: 10 n log10(2) dB beyond d0
+    model = {} if n is None else {"path_loss_exponent": n, "reference_distance_m": 5.0}
+    a = run(distance_m=300.0, **model).worst
+    b = run(distance_m=600.0, **model).worst
+    per_doubling = 20 * math.log10(2) if n is None else 10 * n * math.log10(2)
+    assert a.received_power_dbm - b.received_power_dbm == pytest.approx(per_doubling)
+    assert a.margin_db - b.margin_db == pytest.approx(per_doubling)
+
+
+def test_mismatch_cost_in_log_distance_range():
+    # beyond d0 the range scales with 10^(dB / (10 n)): no mismatch lengthens it by 10^(ML / (10 n))
+    n = 3.5
+    p = run(tx_vswr=2.0, rx_vswr=3.0, path_loss_exponent=n, reference_distance_m=1.0).worst
+    ml = 0.51153 + 1.24939
+    assert p.matched_range_m / p.max_range_model_m == pytest.approx(10 ** (ml / (10 * n)), rel=1e-5)
+    # max_range_m stays the free-space figure (the contract's definition)
+    assert p.max_range_m > p.max_range_model_m

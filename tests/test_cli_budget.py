@@ -149,3 +149,16 @@ def test_core_imports_no_ui_libraries():
 def test_budget_in_subprocess(cli_subprocess, link):
     r = cli_subprocess("budget", link, "--json")
     assert r.code == 0 and r.json()["margin_db"] > 0
+
+
+def test_infinite_mismatch_is_null_in_json(cli, link):
+    # VSWR 1e300 rounds to |Gamma| = 1: nothing is delivered (Pozar 4th ed. eq. 2.37), an infinite loss
+    link.write_text(LINK.replace('tx_sweep = "tx.s1p"\n', "tx_vswr = 1e300\n"))
+    r = cli("budget", link, "--json")
+    doc = r.json()
+    assert r.code == 1 and doc["received_power_dbm"] is None and doc["margin_db"] is None
+    assert doc["max_range_m"] == 0.0 and doc["matched_range_m"] > 0
+    assert any("received_power_dbm" in w and "null" in w for w in doc["warnings"])
+    assert "Infinity" not in r.out and "NaN" not in r.out
+    t = cli("budget", link)
+    assert t.code == 1 and "-inf" in t.out
