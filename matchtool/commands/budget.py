@@ -23,8 +23,8 @@ Exit status: 0 when the margin meets the required margin at every frequency, 1 w
 
 CAUTION: this is a free-space estimate, not a coverage prediction (ground, walls, bodies and fading
 change the real range). EIRP and RF exposure limits are set by local regulation; eirp_limit_dbm is a
-number you take from your own regulation and the tool only compares against it. The tool computes;
-it does not certify a radio.
+number you take from your own regulation and the tool only compares against it. A high VSWR can damage a transmitter's
+amplifier. The tool computes; it does not certify a radio.
 """
 
 EPILOG = """Examples:
