@@ -22,6 +22,7 @@ free-space estimate is not a coverage prediction.
 
 from __future__ import annotations
 
+import difflib
 import math
 import re
 import tomllib
@@ -435,7 +436,9 @@ def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
     r = _Reader(data, path)
     for k, v in data.items():
         if k not in _TOP_KEYS:
-            raise r.err(k, "is not a known key", "see 'matchtool budget --help' for the keys")
+            close = difflib.get_close_matches(str(k), sorted(_TOP_KEYS), n=1)
+            raise r.err(k, "is not a known key" + (f" (did you mean '{close[0]}'?)" if close else ""),
+                        "one of the keys listed in 'matchtool budget --help'")
         if isinstance(v, dict) and not k.endswith("_cable") or isinstance(v, list) and k != "f_hz":
             raise r.err(k, "is a table", "a plain value")
     f_hz, band = _frequency_grid(r)

@@ -96,6 +96,8 @@ def test_bad_file_exit_2_one_line(cli, link, edit, key):
     assert r.code == 2 and r.out == ""
     assert len(r.err_lines) == 1 and r.err_lines[0].startswith("error: ")
     assert str(link) in r.err and f"key '{key}'" in r.err and "Traceback" not in r.err
+    if key == "tx_gain_db":
+        assert "did you mean 'tx_gain_dbi'" in r.err
 
 
 def test_bad_sweep_text_does_not_leak(cli, link):
