@@ -1,0 +1,166 @@
+"""CLI tests of ``matchtool budget``: exit status, JSON keys, one-line errors, help cautions."""
+
+from __future__ import annotations
+
+import math
+import shutil
+from pathlib import Path
+
+import pytest
+from helpers import ROOT, write_rlc
+
+LINK = """f_hz = "915 MHz"
+distance_m = 500
+tx_power_dbm = 14
+tx_gain_dbi = 2
+tx_cable_loss_db = 0.5
+rx_gain_dbi = 2
+rx_cable_loss_db = 0.5
+polarization_angle_deg = 10
+rx_sensitivity_dbm = -110
+tx_sweep = "tx.s1p"
+rx_sweep = "rx.s1p"
+"""
+
+
+@pytest.fixture
+def link(tmp_path) -> Path:
+    write_rlc(tmp_path / "tx.s1p", r_ohm=50.0)
+    write_rlc(tmp_path / "rx.s1p", r_ohm=30.0)
+    p = tmp_path / "link.toml"
+    p.write_text(LINK)
+    return p
+
+
+def test_json_contract_keys(cli, link):
+    r = cli("budget", link, "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    for k in ("rows", "received_power_dbm", "margin_db", "path_loss_db", "max_range_m", "eirp_dbm",
+              "zero_margin_range_m", "frequencies", "warnings"):
+        assert k in doc
+    assert all(set(row) >= {"name", "value_db"} for row in doc["rows"])
+    assert math.fsum(row["value_db"] for row in doc["rows"]) == pytest.approx(doc["received_power_dbm"])
+    assert doc["margin_db"] == pytest.approx(doc["received_power_dbm"] + 110)
+    # ITU-R P.525, exact constant: 32.4478 + 20 log 915 + 20 log 0.5
+    assert doc["path_loss_db"] == pytest.approx(20 * math.log10(4 * math.pi * 1e9 / 299792458) + 20 * math.log10(915)
+                                                + 20 * math.log10(0.5), abs=1e-9)
+    # no fade margin: the required margin is zero, so both ranges agree
+    assert doc["max_range_m"] == pytest.approx(doc["zero_margin_range_m"])
+    # R = 30 ohm at resonance: |Gamma| = 0.25, mismatch 1 - 1/16 (Pozar 4th ed. eq. 2.37)
+    assert doc["rx"]["mismatch_loss_db"] == pytest.approx(-10 * math.log10(1 - 1 / 16), abs=1e-6)
+    assert len(doc["frequencies"]) == 1 and r.out.count("\n{") == 0
+
+
+def test_fade_margin_sets_max_range(cli, link):
+    link.write_text(LINK + "fade_margin_db = 20\n")
+    doc = cli("budget", link, "--json").json()
+    assert doc["zero_margin_range_m"] / doc["max_range_m"] == pytest.approx(10 ** (20 / 20))
+
+
+def test_table_output(cli, link):
+    r = cli("budget", link)
+    assert r.code == 0
+    for word in ("transmit power", "path loss", "polarization loss", "receive mismatch loss", "running total",
+                 "EIRP", "margin", "range", "not a coverage prediction"):
+        assert word in r.out
+
+
+def test_margin_not_met_exits_1(cli, link):
+    link.write_text(LINK.replace("distance_m = 500", "distance_m = 5e7"))
+    r = cli("budget", link, "--json")
+    assert r.code == 1 and r.json()["pass"] is False and r.json()["margin_db"] < 0
+
+
+def test_band_table(cli, link):
+    link.write_text(LINK.replace('f_hz = "915 MHz"', 'f_low = "902 MHz"\nf_high = "928 MHz"\npoints = 5'))
+    doc = cli("budget", link, "--json").json()
+    assert [p["f_hz"] for p in doc["frequencies"]] == [902e6, 908.5e6, 915e6, 921.5e6, 928e6]
+    assert doc["margin_db"] == min(p["margin_db"] for p in doc["frequencies"])
+    assert cli("budget", link).out.count("MHz") >= 5
+
+
+@pytest.mark.parametrize("edit,key", [
+    (("distance_m = 500", "distance_m = -500"), "distance_m"),
+    (("rx_sensitivity_dbm = -110", "rx_sensitivity_dbm = 30"), "rx_sensitivity_dbm"),
+    (('f_hz = "915 MHz"', 'f_hz = "2.45 GHz"'), "tx_sweep"),
+    (("tx_gain_dbi = 2", "tx_gain_dbi = 2\ntx_gain_db = 2"), "tx_gain_db"),
+    (("tx_gain_dbi = 2", 'tx_gain_dbi = "two"'), "tx_gain_dbi"),
+    (("tx_gain_dbi = 2", "tx_gain_dbi = nan"), "tx_gain_dbi"),
+    (("tx_gain_dbi = 2", "tx_gain_dbi = inf"), "tx_gain_dbi"),
+    (("polarization_angle_deg = 10", "polarization_angle_deg = 10\npolarization_loss_db = 1"), "polarization_loss_db"),
+])
+def test_bad_file_exit_2_one_line(cli, link, edit, key):
+    link.write_text(LINK.replace(*edit))
+    r = cli("budget", link, "--json")
+    assert r.code == 2 and r.out == ""
+    assert len(r.err_lines) == 1 and r.err_lines[0].startswith("error: ")
+    assert str(link) in r.err and f"key '{key}'" in r.err and "Traceback" not in r.err
+    if key == "tx_gain_db":
+        assert "did you mean 'tx_gain_dbi'" in r.err
+
+
+def test_bad_sweep_text_does_not_leak(cli, link):
+    (link.parent / "tx.s1p").write_text("not a touchstone file\n1 2 3\n")
+    r = cli("budget", link)
+    assert r.code == 2 and len(r.err_lines) == 1 and "tx_sweep" in r.err and str(link) in r.err
+
+
+def test_eirp_limit_warning(cli, link):
+    link.write_text(LINK + "eirp_limit_dbm = 10\n")
+    r = cli("budget", link, "--json")
+    assert r.code == 0 and r.json()["eirp_over_limit"] is True
+    assert any("EIRP" in w for w in r.json()["warnings"]) and "warning:" in r.err
+
+
+def test_help_has_cautions(cli):
+    r = cli("budget", "--help")
+    text = " ".join(r.out.split())
+    assert "not a coverage prediction" in text and "local regulation" in text and "RF exposure" in text
+
+
+def test_sample_budget_file(cli, tmp_path):
+    # the shipped example, pointed at sweeps generated here with the same names
+    shutil.copy(ROOT / "sample_sweeps" / "link_915.toml", tmp_path / "link_915.toml")
+    write_rlc(tmp_path / "ant_r3.s1p", lo_hz=700e6, hi_hz=1100e6)
+    write_rlc(tmp_path / "ant_r2.s1p", r_ohm=35.0, lo_hz=700e6, hi_hz=1100e6)
+    r = cli("budget", tmp_path / "link_915.toml", "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["tx"]["source"] == "sweep" and doc["rx"]["source"] == "sweep"
+    assert doc["fade_margin_db"] > 0 and doc["max_range_m"] < doc["zero_margin_range_m"]
+
+
+@pytest.mark.skipif(not (ROOT / "sample_sweeps" / "ant_r3.s1p").exists(), reason="sample antennas not generated yet")
+def test_shipped_sample_runs(cli):
+    r = cli("budget", ROOT / "sample_sweeps" / "link_915.toml", "--json")
+    assert r.code in (0, 1) and "received_power_dbm" in r.json()
+
+
+def test_core_imports_no_ui_libraries():
+    # design.md: the core never imports typer, rich or matplotlib
+    code = ("import sys, matchtool.budget; bad = [m for m in ('matplotlib', 'typer', 'rich') if m in sys.modules]; "
+            "print(bad); sys.exit(1 if bad else 0)")
+    import subprocess
+    import sys
+
+    p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=120)
+    assert p.returncode == 0, p.stdout + p.stderr
+
+
+def test_budget_in_subprocess(cli_subprocess, link):
+    r = cli_subprocess("budget", link, "--json")
+    assert r.code == 0 and r.json()["margin_db"] > 0
+
+
+def test_infinite_mismatch_is_null_in_json(cli, link):
+    # VSWR 1e300 rounds to |Gamma| = 1: nothing is delivered (Pozar 4th ed. eq. 2.37), an infinite loss
+    link.write_text(LINK.replace('tx_sweep = "tx.s1p"\n', "tx_vswr = 1e300\n"))
+    r = cli("budget", link, "--json")
+    doc = r.json()
+    assert r.code == 1 and doc["received_power_dbm"] is None and doc["margin_db"] is None
+    assert doc["max_range_m"] == 0.0 and doc["matched_range_m"] > 0
+    assert any("received_power_dbm" in w and "null" in w for w in doc["warnings"])
+    assert "Infinity" not in r.out and "NaN" not in r.out
+    t = cli("budget", link)
+    assert t.code == 1 and "-inf" in t.out
