@@ -377,7 +377,8 @@ class FeedPoints:
     @property
     def return_loss_improvement_db(self) -> np.ndarray:
         """Return loss at the radio end minus at the antenna: what the cable adds (ideally 2 x one-way)."""
-        return self.return_loss_radio_db - self.return_loss_antenna_db
+        with np.errstate(invalid="ignore"):
+            return self.return_loss_radio_db - self.return_loss_antenna_db
 
     @property
     def cable_share_db(self) -> np.ndarray:
