@@ -254,3 +254,32 @@ def test_bad_arguments_one_line(cli, tmp_path, args, words):
 
 def test_missing_input(cli, tmp_path):
     _one_error(cli("feedline", tmp_path / "nope.s1p", *MODEL, "--toward", "radio"), "nope.s1p")
+
+
+def test_measured_cable_without_transmission_names_the_file(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p")
+    f = np.linspace(700e6, 1.2e9, 11)
+    s = np.zeros((11, 2, 2), dtype=complex)
+    s[:, 1, 0] = s[:, 0, 1] = 0.9
+    s[5] = 0.0  # an open circuit in the middle of the cable data
+    dead = _cable_file(tmp_path / "dead.s2p", f, s)
+    _one_error(cli("feedline", a, "--cable", dead, "--toward", "antenna"), "dead.s2p", "transmits")
+
+
+def test_degenerate_deembedding_is_flagged(cli, tmp_path):
+    """A measured Gamma at the pole of the de-embedding, S21 S12 + S22 (G - S11) = 0: the result
+    explodes and must be flagged as non-physical (or refused when not finite), never passed on quietly."""
+    p = tmp_path / "m.s1p"
+    f = np.array([1e9, 1.1e9])
+    from matchtool.feedline import CableModel
+
+    cab = CableModel(length_m=0.1, velocity_factor=0.7, loss_db_per_m=0.0, z0_ohm=100.0)
+    t = cab.s_params(f, 50.0)
+    g = t[:, 0, 0] - t[:, 1, 0] * t[:, 0, 1] / t[:, 1, 1]  # makes the de-embedding denominator zero
+    p.write_text(s1p_text(f, g))
+    out = tmp_path / "o.s1p"
+    r = cli("feedline", p, "--length", "0.1m", "--velocity-factor", "0.7", "--loss-db-per-m", "0",
+            "--cable-z0", "100", "--toward", "antenna", "--out", out)
+    assert r.code == 0  # 12-digit rounding in the file leaves a huge but finite value
+    assert "non-physical" in r.err and "WARNING" in out.read_text()
+    assert np.all(np.abs(skrf.Network(str(out)).s) > 1e6)

@@ -15,7 +15,7 @@ import skrf
 import typer
 
 from .. import feedline as fl
-from ..errors import UsageError
+from ..errors import OutputError, UsageError
 from ..outputs import check_output
 from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
@@ -243,7 +243,12 @@ def register(app: typer.Typer) -> None:
                 cab.s_params(sw.f_hz, z_sys)  # raises the coverage error
 
         f = sw.f_hz
-        mv = fl.move_network(f, s_sys, port, cab, toward, z_sys, name=sw.name)
+        try:
+            mv = fl.move_network(f, s_sys, port, cab, toward, z_sys, name=sw.name)
+        except UsageError as exc:
+            if kind == "file" and exc.path is None:
+                raise UsageError(exc.what, path=cab.path, expected=exc.expected) from None
+            raise
         warnings += list(mv.warnings)
 
         g_in = s_sys[:, port - 1, port - 1]
@@ -258,6 +263,10 @@ def register(app: typer.Typer) -> None:
         feed_band = fl.feed_points(fb, gamma_at_many(f, g_in, fb, sw.path), cab, toward, z_sys)
         worst = fl.band_worst(feed_band)
 
+        if out is not None and not np.isfinite(mv.s).all():
+            k = int(np.argmax(~np.isfinite(mv.s).all(axis=(1, 2))))
+            raise OutputError(f"the moved sweep is not finite at {f[k] / 1e6:.6g} MHz (the cable undoes the "
+                              "measurement completely there); nothing written", path=out)
         if out is not None:
             s_out = _renorm_port(mv.s, np.where(np.arange(n) == port - 1, z_sys, z_file), port, float(z_file[port - 1]))
             net = skrf.Network(frequency=sw.network.frequency, s=s_out, z0=z_file, name=Path(out).stem)
