@@ -24,16 +24,20 @@ from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, fmt, 
 
 EPILOG = """Examples:
 
-  # the antenna was measured at the end of a 3 m test cable: remove the cable
-  matchtool feedline meas.s1p --length 3m --velocity-factor 0.66 --loss-db-per-m 0.66 \
-      --toward antenna --out ant.s1p
+\b
+  # measured at the end of a 3 m test cable: remove the cable
+  matchtool feedline meas.s1p --length 3m --velocity-factor 0.66 \\
+      --loss-db-per-m 0.66 --toward antenna --out ant.s1p
 
-  # what the radio sees through a 1.5 m feed (conductor + dielectric loss, 1 GHz reference)
-  matchtool feedline ant.s1p --length 150cm --velocity-factor 0.85 --loss-db-per-m 0.12 \
-      --dielectric-loss-db-per-m 0.02 --toward radio --band 902MHz:928MHz
+\b
+  # what the radio sees through a 1.5 m feed (losses given at 1 GHz)
+  matchtool feedline ant.s1p --length 150cm --velocity-factor 0.85 \\
+      --loss-db-per-m 0.12 --dielectric-loss-db-per-m 0.02 \\
+      --toward radio --band 902MHz:928MHz
 
-  # a measured cable (port 1 toward the analyzer) and a pure port extension
-  matchtool feedline meas.s1p --cable cable.s2p --toward antenna --out ant.s1p --json
+\b
+  # a measured cable (port 1 toward the analyzer); a port extension
+  matchtool feedline meas.s1p --cable cable.s2p --toward antenna --out ant.s1p
   matchtool feedline meas.s1p --delay 250ps --toward antenna --at 2.45GHz
 """
 
