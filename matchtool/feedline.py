@@ -582,3 +582,57 @@ def masking_text(return_loss_radio_db: float, return_loss_antenna_db: float, one
 
     return (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(one_way_loss_db)} dB "
             f"is the cable; the antenna itself: {f(return_loss_antenna_db)} dB")
+
+
+# --------------------------------------------------------------------------------------------
+# sweeps (what the command does, for Python users)
+# --------------------------------------------------------------------------------------------
+
+def renormalize_port(s: np.ndarray, z_from_ohm: np.ndarray, port: int, z_to_ohm: float) -> np.ndarray:
+    """Renormalise port ``port`` (1-based) of ``s`` (n, N, N) from its real reference in
+    ``z_from_ohm`` (N,) to ``z_to_ohm``; the other ports keep theirs. Returns a new array."""
+    import skrf
+
+    z_from = np.asarray(z_from_ohm, dtype=float)
+    z_new = z_from.copy()
+    z_new[port - 1] = z_to_ohm
+    s = np.array(s, dtype=complex)
+    if np.allclose(z_new, z_from):
+        return s
+    return np.asarray(skrf.network.renormalize_s(s, z_from, z_new))
+
+
+@dataclass(frozen=True, eq=False)
+class SweepMove:
+    """A sweep with one port's plane moved: ``network`` (skrf.Network, every port at the input's
+    own reference impedances), ``move`` (the computation at the system impedance), ``gamma_in``
+    (the chosen port's reflection at the system impedance before the move)."""
+
+    network: object
+    move: Move
+    gamma_in: np.ndarray
+
+    @property
+    def z0_ohm(self) -> float:
+        return self.move.z0_ohm
+
+
+def move_sweep(sweep, cable: Cable, toward: Toward, z0_ohm: float | None = None) -> SweepMove:
+    """Move the plane of ``sweep.port`` of a :class:`matchtool.sweep.Sweep` along ``cable``.
+
+    The system impedance is ``z0_ohm`` or the port's own reference; the cable is taken in that
+    system. The returned network keeps the input's port count and reference impedances."""
+    import skrf
+
+    port = sweep.port
+    z_file = np.asarray(sweep.network.z0[0].real, dtype=float)
+    z_sys = float(z0_ohm) if z0_ohm is not None else float(z_file[port - 1])
+    if not (math.isfinite(z_sys) and z_sys > 0):
+        raise UsageError(f"--z0 {z_sys:g} ohm", expected="a positive, finite impedance")
+    s_sys = renormalize_port(sweep.network.s, z_file, port, z_sys)
+    mv = move_network(sweep.f_hz, s_sys, port, cable, toward, z_sys, name=sweep.name)
+    z_mid = z_file.copy()
+    z_mid[port - 1] = z_sys
+    s_out = renormalize_port(mv.s, z_mid, port, float(z_file[port - 1])) if np.isfinite(mv.s).all() else mv.s
+    net = skrf.Network(frequency=sweep.network.frequency, s=s_out, z0=z_file, name=f"{sweep.network.name}_moved")
+    return SweepMove(network=net, move=mv, gamma_in=s_sys[:, port - 1, port - 1].copy())

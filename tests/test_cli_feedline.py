@@ -283,3 +283,35 @@ def test_degenerate_deembedding_is_flagged(cli, tmp_path):
     assert r.code == 0  # 12-digit rounding in the file leaves a huge but finite value
     assert "non-physical" in r.err and "WARNING" in out.read_text()
     assert np.all(np.abs(skrf.Network(str(out)).s) > 1e6)
+
+
+def test_per_port_references_are_kept_and_the_moved_port_uses_its_own(cli, tmp_path):
+    """A version 2 two-port with references 50 and 75 ohm: moving port 2 takes the cable in 75 ohm;
+    the output keeps [Reference] 50 75 and agrees with scikit-rf's connect."""
+    rng = np.random.default_rng(2)
+    f = np.linspace(1e9, 2e9, 21)
+    s = (rng.normal(size=(21, 2, 2)) + 1j * rng.normal(size=(21, 2, 2))) * 0.3
+    p = tmp_path / "v2.s2p"
+    p.write_text(touchstone_text(f, s, np.array([50.0, 75.0])))
+    out = tmp_path / "o.s2p"
+    r = cli("feedline", p, "--port", "2", "--length", "1m", "--velocity-factor", "0.7", "--loss-db-per-m", "0.2",
+            "--toward", "radio", "--out", out, "--json")
+    assert r.code == 0 and r.json()["z0_ohm"] == 75.0
+    a, b = skrf.Network(str(p)), skrf.Network(str(out))
+    np.testing.assert_allclose(b.z0[0], [50.0, 75.0])
+    alpha = 0.2 * np.sqrt(f / 1e9) / (20 / math.log(10))
+    line = skrf.media.DefinedGammaZ0(a.frequency, z0_port=75.0, z0=75.0,
+                                     gamma=alpha + 2j * np.pi * f / (0.7 * C0)).line(1.0, unit="m")
+    np.testing.assert_allclose(b.s, skrf.network.connect(a, 1, line, 1).s, atol=1e-10)
+
+
+def test_python_api_move_sweep(tmp_path):
+    from matchtool import feedline as fl
+    from matchtool.sweep import load
+
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=35.0)
+    sw = load(a)
+    cab = fl.CableModel(length_m=2.0, velocity_factor=0.66, loss_db_per_m=0.4)
+    moved = fl.move_sweep(sw, cab, "radio")
+    assert isinstance(moved.network, skrf.Network) and moved.network.nports == 1
+    np.testing.assert_allclose(moved.network.s[:, 0, 0], sw.gamma * _gamma_l(sw.f_hz, 2.0, 0.66, 0.4), atol=1e-12)

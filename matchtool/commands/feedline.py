@@ -11,7 +11,6 @@ from pathlib import Path
 from typing import Annotated, Any
 
 import numpy as np
-import skrf
 import typer
 
 from .. import feedline as fl
@@ -124,15 +123,6 @@ def cable_doc(kind: str, cable) -> dict[str, Any]:
     return d
 
 
-def _renorm_port(s: np.ndarray, z_from: np.ndarray, port: int, z_to: float) -> np.ndarray:
-    """Renormalise port ``port`` (1-based) of ``s`` from its reference to ``z_to``; others unchanged."""
-    z_new = np.array(z_from, dtype=float)
-    z_new[port - 1] = z_to
-    if np.allclose(z_new, z_from):
-        return s
-    return skrf.network.renormalize_s(np.array(s), np.array(z_from, dtype=float), z_new)
-
-
 def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWorst) -> None:
     """Terminal view."""
     from rich.table import Table
@@ -236,9 +226,7 @@ def register(app: typer.Typer) -> None:
         if out is not None and ports_from_name(out) not in (None, n):
             raise UsageError(f"the input has {n} port(s); the output cannot be .s{ports_from_name(out)}p",
                              path=out, expected=f".s{n}p")
-        z_file = np.asarray(sw.network.z0[0].real, dtype=float)
-        z_sys = float(z0) if z0 is not None else float(z_file[port - 1])
-        s_sys = _renorm_port(np.asarray(sw.network.s), z_file, port, z_sys)
+        z_sys = float(z0) if z0 is not None else float(sw.network.z0[0, port - 1].real)
         warnings = list(sw.warnings)
         if kind == "file":
             cab, cw = fl.load_cable(cab, z_sys, flip_cable)
@@ -248,14 +236,15 @@ def register(app: typer.Typer) -> None:
 
         f = sw.f_hz
         try:
-            mv = fl.move_network(f, s_sys, port, cab, toward, z_sys, name=sw.name)
+            moved = fl.move_sweep(sw, cab, toward, z_sys)
         except UsageError as exc:
             if kind == "file" and exc.path is None:
                 raise UsageError(exc.what, path=cab.path, expected=exc.expected) from None
             raise
+        mv = moved.move
         warnings += list(mv.warnings)
 
-        g_in = s_sys[:, port - 1, port - 1]
+        g_in = moved.gamma_in
         feed_at = None
         if at_hz:
             q = np.asarray(at_hz, dtype=float)
@@ -272,8 +261,7 @@ def register(app: typer.Typer) -> None:
             raise OutputError(f"the moved sweep is not finite at {f[k] / 1e6:.6g} MHz (the cable undoes the "
                               "measurement completely there); nothing written", path=out)
         if out is not None:
-            s_out = _renorm_port(mv.s, np.where(np.arange(n) == port - 1, z_sys, z_file), port, float(z_file[port - 1]))
-            net = skrf.Network(frequency=sw.network.frequency, s=s_out, z0=z_file, name=Path(out).stem)
+            net = moved.network
             comments = [f"matchtool feedline: {sw.name} port {port} moved toward the {toward}",
                         f"{cab.describe()}, system impedance {z_sys:g} ohm"]
             if mv.nonphysical_count:
