@@ -317,8 +317,15 @@ def load_cable(path: str, z_ref_ohm: float, flip_ports: bool = False) -> tuple[M
     s = np.asarray(cab.network.s, dtype=complex)
     if flip_ports:
         s = flip(s)
+    warnings = list(cab.warnings)
+    power = np.maximum(np.abs(s[:, 0, 0]) ** 2 + np.abs(s[:, 1, 0]) ** 2, np.abs(s[:, 1, 1]) ** 2 + np.abs(s[:, 0, 1]) ** 2)
+    if np.any(power > 1.0 + 1e-6):
+        k = int(np.argmax(power))
+        warnings.append(f"{path}: the cable puts out more power than it receives at {int(np.sum(power > 1 + 1e-6))} "
+                        f"point(s) (|S11|^2 + |S21|^2 up to {power[k]:.4f} at {cab.f_hz[k] / 1e6:.6g} MHz); "
+                        "a cable is passive: check its calibration")
     return MeasuredCable(f_hz=np.asarray(cab.f_hz, dtype=float).copy(), s=s, z0_ohm=float(z_ref_ohm), path=str(path),
-                         flipped=bool(flip_ports)), [w.replace("|S11|", "|S11| of the cable") for w in cab.warnings]
+                         flipped=bool(flip_ports)), warnings
 
 
 # --------------------------------------------------------------------------------------------
@@ -528,6 +535,14 @@ class BandWorst:
     max_total_feed_loss_f_hz: float
     max_line_loss_db: float
     nonphysical_points: int
+    return_loss_antenna_at_worst_radio_db: float
+    one_way_loss_at_worst_radio_db: float
+
+    @property
+    def masking(self) -> str:
+        """The masking sentence at the frequency of the worst radio-end return loss."""
+        return masking_text(self.worst_return_loss_radio_db, self.return_loss_antenna_at_worst_radio_db,
+                            self.one_way_loss_at_worst_radio_db)
 
 
 def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float) -> np.ndarray:
@@ -570,6 +585,8 @@ def band_worst(feed: FeedPoints) -> BandWorst:
         max_total_feed_loss_f_hz=float(f[i_t]),
         max_line_loss_db=nanmax(line),
         nonphysical_points=int(np.count_nonzero(feed.nonphysical)),
+        return_loss_antenna_at_worst_radio_db=float(rl_a[i_r]),
+        one_way_loss_at_worst_radio_db=float(ow[i_r]),
     )
 
 

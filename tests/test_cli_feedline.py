@@ -315,3 +315,24 @@ def test_python_api_move_sweep(tmp_path):
     moved = fl.move_sweep(sw, cab, "radio")
     assert isinstance(moved.network, skrf.Network) and moved.network.nports == 1
     np.testing.assert_allclose(moved.network.s[:, 0, 0], sw.gamma * _gamma_l(sw.f_hz, 2.0, 0.66, 0.4), atol=1e-12)
+
+
+def test_active_cable_file_is_warned_about(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p")
+    f = np.linspace(700e6, 1.2e9, 11)
+    s = np.zeros((11, 2, 2), dtype=complex)
+    s[:, 1, 0] = s[:, 0, 1] = 1.05  # gain: not a cable
+    cab = _cable_file(tmp_path / "gain.s2p", f, s)
+    r = cli("feedline", a, "--cable", cab, "--toward", "radio", "--json")
+    assert r.code == 0
+    assert any("gain.s2p" in w and "passive" in w for w in r.json()["warnings"])
+
+
+def test_band_masking_sentence_at_the_worst_radio_point(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
+    doc = cli("feedline", a, *MODEL, "--toward", "radio", "--band", "902MHz:928MHz", "--json").json()
+    b = doc["band"]
+    f_w = b["worst_return_loss_radio_f_hz"]
+    one_way = 0.8 * math.sqrt(f_w / 1e9)  # 2 m x 0.4 dB/m at 1 GHz, sqrt(f) (matched cable)
+    assert f"of which 2 x {one_way:.1f} dB" in b["masking"]
+    assert f"{b['worst_return_loss_radio_db']:.1f} dB return loss at the radio end" in b["masking"]

@@ -107,6 +107,7 @@ def point_docs(feed: fl.FeedPoints) -> list[dict[str, Any]]:
 def band_doc(b: fl.BandWorst, whole: bool) -> dict[str, Any]:
     d = {k: getattr(b, k) for k in b.__dataclass_fields__}
     d["whole_sweep"] = whole
+    d["masking"] = b.masking
     return d
 
 
@@ -157,6 +158,7 @@ def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWor
             f"(at {ff(w.worst_return_loss_antenna_f_hz)}), VSWR up to {fmt(w.worst_vswr_antenna)}")
     c.print(f"  total feed loss (cable + mismatch at the radio end) up to {fmt(w.max_total_feed_loss_db, 3)} dB "
             f"(at {ff(w.max_total_feed_loss_f_hz)})")
+    c.print(f"  at {ff(w.worst_return_loss_radio_f_hz)}: {w.masking}")
     if w.nonphysical_points:
         c.print(f"  [bold]{w.nonphysical_points} point(s) with |Gamma| > 1: non-physical[/bold]")
     if doc["out"]:
