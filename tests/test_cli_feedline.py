@@ -336,3 +336,21 @@ def test_band_masking_sentence_at_the_worst_radio_point(cli, tmp_path):
     one_way = 0.8 * math.sqrt(f_w / 1e9)  # 2 m x 0.4 dB/m at 1 GHz, sqrt(f) (matched cable)
     assert f"of which 2 x {one_way:.1f} dB" in b["masking"]
     assert f"{b['worst_return_loss_radio_db']:.1f} dB return loss at the radio end" in b["masking"]
+
+
+def test_core_and_command_import_discipline(tmp_path):
+    """The core module needs neither typer, rich nor matplotlib; the command never draws."""
+    import subprocess
+    import sys
+
+    from helpers import ROOT
+
+    a = write_rlc(tmp_path / "ant.s1p")
+    code = ("import sys\nimport matchtool.feedline\nprint(' '.join(sys.modules))")
+    mods = set(subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT,
+                              check=True).stdout.split())
+    assert not {"typer", "rich", "matplotlib"} & mods
+    argv = ["feedline", str(a), *MODEL, "--toward", "radio", "--at", "915MHz"]
+    code = (f"import sys\nfrom matchtool.cli import main\nmain({argv!r})\nprint(' '.join(sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True).stdout
+    assert "matplotlib" not in out.split()
