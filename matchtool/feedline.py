@@ -181,7 +181,7 @@ class CableModel:
     kind: str = field(default="model", init=False)
 
     def __post_init__(self) -> None:
-        _positive("--length", self.length_m)
+        _positive("--length", self.length_m, allow_zero=True)
         vf = float(self.velocity_factor)
         if not (math.isfinite(vf) and 0 < vf <= 1):
             raise UsageError(f"--velocity-factor {self.velocity_factor:g}", expected="a number above 0 and at most 1")
@@ -231,7 +231,7 @@ class Delay:
     kind: str = field(default="delay", init=False)
 
     def __post_init__(self) -> None:
-        _positive("--delay", self.delay_s)
+        _positive("--delay", self.delay_s, allow_zero=True)
 
     def s_params(self, f_hz: np.ndarray, z_ref_ohm: float) -> np.ndarray:
         f = np.asarray(f_hz, dtype=float)

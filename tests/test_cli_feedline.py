@@ -246,6 +246,10 @@ def test_refuses_overwrite_and_leaves_the_file(cli, tmp_path):
     ([*MODEL, "--toward", "radio", "--port", "2"], "port 2"),
     ([*MODEL, "--toward", "radio", "--z0", "-5"], "--z0"),
     ([*MODEL, "--toward", "radio", "--out", "x.txt"], "x.txt"),
+    ([*MODEL, "--toward", "radio", "--out", "x.ts"], ".sNp"),
+    ([*MODEL, "--toward", "radio", "--out", "/nonexistent-dir/x.s1p"], "does not exist"),
+    (["--delay", "-5ps", "--toward", "radio"], "--delay"),
+    ([*MODEL, "--loss-ref", "0Hz", "--toward", "radio"], "--loss-ref"),
 ])
 def test_bad_arguments_one_line(cli, tmp_path, args, words):
     a = write_rlc(tmp_path / "ant.s1p")

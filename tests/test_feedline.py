@@ -226,6 +226,8 @@ def test_invert_refuses_a_cable_that_transmits_nothing():
 
 @pytest.mark.parametrize("kw, words", [
     ({"length_m": -1, "velocity_factor": 0.66}, "--length"),
+    ({"length_m": math.inf, "velocity_factor": 0.66}, "--length"),
+    ({"length_m": 1, "velocity_factor": 0.0}, "--velocity-factor"),
     ({"length_m": 1, "velocity_factor": 1.2}, "--velocity-factor"),
     ({"length_m": 1, "velocity_factor": 0.66, "loss_db_per_m": -0.1}, "--loss-db-per-m"),
     ({"length_m": 1, "velocity_factor": 0.66, "loss_ref_hz": 0}, "--loss-ref"),
@@ -259,3 +261,26 @@ def test_band_worst_uses_edges_and_masking_text():
         fl.band_frequencies(f, 700e6, 900e6)
     assert fl.masking_text(14.0, 11.0, 1.5) == ("14.0 dB return loss at the radio end, of which 2 x 1.5 dB is the "
                                                 "cable; the antenna itself: 11.0 dB")
+
+
+@given(zc=st.floats(20.0, 150.0), zl_re=st.floats(1.0, 300.0), zl_im=st.floats(-300.0, 300.0),
+       length=st.floats(0.01, 5.0), loss=st.floats(0.0, 2.0), f=st.floats(1e7, 6e9))
+def test_mismatched_lossy_line_input_impedance(zc, zl_re, zl_im, length, loss, f):
+    """Pozar 4th ed. eq. 2.91: Z_in = Zc (Z_L + Zc tanh(gamma l)) / (Zc + Z_L tanh(gamma l)) for a
+    lossy line of impedance Zc, seen in a 50-ohm system."""
+    cab = fl.CableModel(length_m=length, velocity_factor=0.7, loss_db_per_m=loss, z0_ohm=zc)
+    fa = np.array([f])
+    zl = complex(zl_re, zl_im)
+    th = np.tanh(cab.gamma_per_m(fa)[0] * length)
+    z_in = zc * (zl + zc * th) / (zc + zl * th)
+    g = fl.gamma_toward_radio(rf.gamma_from_impedance(np.array([zl]), 50.0), cab.s_params(fa, 50.0))
+    assert complex(rf.impedance_ohm(g, 50.0)[0]) == pytest.approx(z_in, rel=1e-8, abs=1e-8)
+
+
+def test_zero_length_and_zero_delay_are_the_identity():
+    f = np.linspace(1e9, 2e9, 5)
+    g = 0.3 * np.exp(1j * np.arange(5))
+    for cab in (fl.CableModel(length_m=0.0, velocity_factor=0.66, loss_db_per_m=1.0), fl.Delay(0.0)):
+        np.testing.assert_allclose(fl.gamma_toward_radio(g, cab.s_params(f, 50.0)), g, atol=1e-15)
+    with pytest.raises(UsageError, match="--delay"):
+        fl.Delay(-1e-12)

@@ -219,7 +219,7 @@ def register(app: typer.Typer) -> None:
             raise UsageError(f"--z0 {z0:g} ohm", expected="a positive, finite impedance")
         if out is not None:
             check_output(out, force)
-            if ports_from_name(out) is None and Path(out).suffix.lower() != ".ts":
+            if ports_from_name(out) is None:
                 raise UsageError(f"cannot tell the Touchstone kind from the name {Path(out).name!r}", path=out,
                                  expected="a .sNp file name with N the input's port count")
 
