@@ -288,7 +288,7 @@ class MeasuredCable:
                 f"the cable covers {self.f_hz[0] / 1e6:.6g} to {self.f_hz[-1] / 1e6:.6g} MHz, the sweep "
                 f"{f.min() / 1e6:.6g} to {f.max() / 1e6:.6g} MHz", path=self.path,
                 expected="a cable measurement that covers the whole sweep (never extrapolated)")
-        if f.shape == self.f_hz.shape and np.allclose(f, self.f_hz, rtol=1e-12, atol=0):
+        if self.same_grid(f):
             return self.s.copy()
         fc = np.clip(f, self.f_hz[0], self.f_hz[-1])
         if self.f_hz.size == 1:
@@ -302,6 +302,18 @@ class MeasuredCable:
 
     def describe(self) -> str:
         return f"measured cable {self.path}" + (" (ports flipped)" if self.flipped else "")
+
+    def same_grid(self, f_hz: np.ndarray) -> bool:
+        """True when ``f_hz`` is the cable's own frequency grid (no interpolation needed)."""
+        f = np.asarray(f_hz, dtype=float)
+        return f.shape == self.f_hz.shape and bool(np.allclose(f, self.f_hz, rtol=1e-12, atol=0))
+
+    def max_phase_step_deg(self) -> float:
+        """Largest change of the S21 phase between neighbouring cable samples, in degrees (after
+        unwrapping; steps near 180 deg or more cannot be told from wrapping)."""
+        if self.f_hz.size < 2:
+            return 0.0
+        return float(np.degrees(np.max(np.abs(np.diff(np.unwrap(np.angle(self.s[:, 1, 0])))))))
 
 
 def load_cable(path: str, z_ref_ohm: float, flip_ports: bool = False) -> tuple[MeasuredCable, list[str]]:
@@ -490,6 +502,18 @@ def move_network(f_hz: np.ndarray, s: np.ndarray, port: int, cable: Cable, towar
     feed = feed_points(f, s[:, port - 1, port - 1], cable, toward, z0_ohm)
     return Move(f_hz=f, s=moved, port=port, z0_ohm=float(z0_ohm), toward=toward, feed=feed,
                 warnings=tuple(feed_warnings(feed, toward, name)))
+
+
+def interpolation_warnings(cable: Cable, f_hz: np.ndarray, limit_deg: float = 90.0) -> list[str]:
+    """A warning when a measured cable must be interpolated onto ``f_hz`` but is sampled so
+    coarsely that its S21 phase turns by more than ``limit_deg`` between samples."""
+    if not isinstance(cable, MeasuredCable) or cable.same_grid(f_hz):
+        return []
+    step = cable.max_phase_step_deg()
+    if step <= limit_deg:
+        return []
+    return [f"{cable.path}: the cable's S21 phase turns by up to {step:.0f} deg between its samples; "
+            "interpolating it onto the sweep is unreliable - measure the cable on the sweep's grid or finer"]
 
 
 def feed_warnings(feed: FeedPoints, toward: str, name: str = "sweep") -> list[str]:

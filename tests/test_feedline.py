@@ -284,3 +284,16 @@ def test_zero_length_and_zero_delay_are_the_identity():
         np.testing.assert_allclose(fl.gamma_toward_radio(g, cab.s_params(f, 50.0)), g, atol=1e-15)
     with pytest.raises(UsageError, match="--delay"):
         fl.Delay(-1e-12)
+
+
+def test_coarse_measured_cable_is_warned_about():
+    model = fl.CableModel(length_m=3.0, velocity_factor=0.66, loss_db_per_m=0.5)
+    fine_grid = np.linspace(700e6, 1.1e9, 2001)  # 3 m at VF 0.66: 5.4 deg per 200 kHz step
+    coarse = np.linspace(700e6, 1.1e9, 5)  # 100 MHz steps: 545 deg, aliased
+    sweep_f = np.linspace(800e6, 1e9, 11)
+    ok = fl.MeasuredCable(f_hz=fine_grid, s=model.s_params(fine_grid, 50.0), z0_ohm=50.0, path="fine.s2p")
+    bad = fl.MeasuredCable(f_hz=coarse, s=model.s_params(coarse, 50.0), z0_ohm=50.0, path="coarse.s2p")
+    assert fl.interpolation_warnings(ok, sweep_f) == []
+    assert fl.interpolation_warnings(ok, fine_grid) == []
+    (w,) = fl.interpolation_warnings(bad, sweep_f)
+    assert "coarse.s2p" in w and "unreliable" in w

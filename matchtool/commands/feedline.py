@@ -235,6 +235,7 @@ def register(app: typer.Typer) -> None:
             warnings += cw
             if not cab.covers(sw.f_hz):
                 cab.s_params(sw.f_hz, z_sys)  # raises the coverage error
+            warnings += fl.interpolation_warnings(cab, sw.f_hz)
 
         f = sw.f_hz
         try:
