@@ -617,12 +617,18 @@ def band_worst(feed: FeedPoints) -> BandWorst:
 def masking_text(return_loss_radio_db: float, return_loss_antenna_db: float, one_way_loss_db: float) -> str:
     """One sentence on how much of the radio-end return loss is the cable's.
 
-    E.g. "14.0 dB measured at the radio end, of which 2 x 1.5 dB is the cable; the antenna itself: 11.0 dB"."""
+    E.g. "14.0 dB return loss at the radio end, of which 2 x 1.5 dB is the cable; the antenna
+    itself: 11.0 dB". When the difference of the two return losses is not twice the one-way loss
+    (a cable mismatched to the system, or a measured cable that reflects), the rest is named."""
     def f(x: float) -> str:
         return "inf" if math.isinf(x) else ("n/a" if math.isnan(x) else f"{x:.1f}")
 
-    return (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(one_way_loss_db)} dB "
+    text = (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(one_way_loss_db)} dB "
             f"is the cable; the antenna itself: {f(return_loss_antenna_db)} dB")
+    rest = return_loss_radio_db - return_loss_antenna_db - 2.0 * one_way_loss_db
+    if math.isfinite(rest) and abs(rest) >= 0.05:
+        text += f" (the cable's own reflection shifts it by a further {rest:+.1f} dB)"
+    return text
 
 
 # --------------------------------------------------------------------------------------------

@@ -297,3 +297,17 @@ def test_coarse_measured_cable_is_warned_about():
     assert fl.interpolation_warnings(ok, fine_grid) == []
     (w,) = fl.interpolation_warnings(bad, sweep_f)
     assert "coarse.s2p" in w and "unreliable" in w
+
+
+def test_masking_text_names_the_mismatch_of_a_cable_of_another_impedance():
+    """A lossless 75-ohm quarter wave on a 50-ohm antenna: 2 x 0 dB of loss, yet the radio end
+    sees 112.5 ohm (Pozar 4th ed. sec. 2.5), i.e. |Gamma| = 62.5/162.5."""
+    lam = 0.7 * C0 / 1e9
+    cab = fl.CableModel(length_m=lam / 4, velocity_factor=0.7, loss_db_per_m=0.0, z0_ohm=75.0)
+    feed = fl.feed_points(np.array([1e9]), np.array([1e-9 + 0j]), cab, "radio", 50.0)
+    rl_r = -20 * math.log10(62.5 / 162.5)
+    assert feed.return_loss_radio_db[0] == pytest.approx(rl_r, abs=1e-6)
+    text = fl.masking_text(float(feed.return_loss_radio_db[0]), float(feed.return_loss_antenna_db[0]),
+                           float(feed.one_way_loss_db[0]))
+    assert "the cable's own reflection shifts it by a further" in text
+    assert fl.masking_text(14.0, 11.0, 1.5).endswith("the antenna itself: 11.0 dB")
