@@ -205,6 +205,8 @@ def test_json_never_holds_infinity(cli, tmp_path):
     doc = json.loads(r.out)
     assert doc["at"][0]["radio"]["return_loss_db"] is None and doc["at"][0]["antenna"]["vswr"] == 1.0
     assert "Infinity" not in r.out and "NaN" not in r.out and "null" in r.err
+    assert doc["at"][0]["matched_loss_db"] is None
+    assert not any("matched_loss_db" in w for w in doc["warnings"])  # a delay has none; nothing to warn
 
 
 def test_band_report_and_terminal_view(cli, tmp_path):

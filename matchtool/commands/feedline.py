@@ -95,6 +95,8 @@ def point_docs(feed: fl.FeedPoints) -> list[dict[str, Any]]:
     for k, f in enumerate(feed.f_hz):
         d: dict[str, Any] = {"f_hz": float(f)}
         d.update({name: float(v[k]) for name, v in cols.items()})
+        if not isinstance(feed.matched_loss_db, np.ndarray) or np.isnan(feed.matched_loss_db[k]):
+            d["matched_loss_db"] = None  # only a cable model has one; not a defect worth a warning
         d["radio"] = _end_doc(complex(feed.gamma_radio[k]))
         d["antenna"] = _end_doc(complex(feed.gamma_antenna[k]))
         d["nonphysical"] = bool(bad[k])
