@@ -126,7 +126,8 @@ def connect_port(s: np.ndarray, t2: np.ndarray, port: int) -> np.ndarray:
 
 def gamma_toward_radio(gamma_antenna: np.ndarray, s2: np.ndarray) -> np.ndarray:
     """Reflection at port 1 of the cable with the antenna ``gamma_antenna`` on port 2:
-    Gamma_in = S11 + S12 S21 Gamma_L / (1 - S22 Gamma_L) (Pozar 4th ed. eq. 4.67, from memory)."""
+    Gamma_in = S11 + S12 S21 Gamma_L / (1 - S22 Gamma_L)
+    (the standard two-port input reflection; from memory, Pozar 4th ed. ch. 12)."""
     g = np.asarray(gamma_antenna, dtype=complex)
     t = np.asarray(s2, dtype=complex)
     with np.errstate(divide="ignore", invalid="ignore"):

@@ -17,7 +17,7 @@ MODEL = ["--length", "2m", "--velocity-factor", "0.66", "--loss-db-per-m", "0.4"
 
 
 def _gamma_l(f, length_m, vf, loss_db_per_m, ref_hz=1e9):
-    """Pozar 4th ed. eq. 2.92: the factor exp(-2 gamma l) of a matched line, derived here."""
+    """Pozar 4th ed. eqs. 2.90-2.94: the factor exp(-2 gamma l) of a matched line, derived here."""
     alpha = loss_db_per_m * np.sqrt(f / ref_hz) / (20 / math.log(10))
     beta = 2 * np.pi * f / (vf * C0)
     return np.exp(-2 * (alpha + 1j * beta) * length_m)
@@ -74,7 +74,7 @@ def test_lossy_worked_case_json(cli, tmp_path):
 
 
 def test_quarter_wave_delay_turns_short_into_open(cli, tmp_path):
-    """Pozar 4th ed. sec. 2.3: a quarter wave turns a short into an open (port extension here)."""
+    """Pozar 4th ed. eq. 2.90 ff.: a quarter wave turns a short into an open (port extension here)."""
     p = tmp_path / "short.s1p"
     f = np.linspace(0.5e9, 1.5e9, 101)
     p.write_text(s1p_text(f, np.full(f.size, -1 + 0j)))

@@ -25,7 +25,7 @@ def _rand_s(rng, n, ports, scale=0.3):
 # ---------------------------------------------------------------- Pozar 4th ed. eqs. 2.90-2.94
 
 def test_matched_line_rotates_and_attenuates_gamma():
-    """Pozar 4th ed. eq. 2.90 (lossless) and 2.92 (lossy): Gamma_in = Gamma_L exp(-2 gamma l)."""
+    """Pozar 4th ed. eqs. 2.90-2.94 (confirmed in references.md): Gamma_in = Gamma_L exp(-2 gamma l)."""
     f = np.linspace(100e6, 3e9, 57)
     cab = fl.CableModel(length_m=2.5, velocity_factor=0.66, loss_db_per_m=0.4, dielectric_loss_db_per_m=0.1)
     g_l = 0.4 * np.exp(1j * np.linspace(0, 6, f.size))
@@ -37,7 +37,8 @@ def test_matched_line_rotates_and_attenuates_gamma():
 
 
 def test_quarter_wave_turns_short_into_open_and_half_wave_repeats():
-    """Pozar 4th ed. sec. 2.3 (eq. 2.44 ff., Z_in of a lambda/4 and lambda/2 line), lossless."""
+    """Pozar 4th ed. eq. 2.90 ff.: a quarter-wave line turns a short into an open; a half-wave line
+    repeats the load (lossless)."""
     vf, f0 = 0.7, 1e9
     lam = vf * C0 / f0
     quarter = fl.CableModel(length_m=lam / 4, velocity_factor=vf, loss_db_per_m=0.0)
@@ -49,7 +50,8 @@ def test_quarter_wave_turns_short_into_open_and_half_wave_repeats():
     # also for a cable whose impedance differs from the system: a half wave still repeats the load
     half75 = fl.CableModel(length_m=lam / 2, velocity_factor=vf, loss_db_per_m=0.0, z0_ohm=75.0)
     assert fl.gamma_toward_radio(load, half75.s_params(f, 50.0))[0] == pytest.approx(load[0], abs=1e-12)
-    # a quarter-wave 75-ohm line transforms 50 ohm into 75^2/50 = 112.5 ohm (Pozar 4th ed. sec. 2.5)
+    # a quarter-wave 75-ohm line transforms 50 ohm into 75^2/50 = 112.5 ohm
+    # (quarter-wave transformer, Pozar 4th ed. sec. 2.5; section number from memory)
     q75 = fl.CableModel(length_m=lam / 4, velocity_factor=vf, loss_db_per_m=0.0, z0_ohm=75.0)
     z_in = rf.impedance_ohm(fl.gamma_toward_radio(np.array([0j]), q75.s_params(f, 50.0)), 50.0)[0]
     assert z_in == pytest.approx(112.5, abs=1e-9)
@@ -74,7 +76,7 @@ def test_lossy_line_worked_case():
 @given(mag=st.floats(0.0, 0.99), phase=st.floats(-math.pi, math.pi), length=st.floats(0.05, 30.0),
        loss=st.floats(0.0, 2.0), f=st.floats(1e6, 6e9))
 def test_line_loss_matches_pozar_power_balance(mag, phase, length, loss, f):
-    """Pozar 4th ed. eqs. 2.93-2.94: P_in / P_L = (e^{2 al} - |G|^2 e^{-2 al}) / (1 - |G|^2)."""
+    """Pozar 4th ed. eqs. 2.92-2.94 (lossy terminated line): P_in / P_L = (e^{2 al} - |G|^2 e^{-2 al}) / (1 - |G|^2)."""
     cab = fl.CableModel(length_m=length, velocity_factor=0.66, loss_db_per_m=loss)
     g = np.array([mag * np.exp(1j * phase)])
     feed = fl.feed_points(np.array([f]), g, cab, "radio", 50.0)
@@ -266,7 +268,8 @@ def test_band_worst_uses_edges_and_masking_text():
 @given(zc=st.floats(20.0, 150.0), zl_re=st.floats(1.0, 300.0), zl_im=st.floats(-300.0, 300.0),
        length=st.floats(0.01, 5.0), loss=st.floats(0.0, 2.0), f=st.floats(1e7, 6e9))
 def test_mismatched_lossy_line_input_impedance(zc, zl_re, zl_im, length, loss, f):
-    """Pozar 4th ed. eq. 2.91: Z_in = Zc (Z_L + Zc tanh(gamma l)) / (Zc + Z_L tanh(gamma l)) for a
+    """Pozar 4th ed. sec. 2.7, lossy-line input impedance (eq. number from memory, in 2.90-2.94):
+    Z_in = Zc (Z_L + Zc tanh(gamma l)) / (Zc + Z_L tanh(gamma l)) for a
     lossy line of impedance Zc, seen in a 50-ohm system."""
     cab = fl.CableModel(length_m=length, velocity_factor=0.7, loss_db_per_m=loss, z0_ohm=zc)
     fa = np.array([f])
@@ -301,7 +304,7 @@ def test_coarse_measured_cable_is_warned_about():
 
 def test_masking_text_names_the_mismatch_of_a_cable_of_another_impedance():
     """A lossless 75-ohm quarter wave on a 50-ohm antenna: 2 x 0 dB of loss, yet the radio end
-    sees 112.5 ohm (Pozar 4th ed. sec. 2.5), i.e. |Gamma| = 62.5/162.5."""
+    sees 75^2/50 = 112.5 ohm (quarter-wave transformer; Pozar 4th ed. sec. 2.5, from memory), i.e. |Gamma| = 62.5/162.5."""
     lam = 0.7 * C0 / 1e9
     cab = fl.CableModel(length_m=lam / 4, velocity_factor=0.7, loss_db_per_m=0.0, z0_ohm=75.0)
     feed = fl.feed_points(np.array([1e9]), np.array([1e-9 + 0j]), cab, "radio", 50.0)
