@@ -360,3 +360,21 @@ def test_core_and_command_import_discipline(tmp_path):
     code = (f"import sys\nfrom matchtool.cli import main\nmain({argv!r})\nprint(' '.join(sys.modules))")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True).stdout
     assert "matplotlib" not in out.split()
+
+
+def test_cable_file_at_another_reference_is_renormalised(cli, tmp_path):
+    """The same physical cable saved at R 75 and at R 50 must give the same result."""
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=45.0)
+    f = np.linspace(700e6, 1.2e9, 801)
+    freq = skrf.Frequency.from_f(f, unit="Hz")
+    alpha = 0.3 * np.sqrt(f / 1e9) / (20 / math.log(10))
+    line = skrf.media.DefinedGammaZ0(freq, z0_port=50.0, z0=60.0,
+                                     gamma=alpha + 2j * np.pi * f / (0.7 * C0)).line(1.2, unit="m")
+    c50 = tmp_path / "c50.s2p"
+    c50.write_text(touchstone_text(f, line.s, 50.0))
+    c75 = tmp_path / "c75.s2p"
+    c75.write_text(touchstone_text(f, skrf.network.renormalize_s(line.s, 50.0, 75.0), 75.0))
+    o50, o75 = tmp_path / "o50.s1p", tmp_path / "o75.s1p"
+    assert cli("feedline", a, "--cable", c50, "--toward", "antenna", "--out", o50).code == 0
+    assert cli("feedline", a, "--cable", c75, "--toward", "antenna", "--out", o75).code == 0
+    np.testing.assert_allclose(skrf.Network(str(o75)).s, skrf.Network(str(o50)).s, atol=1e-9)
