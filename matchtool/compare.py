@@ -131,19 +131,22 @@ class BandVerdict:
     passing_files: list[str]
     uncovered_files: list[str]
 
-    def sentence(self) -> str:
-        """One line for a terminal or a report."""
+    def sentence(self, names: dict[str, str] | None = None) -> str:
+        """One line for a terminal or a report; ``names`` maps file paths to display names."""
+        def nm(path: str) -> str:
+            return (names or {}).get(path, path)
+
         span = self.name
         if self.name != band_name(self.f_low_hz, self.f_high_hz):
             span += f" ({self.f_low_hz / 1e6:.6g} to {self.f_high_hz / 1e6:.6g} MHz)"
         if self.best_file is None:
             return f"{span}: no sweep covers this band"
-        text = f"{span}: best is {self.best_file} (worst return loss {self.best_worst_return_loss_db:.2f} dB"
+        text = f"{span}: best is {nm(self.best_file)} (worst return loss {self.best_worst_return_loss_db:.2f} dB"
         if self.limit_return_loss_db is not None:
             text += f"; limit {self.limit_return_loss_db:.2f} dB, {len(self.passing_files)} passing"
         text += ")"
         if self.uncovered_files:
-            text += f"; not covered by {', '.join(self.uncovered_files)}"
+            text += f"; not covered by {', '.join(nm(f) for f in self.uncovered_files)}"
         return text
 
 

@@ -138,7 +138,7 @@ def render_comparison(c: Comparison) -> None:
                        verdict)
         con.print(bt)
     for v in c.verdicts:
-        con.print(v.sentence())
+        con.print(v.sentence(dict(zip([r.file for r in c.rows], names, strict=True))))
 
 
 def register(app: typer.Typer) -> None:

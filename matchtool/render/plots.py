@@ -194,10 +194,10 @@ def _best_text(t: Trace, scale: float, unit: str) -> str:
     return f"{t.label} (best {t.f_hz[t.best] / scale:.4g} {unit}, RL {rl_s} dB)"
 
 
-def _legend_below(ax: Axes) -> None:
-    """Legend under the axes, so it never hides a curve."""
+def _legend_below(ax: Axes, gap: float = 0.13) -> None:
+    """Legend under the axes (``gap`` in axes fractions), so it never hides a curve."""
     n = len(ax.get_legend_handles_labels()[1])
-    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=2 if n > 3 else 1, frameon=False)
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
 
 
 def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -> None:
@@ -336,7 +336,7 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
                     ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(5, 4), textcoords="offset points",
                                 fontsize=7, color="#222222")
     ax.set_title(f"Smith chart (impedance, Z0 = {traces[0].z0_ohm:g} ohm); markers: band edges in {unit}")
-    ax.legend(loc="upper left", bbox_to_anchor=(1.0, 1.0), framealpha=0.9, fontsize=7.5)
+    _legend_below(ax, 0.06)
 
 
 def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] = ()) -> None:
