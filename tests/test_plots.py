@@ -249,3 +249,19 @@ def test_plot_into_unwritable_directory_is_one_line(cli, tmp_path):
         assert r.code == 2 and len(r.err_lines) == 1 and "cannot write" in r.err
     finally:
         ro.chmod(0o700)
+
+
+def test_non_passive_points_stay_on_the_axes_and_single_points_draw(tmp_path):
+    # |Gamma| > 1 gives a negative return loss: the axis must extend below 0 to show it.
+    f = np.array([900e6, 910e6, 920e6, 930e6])
+    g = np.array([1.2, 0.9, 0.2, 1.05]) + 0j
+    t = plots.trace_from_sweep(sweep_from_arrays(f, g, 50.0, path="over.s1p"), 10.0)
+    fig = plots.figure([t], ["return-loss", "s11-db"], 10.0)
+    lo, hi = fig.axes[0].get_ylim()
+    assert lo <= -20 * math.log10(1.2) and hi >= -20 * math.log10(0.2)
+    assert fig.axes[1].get_ylim()[1] >= 20 * math.log10(1.2)
+    one = plots.trace_from_sweep(sweep_from_arrays(f[:1], g[1:2], 50.0, path="one.s1p"), 10.0)
+    fig = plots.figure([one], list(plots.KINDS), 10.0)
+    a, b = fig.axes[0].get_xlim()
+    assert a < 910.0 < b
+    assert fig.axes[0].get_ylim()[0] == 0.0

@@ -194,6 +194,15 @@ def _best_text(t: Trace, scale: float, unit: str) -> str:
     return f"{t.label} (best {t.f_hz[t.best] / scale:.4g} {unit}, RL {rl_s} dB)"
 
 
+def _xlim(ax: Axes, traces: Sequence[Trace], scale: float) -> None:
+    """Frequency axis over all sweeps; a single-frequency sweep gets +-1 % around its point."""
+    lo = min(float(t.f_hz[0]) for t in traces) / scale
+    hi = max(float(t.f_hz[-1]) for t in traces) / scale
+    if hi <= lo:
+        lo, hi = lo * 0.99, hi * 1.01
+    ax.set_xlim(lo, hi)
+
+
 def _legend_below(ax: Axes, gap: float = 0.13) -> None:
     """Legend under the axes (``gap`` in axes fractions), so it never hides a curve."""
     n = len(ax.get_legend_handles_labels()[1])
@@ -228,6 +237,8 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
     finite = np.concatenate([t.return_loss_db[np.isfinite(t.return_loss_db)] for t in traces] + [np.array([0.0])])
     top = float(min(RL_CAP_DB, max(threshold_return_loss_db + 10.0, np.max(finite) + 3.0)))
+    lowest = float(np.min(finite))
+    bottom = 0.0 if lowest >= 0 else lowest - 1.0  # below 0 only for |Gamma| > 1 (not passive)
     _shade_bands(ax, kind, bands, scale)
     for b in bands:
         if b.limit_return_loss_db is not None:
@@ -242,7 +253,7 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
         ax.plot(t.f_hz / scale, y, color=look["color"], linestyle=look["linestyle"], marker=look["marker"],
                 markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=_best_text(t, scale, unit),
                 gid=f"{kind}:trace:{t.label}")
-        yb = float(np.clip(t.return_loss_db[t.best], 0.0, 0.97 * top)) * sign
+        yb = float(np.clip(t.return_loss_db[t.best], bottom, 0.97 * top)) * sign
         ax.plot([t.f_hz[t.best] / scale], [yb], linestyle="none", marker="v" if sign > 0 else "^", markersize=8,
                 markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"{kind}:best:{t.label}")
         edges = [e for b in t.threshold_bands for e, clipped in ((b.f_low_hz, b.clipped_low), (b.f_high_hz, b.clipped_high))
@@ -253,14 +264,14 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
                     gid=f"{kind}:edges:{t.label}")
     ax.set_xlabel(f"Frequency ({unit})")
     if sign > 0:
-        ax.set_ylim(0.0, top)
+        ax.set_ylim(bottom, top)
         ax.set_ylabel("Return loss (dB, positive)\nRL = -20 log10|Γ|; higher is better")
         ax.set_title("Return loss (= -S11 dB)")
     else:
-        ax.set_ylim(-top, 0.0)
+        ax.set_ylim(-top, -bottom)
         ax.set_ylabel("S11 (dB) = -return loss\nlower is better")
         ax.set_title("S11 magnitude in dB (= -return loss)")
-    ax.set_xlim(min(t.f_hz[0] for t in traces) / scale, max(t.f_hz[-1] for t in traces) / scale)
+    _xlim(ax, traces, scale)
     _legend_below(ax)
 
 
@@ -285,7 +296,7 @@ def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float
         ax.plot([t.f_hz[t.best] / scale], [min(float(t.vswr[t.best]), top)], linestyle="none", marker="^", markersize=8,
                 markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"vswr:best:{t.label}")
     ax.set_ylim(1.0, top)
-    ax.set_xlim(min(t.f_hz[0] for t in traces) / scale, max(t.f_hz[-1] for t in traces) / scale)
+    _xlim(ax, traces, scale)
     ax.set_xlabel(f"Frequency ({unit})")
     ax.set_ylabel("VSWR (ratio); lower is better")
     ax.set_title("VSWR")
@@ -362,7 +373,7 @@ def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] 
     lo, hi = np.percentile(y, [1, 99])
     pad = 0.08 * (hi - lo + 1.0)
     ax.set_ylim(min(lo, 0.0) - pad, max(hi, traces[0].z0_ohm) + pad)
-    ax.set_xlim(min(t.f_hz[0] for t in traces) / scale, max(t.f_hz[-1] for t in traces) / scale)
+    _xlim(ax, traces, scale)
     ax.set_xlabel(f"Frequency ({unit})")
     ax.set_ylabel("Impedance (ohm): R solid, X dashed")
     ax.set_title("Impedance Z = R + jX (X > 0 inductive)")
