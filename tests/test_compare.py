@@ -7,6 +7,8 @@ import math
 import numpy as np
 import pytest
 from helpers import gamma_of, series_rlc_z
+from hypothesis import given
+from hypothesis import strategies as st
 
 from matchtool.compare import band_worst, compare, order_with_baseline
 from matchtool.errors import UsageError
@@ -111,3 +113,25 @@ def test_bad_inputs_raise():
         compare([], 10.0)
     with pytest.raises(UsageError):
         band_worst(np.array([1.0, 2.0]), np.array([0.1, 0.1]), [("x", 2.0, 1.0, None)])
+
+
+@given(st.lists(st.tuples(st.floats(-0.95, 0.95), st.floats(-0.95, 0.95)), min_size=3, max_size=40),
+       st.floats(0.0, 1.0), st.floats(0.0, 1.0), st.floats(0.0, 1.0))
+def test_worst_case_bounds_every_sample_and_grows_with_the_band(pts, a, b, c):
+    # Identities of a maximum: the worst |Gamma| over a band is at least every sample inside it, and a
+    # band containing another has a worst case at least as bad (interpolation is the same on both).
+    g = np.array([complex(x, y) for x, y in pts])
+    f = np.linspace(1e9, 2e9, g.size)
+    lo, hi = sorted((1e9 + 1e9 * a, 1e9 + 1e9 * b))
+    if hi - lo < 1e3:
+        return
+    mid = lo + (hi - lo) * c
+    inner_lo, inner_hi = sorted((mid, lo + (hi - lo) * (0.5 + c) / 2))
+    outer, inner = band_worst(f, g, [("o", lo, hi, None), ("i", inner_lo, max(inner_hi, inner_lo + 1.0), None)])
+    inside = np.abs(g[(f >= lo) & (f <= hi)])
+    rl_outer = outer.worst_return_loss_db
+    if inside.size:
+        assert rl_outer <= -20 * np.log10(inside.max()) + 1e-9
+    if inner.covered and inner.f_high_hz <= hi:
+        assert rl_outer <= inner.worst_return_loss_db + 1e-9
+    assert lo <= outer.worst_f_hz <= hi
