@@ -93,7 +93,7 @@ def test_errors_are_one_line_exit_2(cli, tmp_path):
         (("compare", r1, "--band", "928MHz:902MHz"), "928MHz:902MHz"),
         (("compare", r1, "--band", "a=902MHz:928MHz", "--band", "a=1GHz:1.01GHz"), "twice"),
         (("compare", r1, "--min-return-loss", "10", "--max-vswr", "2"), "only one"),
-        (("compare", r1, "--spec", tmp_path / "s.toml"), "--spec"),
+        (("compare", r1, "--spec", tmp_path / "s.toml"), "s.toml"),
     ]
     for args, must in cases:
         r = cli(*args)

@@ -114,7 +114,7 @@ def test_report_refusals_write_nothing(cli, tmp_path):
         (("report", r1, "--out", tmp_path / "x.pdf"), ".pdf"),
         (("report", r1, tmp_path / "gone.s1p", "--out", tmp_path / "y.html"), "gone.s1p"),
         (("report", r1, "--kind", "polar", "--out", tmp_path / "y.html"), "polar"),
-        (("report", r1, "--spec", tmp_path / "s.toml", "--out", tmp_path / "y.html"), "--spec"),
+        (("report", r1, "--spec", tmp_path / "s.toml", "--out", tmp_path / "y.html"), "s.toml"),
     ]
     for args, must in cases:
         res = cli(*args)

@@ -49,13 +49,24 @@ def parse_band_options(values: list[str] | None, limit_return_loss_db: float | N
 
 
 def spec_bands(path: str) -> list[BandSpec]:
-    """Bands and return-loss limits from a spec file, as ``(name, f_low_hz, f_high_hz, limit)``.
+    """Bands and limits of a spec file, as ``(name, f_low_hz, f_high_hz, min_return_loss_db)``.
 
-    The spec reader (``matchtool.spec``) is not part of this build yet; until it is, --spec is
-    refused with a clear message rather than read by a second, divergent parser.
+    Reads the file with the spec reader of ``matchtool check`` (``matchtool.spec``; every limit key
+    becomes the equivalent minimum return loss). Where that module is not part of the build, --spec
+    is refused with a clear message rather than read by a second, divergent parser.
     """
-    raise UsageError("--spec is not available in this build yet (the spec reader lands with 'matchtool check')",
-                     path=path, expected="--band LOW:HIGH with --min-return-loss, --max-vswr or --max-s11-db")
+    import importlib
+
+    try:
+        spec_module = importlib.import_module("matchtool.spec")
+    except ModuleNotFoundError as exc:
+        if exc.name != "matchtool.spec":
+            raise
+        raise UsageError("--spec is not available in this build (the spec reader comes with 'matchtool check')",
+                         path=path, expected="--band LOW:HIGH with --min-return-loss, --max-vswr or --max-s11-db"
+                         ) from None
+    spec = spec_module.load_spec(path)
+    return [(b.name, float(b.f_low_hz), float(b.f_high_hz), float(b.min_return_loss_db)) for b in spec.bands]
 
 
 def comparison_doc(c: Comparison) -> dict[str, Any]:
