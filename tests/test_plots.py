@@ -265,3 +265,9 @@ def test_non_passive_points_stay_on_the_axes_and_single_points_draw(tmp_path):
     a, b = fig.axes[0].get_xlim()
     assert a < 900.0 < b
     assert fig.axes[0].get_ylim()[0] == 0.0
+
+
+def test_trace_looks_do_not_repeat_within_three_rounds_of_the_palette():
+    looks = [plots._look(i) for i in range(18)]
+    combos = {(lk["color"], str(lk["linestyle"]), lk["marker"]) for lk in looks}
+    assert len(combos) == 18

@@ -179,9 +179,11 @@ def _style() -> dict[str, Any]:
 
 
 def _look(i: int) -> dict[str, Any]:
-    """Colour, dash pattern and marker of the i-th trace."""
-    return {"color": PALETTE[i % len(PALETTE)][1], "linestyle": DASHES[i % len(DASHES)],
-            "marker": MARKERS[i % len(MARKERS)]}
+    """Colour, dash pattern and marker of the i-th trace; after each round of six colours the
+    dashes and markers shift, so the 7th trace does not repeat the look of the 1st."""
+    k = i // len(PALETTE)
+    return {"color": PALETTE[i % len(PALETTE)][1], "linestyle": DASHES[(i + k) % len(DASHES)],
+            "marker": MARKERS[(i + 2 * k) % len(MARKERS)]}
 
 
 def _markevery(n: int) -> int:
