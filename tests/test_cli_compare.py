@@ -111,3 +111,28 @@ def test_compare_does_not_import_matplotlib(tmp_path):
         p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, check=True)
         rc, has_mpl = json.loads(p.stderr.strip().splitlines()[-1])
         assert rc == 0 and has_mpl is False, argv
+
+
+def test_spec_bands_gate_the_exit_status_band_options_do_not(cli, tmp_path, monkeypatch):
+    # The spec reader belongs to `matchtool check`; a minimal stand-in with its interface
+    # (load_spec(path).bands[i].name / f_low_hz / f_high_hz / min_return_loss_db) tests the adapter here.
+    import types
+
+    class Band:
+        def __init__(self, name, lo, hi, rl):
+            self.name, self.f_low_hz, self.f_high_hz, self.min_return_loss_db = name, lo, hi, rl
+
+    fake = types.ModuleType("matchtool.spec")
+    limits = {"loose.toml": 6.0, "tight.toml": 30.0}
+    fake.load_spec = lambda path: types.SimpleNamespace(bands=[Band("ism", 902e6, 928e6, limits[path.split("/")[-1]])])
+    monkeypatch.setitem(sys.modules, "matchtool.spec", fake)
+    r1, r2, _ = three(tmp_path)
+    r = cli("compare", r1, r2, "--spec", str(tmp_path / "loose.toml"), "--json")
+    assert r.code == 0, r.err
+    (b,) = r.json()["rows"][0]["bands"]
+    assert b["limit_return_loss_db"] == 6.0 and b["pass"] is True
+    r = cli("compare", r1, r2, "--spec", str(tmp_path / "tight.toml"), "--json")
+    assert r.code == 1 and r.json()["rows"][1]["bands"][0]["pass"] is False
+    # the same limit given as a --band threshold informs but does not gate
+    r = cli("compare", r1, r2, "--band", "902MHz:928MHz", "--min-return-loss", "30", "--json")
+    assert r.code == 0 and r.json()["rows"][1]["bands"][0]["pass"] is False
