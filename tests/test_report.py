@@ -142,6 +142,8 @@ def test_inline_svg_prefixes_ids_and_references():
     assert out.startswith("<svg") and "metadata" not in out and "purl.org" not in out
     assert 'id="f7-m1"' in out and 'xlink:href="#f7-m1"' in out and "url(#f7-c1)" in out
     assert 'id="m1"' not in out
+    quoted = h.inline_svg("<svg><g id='a\"b'/><use href='#a\"b'/></svg>", "p")
+    assert "id='p-a\"b'" in quoted and "href='#p-a\"b'" in quoted
 
 
 def test_table_escapes_every_cell():

@@ -28,7 +28,7 @@ defines the band that holds the best match, and is the limit applied to every --
 
 BandOpt = Annotated[list[str] | None, typer.Option(
     "--band", metavar="[NAME=]LOW:HIGH",
-    help="Band for worst-case return loss and mismatch loss (repeatable), e.g. 902MHz:928MHz or ism=902MHz:928MHz.")]
+    help="Band of interest (repeatable), e.g. 902MHz:928MHz or ism=902MHz:928MHz; the threshold is its limit.")]
 SpecOpt = Annotated[str | None, typer.Option(
     "--spec", metavar="FILE", help="Spec file (TOML) whose [[band]] tables give the bands and limits.")]
 

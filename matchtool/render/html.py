@@ -77,9 +77,9 @@ def bullet_list(items: Iterable[str], css_class: str = "") -> str:
 
 _XML_HEAD = re.compile(r"^\s*<\?xml[^>]*\?>\s*(<!DOCTYPE[^>]*>\s*)?", re.S)
 _METADATA = re.compile(r"<metadata>.*?</metadata>\s*", re.S)
-_ID = re.compile(r'\bid="([^"]+)"')
+_ID = re.compile(r"""\bid=(["'])(.+?)\1""")
 _URL_REF = re.compile(r"url\(#([^)]+)\)")
-_HREF_REF = re.compile(r'((?:xlink:)?href)="#([^"]+)"')
+_HREF_REF = re.compile(r"""((?:xlink:)?href)=(["'])#(.+?)\2""")
 
 
 def inline_svg(svg: str, prefix: str) -> str:
@@ -87,9 +87,9 @@ def inline_svg(svg: str, prefix: str) -> str:
     names external vocabularies), and prefix every id and reference with ``prefix`` so several
     figures on one page cannot collide."""
     s = _METADATA.sub("", _XML_HEAD.sub("", svg))
-    s = _ID.sub(lambda m: f'id="{prefix}-{m.group(1)}"', s)
+    s = _ID.sub(lambda m: f"id={m.group(1)}{prefix}-{m.group(2)}{m.group(1)}", s)
     s = _URL_REF.sub(lambda m: f"url(#{prefix}-{m.group(1)})", s)
-    s = _HREF_REF.sub(lambda m: f'{m.group(1)}="#{prefix}-{m.group(2)}"', s)
+    s = _HREF_REF.sub(lambda m: f"{m.group(1)}={m.group(2)}#{prefix}-{m.group(3)}{m.group(2)}", s)
     return s
 
 
