@@ -271,3 +271,19 @@ def test_trace_looks_do_not_repeat_within_three_rounds_of_the_palette():
     looks = [plots._look(i) for i in range(18)]
     combos = {(lk["color"], str(lk["linestyle"]), lk["marker"]) for lk in looks}
     assert len(combos) == 18
+
+
+def test_plotted_return_loss_agrees_with_scikit_rf(tmp_path):
+    # Reference library check: scikit-rf's own s_db of the loaded network is S11 in dB; our return-loss
+    # curve must be exactly its negative and our S11 curve equal to it.
+    from helpers import write_rlc
+
+    from matchtool.sweep import load
+
+    sw = load(write_rlc(tmp_path / "u.s1p", r_ohm=35.0))
+    t = plots.trace_from_sweep(sw, 10.0)
+    fig = plots.figure([t], ["return-loss", "s11-db"], 10.0)
+    s_db = sw.network.s_db[:, 0, 0]
+    np.testing.assert_allclose(by_gid(fig, "return-loss:trace:u.s1p").get_ydata(), -s_db, rtol=1e-12)
+    np.testing.assert_allclose(by_gid(fig, "s11-db:trace:u.s1p").get_ydata(), s_db, rtol=1e-12)
+    np.testing.assert_allclose(by_gid(fig, "return-loss:trace:u.s1p").get_xdata(), sw.network.frequency.f / 1e6)

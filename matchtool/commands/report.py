@@ -283,4 +283,7 @@ def register(app: typer.Typer) -> None:
         page = build_page(ctx, title or f"Antenna match report: {', '.join(labels)}")
         atomic_write(out, h.render_page(page), force=force)
         warn(ctx.comparison.warnings)
-        return 0
+        # Exit 1 when a spec band failed for some file (the page is still written); --band limits inform.
+        first_spec = len(band or [])
+        failed = any(w.passed is False for r in ctx.comparison.rows for w in r.bands[first_spec:])
+        return 1 if (spec is not None and failed) else 0
