@@ -165,7 +165,7 @@ def test_svg_keeps_labels_as_text():
     fig = plots.figure([rlc_trace("rev_a.s1p")], ["return-loss", "smith"], 10.0, [plots.BandMask("ism", 902e6, 928e6, 10.0)])
     svg = plots.figure_bytes(fig, "svg").decode()
     for text in ("Return loss (dB, positive)", "Frequency (MHz)", "rev_a.s1p", "ism", "Smith chart",
-                 "threshold RL 10.0 dB"):
+                 "threshold RL 10.0 dB", "RL &gt;= 10.0 dB"):
         assert text in svg, text
     assert "<dc:date>" not in svg  # no time stamp: the same input draws the same file
     assert plots.figure_bytes(fig, "png")[:8] == b"\x89PNG\r\n\x1a\n"

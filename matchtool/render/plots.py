@@ -220,13 +220,18 @@ def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -
                     color="#333333")
 
 
-def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float) -> None:
-    """Limit segment across the band plus the forbidden region (hatched) between it and ``floor``."""
+def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float, text: str) -> None:
+    """Limit segment across the band plus the forbidden region (hatched) between it and ``floor``,
+    labelled with ``text`` on the allowed side."""
     x = np.array([b.f_low_hz, b.f_high_hz]) / scale
     ax.fill_between(x, [limit, limit], [floor, floor], facecolor="none", edgecolor=MASK_COLOR, hatch="///",
                     linewidth=0.0, zorder=1, gid=f"{kind}:maskfill:{b.name}")
     ax.plot(x, [limit, limit], color=MASK_COLOR, linewidth=2.4, solid_capstyle="butt", zorder=4,
             gid=f"{kind}:mask:{b.name}")
+    above = floor < limit
+    ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
+                ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6,
+                bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
 
 
 def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, bands: Sequence[BandMask] = (),
@@ -244,7 +249,9 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     _shade_bands(ax, kind, bands, scale)
     for b in bands:
         if b.limit_return_loss_db is not None:
-            _mask(ax, kind, b, scale, sign * b.limit_return_loss_db, 0.0)
+            lim = b.limit_return_loss_db
+            _mask(ax, kind, b, scale, sign * lim, 0.0,
+                  f"RL >= {lim:.1f} dB" if sign > 0 else f"S11 <= {-lim:.1f} dB")
     ax.axhline(sign * threshold_return_loss_db, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.1,
                zorder=2, gid=f"{kind}:threshold",
                label=(f"threshold RL {threshold_return_loss_db:.1f} dB" if sign > 0
@@ -288,7 +295,7 @@ def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float
     for b in bands:
         if b.limit_return_loss_db is not None:
             lim = float(rf.vswr(rf.gamma_mag_from_return_loss(b.limit_return_loss_db)))
-            _mask(ax, "vswr", b, scale, lim, top)
+            _mask(ax, "vswr", b, scale, lim, top, f"VSWR <= {lim:.2f}")
     ax.axhline(thr_v, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.1, zorder=2,
                gid="vswr:threshold", label=f"threshold VSWR {thr_v:.2f} (RL {threshold_return_loss_db:.1f} dB)")
     for i, t in enumerate(traces):
