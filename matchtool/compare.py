@@ -11,7 +11,6 @@ limit_return_loss_db)`` tuples, so any source of bands (``--band`` options, a sp
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
@@ -234,7 +233,3 @@ def band_name(f_low_hz: float, f_high_hz: float) -> str:
         return f"{x / 1e6:.6g}"
     return f"{mhz(f_low_hz)}-{mhz(f_high_hz)} MHz"
 
-
-def is_finite(x: float | None) -> bool:
-    """True for a finite number (not None, inf or NaN)."""
-    return x is not None and math.isfinite(x)
