@@ -1,0 +1,187 @@
+"""``matchtool compare SWEEP SWEEP...``: revisions side by side with deltas against a baseline."""
+
+from __future__ import annotations
+
+from typing import Annotated, Any
+
+import typer
+
+from ..compare import BandSpec, Comparison, band_name, compare, order_with_baseline
+from ..errors import UsageError
+from ..summary import threshold_from_options
+from ..sweep import load
+from ..units import parse_band
+from .common import JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, console, emit_json, fmt, warn
+
+EPILOG = """Examples:
+
+  matchtool compare ant_r1.s1p ant_r2.s1p ant_r3.s1p --band 902MHz:928MHz
+
+  matchtool compare r2.s1p r3.s1p --baseline r1.s1p --band ism=902MHz:928MHz --band lte=824MHz:849MHz
+
+  matchtool compare r1.s1p r2.s1p --max-vswr 2 --json
+
+Deltas are each file minus the baseline (the first file, or --baseline). The threshold
+(--min-return-loss, --max-vswr or --max-s11-db; default return loss 10 dB, i.e. S11 -10 dB)
+defines the band that holds the best match, and is the limit applied to every --band.
+"""
+
+BandOpt = Annotated[list[str] | None, typer.Option(
+    "--band", metavar="[NAME=]LOW:HIGH",
+    help="Band of interest (repeatable), e.g. 902MHz:928MHz or ism=902MHz:928MHz; the threshold is its limit.")]
+SpecOpt = Annotated[str | None, typer.Option(
+    "--spec", metavar="FILE", help="Spec file (TOML) whose [[band]] tables give the bands and limits.")]
+
+
+def parse_band_options(values: list[str] | None, limit_return_loss_db: float | None) -> list[BandSpec]:
+    """``[NAME=]LOW:HIGH`` options -> ``(name, f_low_hz, f_high_hz, limit)`` tuples (duplicate names refused)."""
+    out: list[BandSpec] = []
+    for v in values or []:
+        name, sep, rest = v.partition("=")
+        if not sep:
+            name, rest = "", v
+        lo, hi = parse_band(rest)
+        name = name.strip() or band_name(lo, hi)
+        if any(b[0] == name for b in out):
+            raise UsageError(f"--band {v!r}: the name {name!r} is given twice", expected="distinct band names")
+        out.append((name, lo, hi, limit_return_loss_db))
+    return out
+
+
+def spec_bands(path: str) -> list[BandSpec]:
+    """Bands and limits of a spec file, as ``(name, f_low_hz, f_high_hz, min_return_loss_db)``.
+
+    Reads the file with the spec reader of ``matchtool check`` (``matchtool.spec``; every limit key
+    becomes the equivalent minimum return loss). Where that module is not part of the build, --spec
+    is refused with a clear message rather than read by a second, divergent parser.
+    """
+    import importlib
+
+    try:
+        spec_module = importlib.import_module("matchtool.spec")
+    except ModuleNotFoundError as exc:
+        if exc.name != "matchtool.spec":
+            raise
+        raise UsageError("--spec is not available in this build (the spec reader comes with 'matchtool check')",
+                         path=path, expected="--band LOW:HIGH with --min-return-loss, --max-vswr or --max-s11-db"
+                         ) from None
+    spec = spec_module.load_spec(path)
+    return [(b.name, float(b.f_low_hz), float(b.f_high_hz), float(b.min_return_loss_db)) for b in spec.bands]
+
+
+def comparison_doc(c: Comparison) -> dict[str, Any]:
+    """The ``compare --json`` document (contract keys plus per-band worst cases and verdicts)."""
+    rows = []
+    for r in c.rows:
+        b = r.band
+        rows.append({
+            "file": r.file, "baseline": r.is_baseline, "best_f_hz": r.best_f_hz,
+            "best_return_loss_db": r.best_return_loss_db, "best_s11_db": -r.best_return_loss_db,
+            "bandwidth_hz": r.bandwidth_hz,
+            "band": None if b is None else {"f_low_hz": b.f_low_hz, "f_high_hz": b.f_high_hz,
+                                            "clipped_low": b.clipped_low, "clipped_high": b.clipped_high},
+            "delta_best_f_hz": r.delta_best_f_hz, "delta_bandwidth_hz": r.delta_bandwidth_hz,
+            "bands": [{"name": w.name, "f_low_hz": w.f_low_hz, "f_high_hz": w.f_high_hz, "covered": w.covered,
+                       "limit_return_loss_db": w.limit_return_loss_db,
+                       "worst_return_loss_db": w.worst_return_loss_db, "worst_s11_db": w.worst_s11_db,
+                       "worst_f_hz": w.worst_f_hz, "worst_mismatch_loss_db": w.worst_mismatch_loss_db,
+                       "margin_db": w.margin_db, "pass": w.passed, "samples": w.samples,
+                       "delta_worst_return_loss_db": d, "reason": w.reason or None}
+                      for w, d in zip(r.bands, r.delta_worst_return_loss_db, strict=True)],
+        })
+    return {"baseline": c.baseline, "threshold_return_loss_db": c.threshold_return_loss_db, "rows": rows,
+            "band_verdicts": [{"name": v.name, "f_low_hz": v.f_low_hz, "f_high_hz": v.f_high_hz,
+                               "limit_return_loss_db": v.limit_return_loss_db, "best_file": v.best_file,
+                               "best_worst_return_loss_db": v.best_worst_return_loss_db,
+                               "passing_files": v.passing_files, "uncovered_files": v.uncovered_files,
+                               "verdict": v.sentence()} for v in c.verdicts],
+            "warnings": list(c.warnings)}
+
+
+def _signed(x: float | None, scale: float, digits: int) -> str:
+    return "n/a" if x is None else f"{x / scale:+.{digits}f}"
+
+
+def _display_names(paths: list[str]) -> list[str]:
+    """File names for a table: the base name when that is unambiguous, else the path."""
+    from pathlib import Path
+
+    base = [Path(p).name for p in paths]
+    return base if len(set(base)) == len(base) else list(paths)
+
+
+def render_comparison(c: Comparison) -> None:
+    """Terminal view of a Comparison (frequencies in MHz, losses in positive dB)."""
+    from rich.table import Table
+
+    thr = c.threshold_return_loss_db
+    con = console()
+    names = _display_names([r.file for r in c.rows])
+    t = Table(title=f"Revisions against {names[0]} (d = this minus the baseline); band = return loss >= "
+                    f"{thr:.2f} dB (S11 <= {-thr:.2f} dB) around the best match",
+              title_justify="left", show_edge=False)
+    for col in ("file", "best MHz", "RL dB", "band MHz", "width MHz", "d best MHz", "d width MHz"):
+        t.add_column(col, justify="left" if col in ("file", "band MHz") else "right", no_wrap=True)
+    for name, r in zip(names, c.rows, strict=True):
+        b = r.band
+        if b is None:
+            band, width = "misses threshold", "n/a"
+        else:
+            band = f"{b.f_low_hz / 1e6:.3f}-{b.f_high_hz / 1e6:.3f}"
+            width = ("> " if b.clipped_low or b.clipped_high else "") + f"{b.bandwidth_hz / 1e6:.3f}"
+        t.add_row(name + (" (base)" if r.is_baseline else ""), f"{r.best_f_hz / 1e6:.3f}", fmt(r.best_return_loss_db),
+                  band, width, _signed(r.delta_best_f_hz, 1e6, 3), _signed(r.delta_bandwidth_hz, 1e6, 3))
+    con.print(t)
+    for k, v in enumerate(c.verdicts):
+        lim = "" if v.limit_return_loss_db is None else f", limit return loss {v.limit_return_loss_db:.2f} dB"
+        bt = Table(title=f"Band {v.name}: {v.f_low_hz / 1e6:.6g} to {v.f_high_hz / 1e6:.6g} MHz{lim}",
+                   title_justify="left", show_edge=False)
+        for col in ("file", "worst RL dB", "d RL dB", "at MHz", "mismatch dB", "margin dB", "verdict"):
+            bt.add_column(col, justify="left" if col in ("file", "verdict") else "right", no_wrap=True)
+        for name, r in zip(names, c.rows, strict=True):
+            w, d = r.bands[k], r.delta_worst_return_loss_db[k]
+            if not w.covered:
+                bt.add_row(name, "n/a", "n/a", "n/a", "n/a", "n/a", "not covered" if w.passed is None else "FAIL (not covered)")
+                continue
+            verdict = "" if w.passed is None else ("pass" if w.passed else "FAIL")
+            bt.add_row(name, fmt(w.worst_return_loss_db), _signed(d, 1.0, 2), f"{w.worst_f_hz / 1e6:.3f}",
+                       fmt(w.worst_mismatch_loss_db, 3), "n/a" if w.margin_db is None else f"{w.margin_db:+.2f}",
+                       verdict)
+        con.print(bt)
+    for v in c.verdicts:
+        con.print(v.sentence(dict(zip([r.file for r in c.rows], names, strict=True))))
+
+
+def register(app: typer.Typer) -> None:
+    @app.command("compare", epilog=EPILOG)
+    def compare_cmd(
+        sweeps: Annotated[list[str], typer.Argument(metavar="SWEEP...", help="Touchstone files, in revision order.",
+                                                    show_default=False)],
+        baseline: Annotated[str | None, typer.Option(
+            "--baseline", metavar="FILE", help="Sweep to compare against (default: the first SWEEP).")] = None,
+        band: BandOpt = None,
+        spec: SpecOpt = None,
+        port: PortOpt = 1,
+        z0: Z0Opt = None,
+        min_return_loss: MinRLOpt = None,
+        max_vswr: MaxVswrOpt = None,
+        max_s11_db: MaxS11Opt = None,
+        json_out: JsonOpt = False,
+    ) -> int:
+        """Revisions side by side: best match, threshold band, per-band worst case, deltas to the baseline."""
+        thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
+        bands = parse_band_options(band, thr)
+        if spec is not None:
+            bands += spec_bands(spec)
+        paths = order_with_baseline(sweeps, baseline)
+        loaded = [load(p, port=port, z0_ohm=z0) for p in paths]
+        c = compare(loaded, thr, bands)
+        if json_out:
+            emit_json(comparison_doc(c))
+        else:
+            render_comparison(c)
+            warn(c.warnings)
+        # Exit 1 only for a spec file's requirement; --band limits inform and do not gate.
+        n_spec = len(bands) - len(band or [])
+        failed = any(w.passed is False for r in c.rows for w in r.bands[len(bands) - n_spec:])
+        return 1 if (spec is not None and failed) else 0

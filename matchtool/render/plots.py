@@ -1,0 +1,437 @@
+"""Every picture matchtool draws: return loss or S11 dB, VSWR, Smith chart and impedance panels.
+
+This is the only module that imports matplotlib, and only inside its drawing functions, so
+importing it costs nothing. Figures are built on ``matplotlib.figure.Figure`` with the Agg canvas
+(no pyplot state, no display needed) and are returned so callers and tests can inspect them.
+
+Data flow: :func:`trace_from_sweep` turns a Sweep into a :class:`Trace` (plain arrays, computed by
+the core reflection functions); the drawing functions only place those arrays. Artists that tests
+or readers look for carry a ``gid``: ``<panel>:threshold``, ``<panel>:band:<name>``,
+``<panel>:mask:<name>``, ``<panel>:trace:<label>``, ``<panel>:best:<label>``,
+``<panel>:edges:<label>``, ``smith:bandedge:<name>:<label>``.
+
+Sign conventions: return loss is positive dB (RL = -20 log10 |Gamma|, higher is better); S11 in dB
+is its negative (lower is better). Axis labels state which one is drawn.
+
+Palette: our own six colours, chosen so their luminance steps apart (readable in greyscale) and
+paired with distinct dash patterns and markers, so no trace relies on hue alone (colour-blind
+readers); chosen by us, no source.
+"""
+
+from __future__ import annotations
+
+import io
+import sys
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from .. import reflection as rf
+from ..bands import Band, find_bands
+from ..errors import UsageError
+from ..summary import best_index
+from ..sweep import Sweep
+
+if TYPE_CHECKING:  # pragma: no cover
+    from matplotlib.axes import Axes
+    from matplotlib.figure import Figure
+
+KINDS = ("return-loss", "s11-db", "vswr", "smith", "impedance")
+FORMATS = ("png", "svg", "pdf")
+
+# name, hex colour, in the order traces take them. CIE L* (lightness): 22, 74, 40, 58, 31, 80 - the
+# first traces differ most in grey; every colour also has its own dash pattern and marker.
+PALETTE = (
+    ("ink", "#1d2f6f"),
+    ("ochre", "#e0b030"),
+    ("brick", "#a83a24"),
+    ("pine", "#3a9a7a"),
+    ("plum", "#7a2a5a"),
+    ("sky", "#8fd0f0"),
+)
+DASHES = ("-", (0, (6, 2)), (0, (1.5, 1.5)), (0, (6, 2, 1.5, 2)), (0, (3, 1.2)), (0, (8, 2, 1.5, 2, 1.5, 2)))
+MARKERS = ("o", "s", "^", "D", "v", "P")
+BAND_FILL = "#e4e4e4"  # light grey: band spans stay visible when printed in black and white
+MASK_COLOR = "#222222"
+THRESHOLD_COLOR = "#555555"
+RL_CAP_DB = 60.0  # a return loss above this (or infinite) is drawn at the top of the axis
+
+
+@dataclass(frozen=True)
+class Trace:
+    """One sweep ready to draw: ``f_hz`` (Hz), complex ``gamma``, reference ``z0_ohm``, the
+    threshold bands it meets (Hz) and the index of its best (smallest |Gamma|) sample."""
+
+    label: str
+    f_hz: np.ndarray
+    gamma: np.ndarray
+    z0_ohm: float
+    threshold_bands: list[Band]
+    best: int
+
+    @property
+    def return_loss_db(self) -> np.ndarray:
+        return rf.return_loss_db(self.gamma)
+
+    @property
+    def s11_db(self) -> np.ndarray:
+        return rf.s11_db(self.gamma)
+
+    @property
+    def vswr(self) -> np.ndarray:
+        return rf.vswr(self.gamma)
+
+    @property
+    def z_ohm(self) -> np.ndarray:
+        return rf.impedance_ohm(self.gamma, self.z0_ohm)
+
+
+@dataclass(frozen=True)
+class BandMask:
+    """A band to shade (Hz) and, when ``limit_return_loss_db`` is set, its limit drawn as a mask."""
+
+    name: str
+    f_low_hz: float
+    f_high_hz: float
+    limit_return_loss_db: float | None = None
+
+
+def trace_from_sweep(sweep: Sweep, threshold_return_loss_db: float, label: str | None = None) -> Trace:
+    """Prepare a Sweep for drawing (threshold in positive dB of return loss)."""
+    f, g = sweep.f_hz, sweep.gamma
+    return Trace(label=label or sweep.name, f_hz=np.asarray(f, dtype=float), gamma=np.asarray(g, dtype=complex),
+                 z0_ohm=sweep.z0_ohm, threshold_bands=find_bands(f, rf.return_loss_db(g), threshold_return_loss_db),
+                 best=best_index(g))
+
+
+def legend_labels(paths: Sequence[str]) -> list[str]:
+    """Legend labels from file names: the base name, or the whole path where base names collide."""
+    from pathlib import Path
+
+    names = [Path(p).name for p in paths]
+    return [n if names.count(n) == 1 else str(p) for n, p in zip(names, paths, strict=True)]
+
+
+def frequency_unit(f_hz: np.ndarray | Sequence[float]) -> tuple[float, str]:
+    """The axis unit that fits a frequency range: ``(scale, name)``, e.g. ``(1e6, 'MHz')``.
+
+    GHz once the top of the range reaches 10 GHz, or reaches 1 GHz with a span of at least 1 GHz
+    (2.4-2.5 GHz reads better as 2400-2500 MHz); kHz below 1 MHz; Hz below 1 kHz.
+    """
+    f = np.asarray(f_hz, dtype=float)
+    top, span = float(np.max(f)), float(np.max(f) - np.min(f))
+    if top >= 10e9 or (top >= 1e9 and span >= 1e9):
+        return 1e9, "GHz"
+    if top >= 1e6:
+        return 1e6, "MHz"
+    if top >= 1e3:
+        return 1e3, "kHz"
+    return 1.0, "Hz"
+
+
+def parse_kinds(values: Sequence[str] | None) -> list[str]:
+    """``--kind`` values (repeatable, or comma-separated) -> a list of panel kinds, in order."""
+    out: list[str] = []
+    for v in values or ["return-loss"]:
+        for k in (x.strip().lower() for x in str(v).split(",")):
+            if not k:
+                continue
+            if k not in KINDS:
+                raise UsageError(f"unknown plot kind {k!r}", key="--kind", expected=", ".join(KINDS))
+            if k not in out:
+                out.append(k)
+    if not out:
+        raise UsageError("no plot kind given", key="--kind", expected=", ".join(KINDS))
+    return out
+
+
+def output_format(path: str) -> str:
+    """The picture format from the output file's extension (png, svg or pdf), else UsageError."""
+    from pathlib import Path
+
+    ext = Path(path).suffix.lower().lstrip(".")
+    if ext not in FORMATS:
+        raise UsageError(f"unknown picture extension {('.' + ext) if ext else '(none)'!r}", path=path,
+                         expected="a file name ending in .png, .svg or .pdf")
+    return ext
+
+
+# --- matplotlib from here on (imported lazily) ---------------------------------------------------
+
+def _mpl():
+    import matplotlib
+
+    if "matplotlib.pyplot" not in sys.modules:
+        matplotlib.use("Agg", force=True)
+    return matplotlib
+
+
+def _style() -> dict[str, Any]:
+    return {
+        "font.size": 9.0, "axes.titlesize": 10.0, "axes.labelsize": 9.0, "legend.fontsize": 8.0,
+        "axes.spines.top": False, "axes.spines.right": False, "axes.grid": True, "grid.color": "#c8c8c8",
+        "grid.linewidth": 0.6, "grid.linestyle": "-", "axes.edgecolor": "#333333", "axes.axisbelow": True,
+        "lines.linewidth": 1.6, "svg.fonttype": "none", "svg.hashsalt": "matchtool", "hatch.linewidth": 0.7,
+        "figure.dpi": 100, "savefig.dpi": 150, "pdf.fonttype": 42,
+    }
+
+
+def _look(i: int) -> dict[str, Any]:
+    """Colour, dash pattern and marker of the i-th trace; after each round of six colours the
+    dashes and markers shift, so the 7th trace does not repeat the look of the 1st."""
+    k = i // len(PALETTE)
+    return {"color": PALETTE[i % len(PALETTE)][1], "linestyle": DASHES[(i + k) % len(DASHES)],
+            "marker": MARKERS[(i + 2 * k) % len(MARKERS)]}
+
+
+def _markevery(n: int) -> int:
+    return max(1, n // 8)
+
+
+def _best_text(t: Trace, scale: float, unit: str) -> str:
+    rl = float(t.return_loss_db[t.best])
+    rl_s = "inf" if not np.isfinite(rl) else f"{rl:.1f}"
+    return f"{t.label} (best {t.f_hz[t.best] / scale:.4g} {unit}, RL {rl_s} dB)"
+
+
+def _xlim(ax: Axes, traces: Sequence[Trace], scale: float) -> None:
+    """Frequency axis over all sweeps; a single-frequency sweep gets +-1 % around its point."""
+    lo = min(float(t.f_hz[0]) for t in traces) / scale
+    hi = max(float(t.f_hz[-1]) for t in traces) / scale
+    if hi <= lo:
+        lo, hi = lo * 0.99, hi * 1.01
+    ax.set_xlim(lo, hi)
+
+
+def _legend_below(ax: Axes, gap: float = 0.13) -> None:
+    """Legend under the axes (``gap`` in axes fractions), so it never hides a curve."""
+    n = len(ax.get_legend_handles_labels()[1])
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
+
+
+def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -> None:
+    for b in bands:
+        ax.axvspan(b.f_low_hz / scale, b.f_high_hz / scale, facecolor=BAND_FILL, edgecolor="none", zorder=0,
+                   gid=f"{kind}:band:{b.name}")
+        ax.annotate(b.name, xy=((b.f_low_hz + b.f_high_hz) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
+                    xytext=(0, -2), textcoords="offset points", ha="center", va="top", fontsize=7.5,
+                    color="#333333")
+
+
+def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float, text: str) -> None:
+    """Limit segment across the band plus the forbidden region (hatched) between it and ``floor``,
+    labelled with ``text`` on the allowed side."""
+    x = np.array([b.f_low_hz, b.f_high_hz]) / scale
+    ax.fill_between(x, [limit, limit], [floor, floor], facecolor="none", edgecolor=MASK_COLOR, hatch="///",
+                    linewidth=0.0, zorder=1, gid=f"{kind}:maskfill:{b.name}")
+    ax.plot(x, [limit, limit], color=MASK_COLOR, linewidth=2.4, solid_capstyle="butt", zorder=4,
+            gid=f"{kind}:mask:{b.name}")
+    above = floor < limit
+    ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
+                ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6,
+                bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+
+
+def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, bands: Sequence[BandMask] = (),
+            convention: str = "return-loss") -> None:
+    """Return loss (positive dB, ``convention='return-loss'``) or S11 dB (``'s11-db'``) against
+    frequency, with the threshold line, shaded bands with their limit masks, the threshold-band
+    edges of each trace and its best sample."""
+    kind = convention
+    sign = 1.0 if convention == "return-loss" else -1.0
+    scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
+    finite = np.concatenate([t.return_loss_db[np.isfinite(t.return_loss_db)] for t in traces] + [np.array([0.0])])
+    top = float(min(RL_CAP_DB, max(threshold_return_loss_db + 10.0, np.max(finite) + 3.0)))
+    lowest = float(np.min(finite))
+    bottom = 0.0 if lowest >= 0 else lowest - 1.0  # below 0 only for |Gamma| > 1 (not passive)
+    _shade_bands(ax, kind, bands, scale)
+    for b in bands:
+        if b.limit_return_loss_db is not None:
+            lim = b.limit_return_loss_db
+            _mask(ax, kind, b, scale, sign * lim, 0.0,
+                  f"RL >= {lim:.1f} dB" if sign > 0 else f"S11 <= {-lim:.1f} dB")
+    ax.axhline(sign * threshold_return_loss_db, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.1,
+               zorder=2, gid=f"{kind}:threshold",
+               label=(f"threshold RL {threshold_return_loss_db:.1f} dB" if sign > 0
+                      else f"threshold S11 {-threshold_return_loss_db:.1f} dB"))
+    for i, t in enumerate(traces):
+        look = _look(i)
+        y = sign * t.return_loss_db
+        ax.plot(t.f_hz / scale, y, color=look["color"], linestyle=look["linestyle"], marker=look["marker"],
+                markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=_best_text(t, scale, unit),
+                gid=f"{kind}:trace:{t.label}")
+        yb = float(np.clip(t.return_loss_db[t.best], bottom, 0.97 * top)) * sign
+        ax.plot([t.f_hz[t.best] / scale], [yb], linestyle="none", marker="v" if sign > 0 else "^", markersize=8,
+                markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"{kind}:best:{t.label}")
+        edges = [e for b in t.threshold_bands for e, clipped in ((b.f_low_hz, b.clipped_low), (b.f_high_hz, b.clipped_high))
+                 if not clipped]
+        if edges:
+            ax.plot(np.array(edges) / scale, np.full(len(edges), sign * threshold_return_loss_db), linestyle="none",
+                    marker="|", markersize=11, markeredgewidth=2.0, color=look["color"], zorder=5,
+                    gid=f"{kind}:edges:{t.label}")
+    ax.set_xlabel(f"Frequency ({unit})")
+    if sign > 0:
+        ax.set_ylim(bottom, top)
+        ax.set_ylabel("Return loss (dB, positive)\nRL = -20 log10|Γ|; higher is better")
+        ax.set_title("Return loss (= -S11 dB)")
+    else:
+        ax.set_ylim(-top, -bottom)
+        ax.set_ylabel("S11 (dB) = -return loss\nlower is better")
+        ax.set_title("S11 magnitude in dB (= -return loss)")
+    _xlim(ax, traces, scale)
+    _legend_below(ax)
+
+
+def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float,
+              bands: Sequence[BandMask] = ()) -> None:
+    """VSWR against frequency (infinite VSWR drawn at the top of the axis), threshold and masks."""
+    scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
+    thr_v = float(rf.vswr(rf.gamma_mag_from_return_loss(threshold_return_loss_db)))
+    finite = np.concatenate([t.vswr[np.isfinite(t.vswr)] for t in traces] + [np.array([1.0])])
+    top = float(min(10.0, max(2.0 * thr_v, np.max(finite) * 1.05)))
+    _shade_bands(ax, "vswr", bands, scale)
+    for b in bands:
+        if b.limit_return_loss_db is not None:
+            lim = float(rf.vswr(rf.gamma_mag_from_return_loss(b.limit_return_loss_db)))
+            _mask(ax, "vswr", b, scale, lim, top, f"VSWR <= {lim:.2f}")
+    ax.axhline(thr_v, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.1, zorder=2,
+               gid="vswr:threshold", label=f"threshold VSWR {thr_v:.2f} (RL {threshold_return_loss_db:.1f} dB)")
+    for i, t in enumerate(traces):
+        look = _look(i)
+        ax.plot(t.f_hz / scale, t.vswr, color=look["color"], linestyle=look["linestyle"], marker=look["marker"],
+                markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=t.label, gid=f"vswr:trace:{t.label}")
+        ax.plot([t.f_hz[t.best] / scale], [min(float(t.vswr[t.best]), top)], linestyle="none", marker="^", markersize=8,
+                markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"vswr:best:{t.label}")
+    ax.set_ylim(1.0, top)
+    _xlim(ax, traces, scale)
+    ax.set_xlabel(f"Frequency ({unit})")
+    ax.set_ylabel("VSWR (ratio); lower is better")
+    ax.set_title("VSWR")
+    _legend_below(ax)
+
+
+def _gamma_at(t: Trace, f_hz: float) -> complex | None:
+    if not (t.f_hz[0] <= f_hz <= t.f_hz[-1]):
+        return None
+    return complex(np.interp(f_hz, t.f_hz, t.gamma.real) + 1j * np.interp(f_hz, t.f_hz, t.gamma.imag))
+
+
+def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float,
+               bands: Sequence[BandMask] = ()) -> None:
+    """Impedance Smith chart (scikit-rf's grid) of Gamma, the threshold circle |Gamma| = const,
+    markers at each band's edges (interpolated in complex Gamma) and at each trace's best sample.
+    Without bands, the edges of each trace's threshold bands are marked instead."""
+    import skrf.plotting
+
+    skrf.plotting.smith(ax=ax, chart_type="z", draw_labels=True)
+    g_thr = float(rf.gamma_mag_from_return_loss(threshold_return_loss_db))
+    phi = np.linspace(0, 2 * np.pi, 361)
+    ax.plot(g_thr * np.cos(phi), g_thr * np.sin(phi), color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)),
+            linewidth=1.1, gid="smith:threshold", label=f"|Γ| = {g_thr:.3f} (RL {threshold_return_loss_db:.1f} dB)")
+    scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
+    for i, t in enumerate(traces):
+        look = _look(i)
+        ax.plot(t.gamma.real, t.gamma.imag, color=look["color"], linestyle=look["linestyle"], linewidth=1.5,
+                label=t.label, gid=f"smith:trace:{t.label}")
+        gb = t.gamma[t.best]
+        ax.plot([gb.real], [gb.imag], linestyle="none", marker="*", markersize=10, markerfacecolor=look["color"],
+                markeredgecolor="black", zorder=5, gid=f"smith:best:{t.label}")
+        marks: list[tuple[str, float]] = []
+        if bands:
+            marks = [(b.name, f) for b in bands for f in (b.f_low_hz, b.f_high_hz)]
+        else:
+            marks = [(f"band{k + 1}", f) for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
+        for name in dict.fromkeys(m[0] for m in marks):
+            pts = [(f, _gamma_at(t, f)) for n, f in marks if n == name]
+            pts = [(f, g) for f, g in pts if g is not None]
+            if not pts:
+                continue
+            ax.plot([g.real for _, g in pts], [g.imag for _, g in pts], linestyle="none", marker=look["marker"],
+                    markersize=6.5, markerfacecolor="white", markeredgecolor=look["color"], markeredgewidth=1.6,
+                    zorder=6, gid=f"smith:bandedge:{name}:{t.label}")
+            if i == 0:
+                for f, g in pts:
+                    ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(5, 4), textcoords="offset points",
+                                fontsize=7, color="#222222")
+    ax.set_title(f"Smith chart (impedance, Z0 = {traces[0].z0_ohm:g} ohm); markers: band edges in {unit}")
+    _legend_below(ax, 0.06)
+
+
+def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] = ()) -> None:
+    """Series resistance R (solid) and reactance X (dashed) in ohms against frequency, with the
+    reference impedance and X = 0 drawn as guides."""
+    scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
+    _shade_bands(ax, "impedance", bands, scale)
+    ax.axhline(traces[0].z0_ohm, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.0,
+               gid="impedance:z0", label=f"R = Z0 = {traces[0].z0_ohm:g} ohm")
+    ax.axhline(0.0, color="#888888", linewidth=0.8, gid="impedance:zero")
+    ys = []
+    for i, t in enumerate(traces):
+        look = _look(i)
+        z = t.z_ohm
+        me = _markevery(t.f_hz.size)
+        ax.plot(t.f_hz / scale, z.real, color=look["color"], linestyle="-", marker=look["marker"], markersize=3.5,
+                markevery=me, label=f"{t.label} R", gid=f"impedance:r:{t.label}")
+        ax.plot(t.f_hz / scale, z.imag, color=look["color"], linestyle=(0, (5, 2)), marker=look["marker"],
+                markersize=3.5, markevery=me, markerfacecolor="white", label=f"{t.label} X",
+                gid=f"impedance:x:{t.label}")
+        ys.append(np.concatenate([z.real[np.isfinite(z.real)], z.imag[np.isfinite(z.imag)]]))
+    y = np.concatenate(ys + [np.array([0.0, traces[0].z0_ohm])])
+    lo, hi = np.percentile(y, [1, 99])
+    pad = 0.08 * (hi - lo + 1.0)
+    ax.set_ylim(min(lo, 0.0) - pad, max(hi, traces[0].z0_ohm) + pad)
+    _xlim(ax, traces, scale)
+    ax.set_xlabel(f"Frequency ({unit})")
+    ax.set_ylabel("Impedance (ohm): R solid, X dashed")
+    ax.set_title("Impedance Z = R + jX (X > 0 inductive)")
+    _legend_below(ax)
+
+
+def figure(traces: Sequence[Trace], kinds: Sequence[str], threshold_return_loss_db: float,
+           bands: Sequence[BandMask] = (), title: str | None = None) -> Figure:
+    """Build one Figure with a panel per kind (``KINDS``), in order; returns the Figure."""
+    if not traces:
+        raise UsageError("nothing to plot", expected="at least one sweep")
+    kinds = parse_kinds(kinds)
+    _mpl()
+    from matplotlib import rc_context
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    n = len(kinds)
+    cols = 1 if n == 1 else 2
+    rows = (n + cols - 1) // cols
+    with rc_context(_style()):
+        fig = Figure(figsize=(7.2 * cols, 5.0 * rows), layout="constrained")
+        FigureCanvasAgg(fig)
+        for k, kind in enumerate(kinds):
+            ax = fig.add_subplot(rows, cols, k + 1)
+            ax.set_gid(f"panel:{kind}")
+            if kind in ("return-loss", "s11-db"):
+                draw_db(ax, traces, threshold_return_loss_db, bands, kind)
+            elif kind == "vswr":
+                draw_vswr(ax, traces, threshold_return_loss_db, bands)
+            elif kind == "smith":
+                draw_smith(ax, traces, threshold_return_loss_db, bands)
+            else:
+                draw_impedance(ax, traces, bands)
+        if title:
+            fig.suptitle(title, fontsize=11)
+    return fig
+
+
+def figure_bytes(fig: Figure, fmt: str) -> bytes:
+    """Render a Figure to PNG, SVG or PDF bytes (SVG keeps text as text; no date stamps)."""
+    if fmt not in FORMATS:
+        raise UsageError(f"unknown picture format {fmt!r}", expected=", ".join(FORMATS))
+    _mpl()
+    from matplotlib import rc_context
+
+    meta = {"png": {"Software": "matchtool"}, "svg": {"Date": None, "Creator": "matchtool"},
+            "pdf": {"CreationDate": None, "Creator": "matchtool"}}[fmt]
+    buf = io.BytesIO()
+    with rc_context(_style()):
+        fig.savefig(buf, format=fmt, metadata=meta)
+    return buf.getvalue()

@@ -1,0 +1,167 @@
+"""render/html.py and `matchtool report`: one self-contained page with the metrics, plots and hashes."""
+
+from __future__ import annotations
+
+import hashlib
+import re
+from html.parser import HTMLParser
+
+import pytest
+from helpers import write_rlc
+
+import matchtool
+from matchtool.render import html as h
+
+
+class Tags(HTMLParser):
+    """Collects every start tag with its attributes (a real HTML parser, not regexes)."""
+
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.tags: list[tuple[str, dict[str, str]]] = []
+        self.text: list[str] = []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append((tag, {k: v or "" for k, v in attrs}))
+
+    handle_startendtag = handle_starttag
+
+    def handle_data(self, data):
+        self.text.append(data)
+
+
+def parse(text: str) -> Tags:
+    p = Tags()
+    p.feed(text)
+    p.close()
+    return p
+
+
+def assert_self_contained(text: str) -> Tags:
+    p = parse(text)
+    names = [t for t, _ in p.tags]
+    assert "link" not in names and "script" not in names and "iframe" not in names and "object" not in names
+    for tag, attrs in p.tags:
+        for k, v in attrs.items():
+            if k in ("src",):
+                assert v.startswith("data:"), (tag, k, v[:60])
+            if k in ("href", "xlink:href"):
+                assert v.startswith("#"), (tag, k, v)
+            if k.startswith("xmlns"):
+                continue  # namespace names, never fetched
+            assert not re.search(r"(?i)\b(https?|ftp):|//[a-z0-9.-]+\.[a-z]{2,}/", v), (tag, k, v[:80])
+    body = re.sub(r'\sxmlns(:\w+)?="[^"]*"', "", text)
+    assert not re.search(r"(?i)https?://", body)
+    assert "@import" not in text and not re.search(r"url\((?!#)", text)
+    return p
+
+
+def make_report(cli, tmp_path, *extra, monkeypatch=None):
+    r1 = write_rlc(tmp_path / "r1.s1p", f0_hz=900e6, lo_hz=800e6, hi_hz=1030e6, n=461)
+    r2 = write_rlc(tmp_path / "r2.s1p", f0_hz=915e6, lo_hz=800e6, hi_hz=1030e6, n=461)
+    out = tmp_path / "bench.html"
+    r = cli("report", r1, r2, "--band", "ism=902MHz:928MHz", "--out", out, *extra)
+    return r, out, (r1, r2)
+
+
+def test_report_is_self_contained_with_metrics_plots_and_hashes(cli, tmp_path, monkeypatch):
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")  # 2026-01-01 00:00:00 UTC
+    r, out, (r1, r2) = make_report(cli, tmp_path)
+    assert r.code == 0, r.err
+    text = out.read_text(encoding="utf-8")
+    p = assert_self_contained(text)
+    assert text.startswith("<!DOCTYPE html>") and "<style>" in text
+    words = " ".join(p.text)
+    for f in (r1, r2):  # SHA-256 of the bytes, computed here independently
+        assert hashlib.sha256(f.read_bytes()).hexdigest() in words
+        assert str(f) in words
+    assert "2026-01-01 00:00:00 UTC" in words and f"matchtool {matchtool.__version__}" in words
+    # metrics: resonances on the 0.5 MHz grid -> best match exactly there
+    assert "900.000 MHz" in words and "915.000 MHz" in words
+    assert "+15.000" in words  # resonance shift r2 - r1 in MHz
+    # four inline SVG plots with their labels kept as text
+    svgs = [t for t, _ in p.tags if t == "svg"]
+    assert len(svgs) == 4
+    for label in ("Return loss (dB, positive)", "VSWR", "Smith chart", "Impedance", "Frequency (MHz)", "ism",
+                  "r1.s1p", "r2.s1p"):
+        assert label in words, label
+    for sid in ("summary", "sweeps", "compare", "plots", "traceability"):
+        assert f'<section id="{sid}">' in text
+    # ids are unique on the page and every internal reference resolves
+    ids = [a["id"] for _, a in p.tags if "id" in a]
+    assert len(ids) == len(set(ids))
+    refs = set(re.findall(r"url\(#([^)]+)\)", text)) | {a.get("xlink:href", a.get("href", ""))[1:]
+                                                         for _, a in p.tags if a.get("xlink:href", a.get("href"))}
+    assert refs <= set(ids)
+
+
+def test_report_escapes_file_names(cli, tmp_path):
+    odd = write_rlc(tmp_path / "a<b>&x.s1p")
+    out = tmp_path / "r.html"
+    r = cli("report", odd, "--kind", "return-loss", "--out", out)
+    assert r.code == 0, r.err
+    text = out.read_text()
+    assert "<b>" not in text and "a&lt;b&gt;&amp;x.s1p" in text
+    assert_self_contained(text)
+
+
+def test_report_refusals_write_nothing(cli, tmp_path):
+    r, out, (r1, _) = make_report(cli, tmp_path)
+    assert r.code == 0
+    before = out.read_bytes()
+    cases = [
+        (("report", r1, "--out", out), "--force"),
+        (("report", r1, "--out", tmp_path / "x.pdf"), ".pdf"),
+        (("report", r1, tmp_path / "gone.s1p", "--out", tmp_path / "y.html"), "gone.s1p"),
+        (("report", r1, "--kind", "polar", "--out", tmp_path / "y.html"), "polar"),
+        (("report", r1, "--spec", tmp_path / "s.toml", "--out", tmp_path / "y.html"), "s.toml"),
+    ]
+    for args, must in cases:
+        res = cli(*args)
+        assert res.code == 2 and len(res.err_lines) == 1 and must in res.err, (args, res.err)
+    assert out.read_bytes() == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["bench.html", "r1.s1p", "r2.s1p"]
+    assert cli("report", r1, "--out", out, "--force").code == 0 and out.read_bytes() != before
+
+
+def test_sections_are_ordered_and_extensible():
+    secs = [h.Section("traceability", "T", ""), h.Section("plots", "P", ""), h.Section("summary", "S", ""),
+            h.Section("spec", "Spec", ""), h.Section("extra", "X", ""), h.Section("budget", "B", "")]
+    assert [s.id for s in h.ordered(secs)] == ["summary", "spec", "plots", "budget", "extra", "traceability"]
+    with pytest.raises(ValueError):
+        h.ordered([h.Section("a", "A", ""), h.Section("a", "A2", "")])
+    page = h.render_page(h.Page("T <1>", "sub", secs))
+    assert "<title>T &lt;1&gt;</title>" in page and '<a href="#spec">Spec</a>' in page
+
+
+def test_inline_svg_prefixes_ids_and_references():
+    svg = ('<?xml version="1.0"?>\n<!DOCTYPE svg PUBLIC "-//W3C//DTD SVG 1.1//EN" "x.dtd">\n'
+           '<svg xmlns="http://www.w3.org/2000/svg"><metadata><rdf:RDF about="http://purl.org/x"/></metadata>'
+           '<defs><path id="m1"/><clipPath id="c1"/></defs><use xlink:href="#m1"/><g clip-path="url(#c1)"/></svg>')
+    out = h.inline_svg(svg, "f7")
+    assert out.startswith("<svg") and "metadata" not in out and "purl.org" not in out
+    assert 'id="f7-m1"' in out and 'xlink:href="#f7-m1"' in out and "url(#f7-c1)" in out
+    assert 'id="m1"' not in out
+    quoted = h.inline_svg("<svg><g id='a\"b'/><use href='#a\"b'/></svg>", "p")
+    assert "id='p-a\"b'" in quoted and "href='#p-a\"b'" in quoted
+
+
+def test_table_escapes_every_cell():
+    t = h.table(["a<", "b"], [["<script>", 1.5]], [False, True])
+    assert "<script>" not in t and "&lt;script&gt;" in t and '<td class="num">1.5</td>' in t
+
+
+def test_report_exit_status_follows_spec_bands(cli, tmp_path, monkeypatch):
+    # Stand-in for the spec reader of `matchtool check` (same interface), to test the exit status here.
+    import sys
+    import types
+
+    band = types.SimpleNamespace(name="ism", f_low_hz=902e6, f_high_hz=928e6, min_return_loss_db=40.0)
+    fake = types.ModuleType("matchtool.spec")
+    fake.load_spec = lambda path: types.SimpleNamespace(bands=[band])
+    monkeypatch.setitem(sys.modules, "matchtool.spec", fake)
+    r1 = write_rlc(tmp_path / "r1.s1p")
+    out = tmp_path / "r.html"
+    r = cli("report", r1, "--spec", tmp_path / "s.toml", "--kind", "return-loss", "--out", out)
+    assert r.code == 1 and out.exists()  # failing spec: still written, exit 1
+    assert "FAIL" in out.read_text() and "limit return loss 40.00 dB" in out.read_text()
