@@ -548,7 +548,7 @@ def design_at(sweep: Sweep, f0_hz: float, series: str = "E24", q: PartQ = PartQ(
     z0 = _z0(sweep)
     g0 = complex(gamma_at_many(sweep.f_hz, sweep.gamma, np.array([f0_hz]), sweep.path)[0])
     zl = complex(impedance_ohm(g0, z0))
-    if not (abs(g0) < 1):
+    if not (abs(g0) < 1 - LOSSLESS_TOL):
         raise NoSolutionError(f"the load at {f0_hz / 1e6:.6g} MHz has |Gamma| = {abs(g0):.4f} >= 1 "
                               "(no resistance to match)", path=sweep.path, expected="a lossy passive load")
     nets = synthesize_at(zl, f0_hz, z0, single_part_rl_db=threshold_db)
@@ -562,6 +562,7 @@ def design_at(sweep: Sweep, f0_hz: float, series: str = "E24", q: PartQ = PartQ(
 
 
 MIN_BAND_SAMPLES = 3
+LOSSLESS_TOL = 1e-9  # |Gamma| within this of 1 counts as a lossless (unmatchable) load
 
 
 def _optimise(net: LNetwork, fb: np.ndarray, gb: np.ndarray, z0: float, q: PartQ, bounds: ValueBounds) -> LNetwork:
@@ -604,18 +605,21 @@ def design_for_band(sweep: Sweep, f_low_hz: float, f_high_hz: float, series: str
         raise UsageError(f"band {f_low_hz / 1e6:.6g} to {f_high_hz / 1e6:.6g} MHz holds only {inside} measured "
                          f"sample(s) (sweep step {step / 1e6:.4g} MHz)", path=sweep.path,
                          expected=f"a band holding at least {MIN_BAND_SAMPLES} samples, or --at FREQ")
+    if not np.any(np.abs(gb) < 1 - LOSSLESS_TOL):
+        raise NoSolutionError("the load has no resistance anywhere in the band (|Gamma| = 1), nothing to match",
+                              path=sweep.path, expected="a lossy passive load")
     f0 = 0.5 * (f_low_hz + f_high_hz)
     starts = np.linspace(f_low_hz, f_high_hz, max(start_points, 1)) if start_points > 1 else np.array([f0])
     gs = gamma_at_many(sweep.f_hz, sweep.gamma, starts, sweep.path)
     seeds: list[LNetwork] = []
     for fs, g in zip(starts, gs, strict=True):
-        if abs(g) >= 1:
+        if abs(g) >= 1 - LOSSLESS_TOL:
             continue
         for n in synthesize_at(complex(impedance_ohm(g, z0)), float(fs), z0, single_part_rl_db=None):
             seeds.append(n)
     # single parts: cancel the reactance (series) or susceptance (shunt) at the centre
     gc = complex(gamma_at_many(sweep.f_hz, sweep.gamma, np.array([f0]), sweep.path)[0])
-    if abs(gc) < 1:
+    if abs(gc) < 1 - LOSSLESS_TOL:
         zc = complex(impedance_ohm(gc, z0))
         for s in (_single("series", "series", -zc.imag, f0), _single("shunt", "shunt", -(1 / zc).imag, f0)):
             if s:
