@@ -577,6 +577,7 @@ def design_at(sweep: Sweep, f0_hz: float, series: str = "E24", q: PartQ = PartQ(
 
 
 MIN_BAND_SAMPLES = 3
+ROUGH_FIT = 0.1  # relative rms misfit of the resonator model above which the bound is flagged
 LOSSLESS_TOL = 1e-9  # |Gamma| within this of 1 counts as a lossless (unmatchable) load
 
 
@@ -670,6 +671,9 @@ def design_for_band(sweep: Sweep, f_low_hz: float, f_high_hz: float, series: str
     bound = bode_fano_bound(fb[ok], zb[ok], f_low_hz, f_high_hz) if ok.sum() >= MIN_BAND_SAMPLES else None
     if bound is None:
         warnings.append(f"{sweep.path}: no resonator model fits the band; Bode-Fano bound not given")
+    elif bound.fit_rms_rel > ROUGH_FIT:
+        warnings.append(f"{sweep.path}: the {bound.model} model fits the band only roughly "
+                        f"({100 * bound.fit_rms_rel:.0f} % rms); the Bode-Fano bound is indicative")
     return _finish(sweep, nets, fb, gb, f0, f_low_hz, f_high_hz, series, q, bounds, threshold_db, yield_settings,
                    bound, warnings, max_candidates)
 

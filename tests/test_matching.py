@@ -275,21 +275,24 @@ def test_bounds_are_respected_and_too_tight_bounds_refuse():
         m.design_at(sw, 915e6, bounds=m.ValueBounds(1e-9, 2e-9, 1e-6, 2e-6))
 
 
-@pytest.mark.parametrize("kind", ["series", "parallel"])
-def test_no_l_network_beats_bode_fano(kind):
+@pytest.mark.parametrize("kind, q_load, r_ohm, lo, hi", [
+    ("series", 12.0, 50.0, 870e6, 960e6),
+    ("parallel", 12.0, 150.0, 870e6, 960e6),
+    ("series", 4.0, 15.0, 800e6, 1030e6),
+    ("parallel", 25.0, 400.0, 900e6, 930e6),
+    ("series", 30.0, 8.0, 905e6, 925e6),
+])
+def test_no_l_network_beats_bode_fano(kind, q_load, r_ohm, lo, hi):
     # Pozar 4th ed. sec. 5.9, eqs. 5.79-5.80: no lossless network beats the bound on an RLC load
-    f0, q_load = 915e6, 12.0
+    f0 = 915e6
     if kind == "series":
-        r_ohm = 50.0
         l_h = q_load * r_ohm / (W * f0)
         z_fn = lambda f: series_rlc_z(f, r_ohm, l_h, f0)  # noqa: E731
     else:
-        r_ohm = 150.0
         c_f = q_load / (W * f0 * r_ohm)
         l_h = 1 / ((W * f0) ** 2 * c_f)
         z_fn = lambda f: 1 / (1 / r_ohm + 1j * W * f * c_f + 1 / (1j * W * f * l_h))  # noqa: E731
     sw = _sweep(z_fn)
-    lo, hi = 870e6, 960e6
     r = m.design_for_band(sw, lo, hi, series="exact")
     assert r.bound is not None and r.bound.model == f"{kind} RLC"
     assert r.bound.fit_rms_rel < 1e-6
@@ -298,6 +301,36 @@ def test_no_l_network_beats_bode_fano(kind):
     b = (hi - lo) / f0
     approx_db = -20 * math.log10(math.exp(-math.pi / (q_load * b)))
     assert r.bound.best_return_loss_db == pytest.approx(approx_db, rel=0.05)
+
+
+def test_band_optimum_agrees_with_a_brute_force_grid():
+    # independent minimax: a dense grid over both part values of each shape found
+    sw = _sweep(lambda f: series_rlc_z(f, 12.0, 25e-9, 850e6), n=401)
+    lo, hi = 860e6, 960e6
+    r = m.design_for_band(sw, lo, hi, series="exact")
+    from matchtool.bands import band_samples
+    fb, gb = band_samples(sw.f_hz, sw.gamma, lo, hi)
+    for c in r.candidates:
+        if len(c.elements) != 2:
+            continue
+        a = np.exp(np.linspace(-1.0, 1.0, 161))
+        v0 = c.elements[0].value * a[:, None, None]
+        v1 = c.elements[1].value * a[None, :, None]
+        g = m.evaluate(fb, gb, 50.0, [(e.kind, e.connection) for e in c.elements], [v0, v1]).gamma_in
+        grid_best = float(-20 * np.log10(np.abs(g).max(axis=-1).min()))
+        assert c.worst_return_loss_db >= grid_best - 0.05
+
+
+def test_renormalised_system_impedance_is_matched():
+    # matching goes to the system impedance: with a 75 ohm system the exact parts null Gamma at 75 ohm
+    f = np.linspace(800e6, 1000e6, 201)
+    sw = sweep_from_arrays(f, gamma_of(series_rlc_z(f, 30.0, 20e-9, 900e6), 50.0), 50.0, z0_ohm=75.0)
+    assert sw.z0_ohm == 75.0
+    r = m.design_at(sw, 900e6, series="exact")
+    zl = complex(series_rlc_z(np.array([900e6]), 30.0, 20e-9, 900e6)[0])
+    for c in r.candidates:
+        if len(c.elements) == 2:
+            assert abs(_gin_exact(m.LNetwork(c.topology, c.elements), zl, 900e6, 75.0)) < 1e-6
 
 
 def test_yield_is_seeded_vectorised_and_matches_a_loop():
