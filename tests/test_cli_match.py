@@ -122,3 +122,23 @@ def test_errors_are_one_line_exit_2(cli, tmp_path, args, word):
     assert len(r.err_lines) == 1 and r.err_lines[0].startswith("error:")
     assert word in r.err_lines[0]
     assert "Traceback" not in r.err
+
+
+def test_schematic_order_radio_left_antenna_right():
+    from matchtool.commands.match import schematic
+    from matchtool.matching import Element
+
+    text = schematic((Element("inductor", "series", 39e-9), Element("capacitor", "shunt", 0.92e-12)), 100.0)
+    top = text.splitlines()[0]
+    assert top.startswith("RADIO 100 ohm") and top.endswith("ANTENNA")
+    assert top.index("L1 39 nH") < top.index("+")  # series part toward the radio, shunt at the antenna
+    lines = text.splitlines()
+    col = top.index("+")
+    assert lines[1][col] == "|" and "C2 0.92 pF" in lines[2]
+    assert lines[-1].strip() == "GND"
+
+
+def test_negative_seed_refused(cli, tmp_path):
+    p = _ant(tmp_path)
+    r = cli("match", p, "--band", "902MHz:928MHz", "--tolerance", "5%", "--seed", "-1")
+    assert r.code == 2 and "seed" in r.err_lines[0]

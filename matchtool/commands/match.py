@@ -149,9 +149,24 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
     }
 
 
+def part_value_text(e: mt.Element, digits: int = 3) -> str:
+    """A part value as printed on the bench: pF / nF / uF for capacitors, nH / uH for inductors."""
+    if e.kind == "capacitor":
+        scales = ((1e-6, "uF"), (1e-9, "nF"), (0.0, "pF"))
+        base = 1e-12
+    else:
+        scales = ((1e-6, "uH"), (0.0, "nH"))
+        base = 1e-9
+    for lim, unit in scales:
+        if e.value >= lim * 0.9995:
+            scale = {"uF": 1e-6, "nF": 1e-9, "pF": 1e-12, "uH": 1e-6, "nH": 1e-9}[unit]
+            return f"{e.value / scale:.{digits}g} {unit}"
+    return f"{e.value / base:.{digits}g}"
+
+
 def _label(e: mt.Element, i: int) -> str:
     sym = "L" if e.kind == "inductor" else "C"
-    return f"{sym}{i} {format_value_si(e.value, e.unit)}"
+    return f"{sym}{i} {part_value_text(e)}"
 
 
 def schematic(elements: tuple[mt.Element, ...], z0_ohm: float) -> str:
@@ -207,7 +222,7 @@ def render(r: mt.MatchResult) -> None:
         left = col in ("topology", "parts, radio -> antenna", "DC / filter")
         t.add_column(col, justify="left" if left else "right", no_wrap=left)
     for i, cand in enumerate(r.candidates, start=1):
-        parts = ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {format_value_si(e.value, e.unit)}"
+        parts = ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}"
                           for e in cand.elements)
         bands = "; ".join(f"{b.f_low_hz / 1e6:.1f}-{b.f_high_hz / 1e6:.1f}" for b in cand.bands) or "none"
         row = [str(i), cand.topology, parts, fmt(cand.worst_return_loss_db), fmt(cand.return_loss_at_f0_db),
@@ -288,6 +303,8 @@ def register(app: typer.Typer) -> None:
         tc = parse_percent(tolerance_c, "--tolerance-capacitor")
         ys = None
         if tol is not None or tl is not None or tc is not None:
+            if seed < 0:
+                raise UsageError(f"--seed {seed}", expected="a seed of 0 or more")
             if trials < 1 or trials > 10_000_000:
                 raise UsageError(f"--trials {trials}", expected="a number of builds from 1 to 10000000")
             ys = mt.YieldSettings(tl if tl is not None else (tol or 0.0), tc if tc is not None else (tol or 0.0),
