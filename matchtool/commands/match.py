@@ -211,11 +211,11 @@ def render(r: mt.MatchResult) -> None:
     c.print(f"[bold]{escape(r.path)}[/bold]  matching to {r.z0_ohm:g} ohm {tgt}; values {r.series}, "
             f"Q(L) {fmt(r.q.inductor, 0)}, Q(C) {fmt(r.q.capacitor, 0)}")
     c.print(f"Before: worst return loss {fmt(r.before_worst_return_loss_db)} dB "
-            f"(S11 {fmt(-r.before_worst_return_loss_db)} dB), at centre {fmt(r.before_return_loss_at_f0_db)} dB")
+            f"(S11 {fmt(-r.before_worst_return_loss_db)} dB), at {ff(r.f0_hz)} {fmt(r.before_return_loss_at_f0_db)} dB")
     t = Table(title=f"Candidates, ranked by {r.rank_by}; parts radio side first", title_justify="left",
               show_edge=False)
     cols = ["#", "topology", "parts, radio -> antenna", "worst RL dB", "RL f0 dB", "loss dB", "worst deliv.",
-            "DC / filter", f"{r.threshold_return_loss_db:g} dB band(s) MHz"]
+            "DC / filter"]
     if r.yield_settings is not None:
         cols.append("yield")
     for col in cols:
@@ -224,14 +224,19 @@ def render(r: mt.MatchResult) -> None:
     for i, cand in enumerate(r.candidates, start=1):
         parts = ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}"
                           for e in cand.elements)
-        bands = "; ".join(f"{b.f_low_hz / 1e6:.1f}-{b.f_high_hz / 1e6:.1f}" for b in cand.bands) or "none"
         row = [str(i), cand.topology, parts, fmt(cand.worst_return_loss_db), fmt(cand.return_loss_at_f0_db),
                fmt(cand.network_loss_db, 3), f"{100 * cand.worst_delivered_fraction:.1f} %",
-               f"{'passes DC' if cand.passes_dc else 'no DC'}, {cand.filter}", bands]
+               f"{'passes DC' if cand.passes_dc else 'no DC'}, {cand.filter}"]
         if r.yield_settings is not None:
             row.append("n/a" if cand.yield_fraction is None else f"{100 * cand.yield_fraction:.1f} %")
         t.add_row(*[escape(x) for x in row])
     c.print(t)
+    c.print(f"Bands with return loss >= {r.threshold_return_loss_db:g} dB on the matched sweep:")
+    for i, cand in enumerate(r.candidates, start=1):
+        bands = ", ".join(f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)}"
+                          + (" (runs past the sweep)" if b.clipped_low or b.clipped_high else "")
+                          for b in cand.bands) or "none"
+        c.print(f"  #{i}: {escape(bands)}")
     if r.candidates:
         best = r.candidates[0]
         c.print("\nBest network (solder from the radio side):")
