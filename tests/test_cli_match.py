@@ -142,3 +142,26 @@ def test_negative_seed_refused(cli, tmp_path):
     p = _ant(tmp_path)
     r = cli("match", p, "--band", "902MHz:928MHz", "--tolerance", "5%", "--seed", "-1")
     assert r.code == 2 and "seed" in r.err_lines[0]
+
+
+def test_lossy_parts_written_network_is_lossy_and_cascades(cli, tmp_path):
+    p = _ant(tmp_path)
+    net, mat = tmp_path / "net.s2p", tmp_path / "m.s1p"
+    r = cli("match", p, "--band", "902MHz:928MHz", "--q-inductor", "25", "--q-capacitor", "100",
+            "--write-network", net, "--write-matched", mat, "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    d = [c["worst_delivered_fraction"] for c in doc["candidates"]]
+    assert d == sorted(d, reverse=True)  # ranked by delivered power, which includes part losses
+    n2, n1, ant = skrf.Network(str(net)), skrf.Network(str(mat)), skrf.Network(str(p))
+    power = np.abs(n2.s[:, 0, 0]) ** 2 + np.abs(n2.s[:, 1, 0]) ** 2
+    assert np.all(power < 1) and np.all(power > 0.9)
+    assert np.allclose((n2 ** ant).s[:, 0, 0], n1.s[:, 0, 0], atol=1e-9)
+    # network loss at the band centre from the written 2-port: P_in / P_antenna
+    k = int(np.argmin(np.abs(n2.f - 915e6)))
+    s = n2.s[k]
+    gl = ant.s[k, 0, 0]
+    gin = s[0, 0] + s[0, 1] * s[1, 0] * gl / (1 - s[1, 1] * gl)
+    delivered = np.abs(s[1, 0]) ** 2 * (1 - abs(gl) ** 2) / abs(1 - s[1, 1] * gl) ** 2
+    loss_db = 10 * np.log10((1 - abs(gin) ** 2) / delivered)
+    assert 0 < loss_db <= doc["candidates"][0]["network_loss_db"] + 1e-9

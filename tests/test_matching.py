@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 import skrf
 from helpers import gamma_of, series_rlc_z
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 from skrf.media import DefinedGammaZ0
 
@@ -371,3 +371,25 @@ def test_reactive_load_has_no_solution():
         m.design_at(sw, 915e6)
     with pytest.raises(NoSolutionError):
         m.design_for_band(sw, 902e6, 928e6)
+
+
+@settings(max_examples=15, deadline=None)
+@given(r_ohm=st.floats(5.0, 300.0), q_load=st.floats(2.0, 40.0), f0=st.floats(860e6, 980e6),
+       bw=st.floats(5e6, 120e6), parallel=st.booleans())
+def test_band_design_properties_on_random_rlc(r_ohm, q_load, f0, bw, parallel):
+    # identities on any RLC load: the band result is no worse over the band than the exact match at the
+    # centre, and no L-network beats the Bode-Fano bound (Pozar 4th ed. sec. 5.9)
+    if parallel:
+        c_f = q_load / (W * f0 * r_ohm)
+        l_h = 1 / ((W * f0) ** 2 * c_f)
+        z_fn = lambda f: 1 / (1 / r_ohm + 1j * W * f * c_f + 1 / (1j * W * f * l_h))  # noqa: E731
+    else:
+        z_fn = lambda f: series_rlc_z(f, r_ohm, q_load * r_ohm / (W * f0), f0)  # noqa: E731
+    sw = _sweep(z_fn, n=801)
+    lo, hi = 915e6 - bw / 2, 915e6 + bw / 2
+    band = m.design_for_band(sw, lo, hi, series="exact")
+    spot = m.design_at(sw, 915e6, series="exact")
+    best_spot = max(_worst_rl(sw, c.elements, lo, hi) for c in spot.candidates)
+    assert band.candidates[0].worst_return_loss_db >= best_spot - 0.05
+    assert band.bound is not None
+    assert band.candidates[0].worst_return_loss_db <= band.bound.best_return_loss_db + 1e-9
