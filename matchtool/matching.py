@@ -28,8 +28,8 @@ import numpy as np
 
 from . import eseries
 from .bands import Band, band_samples, find_bands
-from .errors import NoSolutionError, OutOfRangeError, UsageError
-from .reflection import gamma_from_impedance, impedance_ohm, return_loss_db
+from .errors import NoSolutionError, UsageError
+from .reflection import impedance_ohm, return_loss_db
 from .sweep import Sweep, gamma_at_many
 
 TWO_PI = 2.0 * math.pi
@@ -406,6 +406,13 @@ class YieldSettings:
     trials: int = 2000
     seed: int = 1
 
+    def __post_init__(self) -> None:
+        for name, t in (("inductor tolerance", self.tolerance_l), ("capacitor tolerance", self.tolerance_c)):
+            if not (0 <= t < 1):
+                raise UsageError(f"{name} {t!r}", expected="a fraction from 0 to below 1 (0.05 for 5 %)")
+        if self.trials < 1 or self.seed < 0:
+            raise UsageError(f"{self.trials} trials with seed {self.seed}", expected="1 or more trials, a seed >= 0")
+
 
 @dataclass
 class MatchResult:
@@ -684,12 +691,7 @@ def gamma_matched(sweep: Sweep, elements: Sequence[Element], q: PartQ = PartQ())
     return evaluate(sweep.f_hz, sweep.gamma, _z0(sweep), pattern, [e.value for e in elements], q).gamma_in
 
 
-def load_gamma(z_load_ohm: np.ndarray, z0_ohm: float) -> np.ndarray:
-    """Reflection of a load impedance at ``z0_ohm`` (convenience for library users)."""
-    return gamma_from_impedance(z_load_ohm, z0_ohm)
-
-
 __all__ = ["Element", "PartQ", "ValueBounds", "LNetwork", "Response", "Candidate", "MatchResult", "YieldSettings",
            "BodeFanoBound", "synthesize_at", "evaluate", "abcd", "s_parameters", "passes_dc", "filter_character",
            "bode_fano_bound", "design_at", "design_for_band", "gamma_matched", "element_from_reactance",
-           "part_impedance", "OutOfRangeError"]
+           "part_impedance", "unit_impedance"]
