@@ -685,6 +685,24 @@ def design_for_band(sweep: Sweep, f_low_hz: float, f_high_hz: float, series: str
                    bound, warnings, max_candidates)
 
 
+def network_2port(f_hz: np.ndarray, elements: Sequence[Element], z0_ohm: float, q: PartQ = PartQ(),
+                  name: str = "matching network"):
+    """The ladder as an ``skrf.Network`` 2-port (port 1 radio, port 2 antenna) at ``z0_ohm``."""
+    import skrf
+
+    freq = skrf.Frequency.from_f(np.asarray(f_hz, dtype=float), unit="Hz")
+    return skrf.Network(frequency=freq, s=s_parameters(f_hz, elements, z0_ohm, q), z0=z0_ohm, name=name)
+
+
+def matched_network(sweep: Sweep, elements: Sequence[Element], q: PartQ = PartQ()):
+    """The antenna seen through the network, as an ``skrf.Network`` 1-port at the sweep's Z0."""
+    import skrf
+
+    freq = skrf.Frequency.from_f(sweep.f_hz, unit="Hz")
+    g = gamma_matched(sweep, elements, q)
+    return skrf.Network(frequency=freq, s=g.reshape(-1, 1, 1), z0=_z0(sweep), name=f"{sweep.name} matched")
+
+
 def gamma_matched(sweep: Sweep, elements: Sequence[Element], q: PartQ = PartQ()) -> np.ndarray:
     """Gamma seen by the radio over the whole sweep with the network in place (at the sweep's Z0)."""
     pattern = tuple((e.kind, e.connection) for e in elements)
@@ -694,4 +712,4 @@ def gamma_matched(sweep: Sweep, elements: Sequence[Element], q: PartQ = PartQ())
 __all__ = ["Element", "PartQ", "ValueBounds", "LNetwork", "Response", "Candidate", "MatchResult", "YieldSettings",
            "BodeFanoBound", "synthesize_at", "evaluate", "abcd", "s_parameters", "passes_dc", "filter_character",
            "bode_fano_bound", "design_at", "design_for_band", "gamma_matched", "element_from_reactance",
-           "part_impedance", "unit_impedance"]
+           "part_impedance", "unit_impedance", "network_2port", "matched_network"]

@@ -393,3 +393,23 @@ def test_band_design_properties_on_random_rlc(r_ohm, q_load, f0, bw, parallel):
     assert band.candidates[0].worst_return_loss_db >= best_spot - 0.05
     assert band.bound is not None
     assert band.candidates[0].worst_return_loss_db <= band.bound.best_return_loss_db + 1e-9
+
+
+def test_skrf_capacitor_q_is_not_constant_q_but_ours_is():
+    # scikit-rf 2.2 behaviour (measured, references.md): capacitor_q's Q scales with frequency
+    freq = skrf.Frequency(500, 2000, 4, "MHz")
+    media = DefinedGammaZ0(freq, z0=50)
+    z = media.capacitor_q(C=2e-12, f_0=1e9, q_factor=50).a[:, 0, 1]
+    q_skrf = np.abs(z.imag) / z.real
+    assert q_skrf[1] == pytest.approx(50) and q_skrf[3] == pytest.approx(100)
+    ours = m.part_impedance("capacitor", 2e-12, W * freq.f, 50.0)
+    assert np.allclose(np.abs(ours.imag) / ours.real, 50.0)
+
+
+def test_skrf_network_helpers_cascade():
+    f = np.linspace(850e6, 950e6, 51)
+    sw = sweep_from_arrays(f, gamma_of(series_rlc_z(f, 20.0, 30e-9, 880e6)), 50.0)
+    els = (m.Element("capacitor", "shunt", 4.3e-12), m.Element("inductor", "series", 2e-9))
+    q = m.PartQ(40, 200)
+    net = m.network_2port(f, els, 50.0, q)
+    assert np.allclose((net ** sw.network).s[:, 0, 0], m.matched_network(sw, els, q).s[:, 0, 0], atol=1e-12)
