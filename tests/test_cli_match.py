@@ -165,3 +165,17 @@ def test_lossy_parts_written_network_is_lossy_and_cascades(cli, tmp_path):
     delivered = np.abs(s[1, 0]) ** 2 * (1 - abs(gl) ** 2) / abs(1 - s[1, 1] * gl) ** 2
     loss_db = 10 * np.log10((1 - abs(gin) ** 2) / delivered)
     assert 0 < loss_db <= doc["candidates"][0]["network_loss_db"] + 1e-9
+
+
+def test_z0_option_matches_to_the_system_impedance(cli, tmp_path):
+    p = _ant(tmp_path)
+    mat = tmp_path / "m75.s1p"
+    r = cli("match", p, "--at", "915MHz", "--series", "exact", "--z0", "75", "--write-matched", mat, "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["z0_ohm"] == 75.0
+    n1 = skrf.Network(str(mat))
+    assert np.allclose(n1.z0, 75.0)
+    # the exact network nulls Gamma at 75 ohm at f0 (interpolated between the written samples)
+    g = np.interp(915e6, n1.f, n1.s[:, 0, 0].real) + 1j * np.interp(915e6, n1.f, n1.s[:, 0, 0].imag)
+    assert abs(g) < 0.01
