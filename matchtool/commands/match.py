@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 import re
+from pathlib import Path
 from typing import Annotated, Any
 
 import typer
@@ -316,6 +317,8 @@ def register(app: typer.Typer) -> None:
                                   trials, seed)
         if count < 1:
             raise UsageError(f"--candidates {count}", expected="1 or more")
+        if write_network and write_matched and Path(write_network).resolve() == Path(write_matched).resolve():
+            raise UsageError("--write-network and --write-matched name the same file", path=write_network)
         for path in (write_network, write_matched):
             if path is not None:
                 check_output(path, force)
