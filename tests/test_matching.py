@@ -54,7 +54,8 @@ def test_pozar_example_5_1():
 
 @pytest.mark.parametrize("z_load", [20 - 30j, 10 + 45j, 35 + 5j])
 def test_pozar_eqs_5_6_series_at_load(z_load):
-    # Pozar 4th ed. eqs. 5.6a-b (R_L < Z0; the formulas as written here are from memory): B = +-sqrt((Z0 - R_L)/R_L)/Z0, X = +-sqrt(R_L (Z0 - R_L)) - X_L
+    # Pozar 4th ed. eqs. 5.6a-b (R_L < Z0; the formulas as written here are from memory):
+    # B = +-sqrt((Z0 - R_L)/R_L)/Z0, X = +-sqrt(R_L (Z0 - R_L)) - X_L
     z0, f = 50.0, 900e6
     rl, xl = z_load.real, z_load.imag
     nets = [n for n in m.synthesize_at(z_load, f, z0) if n.topology == "series-at-antenna"]
@@ -73,7 +74,8 @@ def test_pozar_eqs_5_6_series_at_load(z_load):
 
 
 def test_pozar_eqs_5_3_shunt_at_load():
-    # Pozar 4th ed. eqs. 5.3a-b (R_L > Z0; the formulas as written here are from memory): B = (X_L +- sqrt(R_L/Z0) sqrt(R_L^2 + X_L^2 - Z0 R_L)) / (R_L^2 + X_L^2),
+    # Pozar 4th ed. eqs. 5.3a-b (R_L > Z0; the formulas as written here are from memory):
+    # B = (X_L +- sqrt(R_L/Z0) sqrt(R_L^2 + X_L^2 - Z0 R_L)) / (R_L^2 + X_L^2),
     # X = 1/B + X_L Z0/R_L - Z0/(B R_L)
     z0, f, rl, xl = 50.0, 2.4e9, 150.0, 60.0
     nets = [n for n in m.synthesize_at(complex(rl, xl), f, z0) if n.topology == "shunt-at-antenna"]
