@@ -1,0 +1,181 @@
+"""CLI layer for match: exit status, JSON per the contract, written Touchstone files, one-line errors."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import skrf
+from helpers import gamma_of, s1p_text, write_rlc
+
+
+def _ant(tmp_path, name="ant.s1p", **kw):
+    args = dict(f0_hz=880e6, r_ohm=20.0, l_h=30e-9, lo_hz=700e6, hi_hz=1100e6, n=801)
+    args.update(kw)
+    return write_rlc(tmp_path / name, **args)
+
+
+def test_band_json_contract(cli, tmp_path):
+    p = _ant(tmp_path)
+    r = cli("match", p, "--band", "902MHz:928MHz", "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["target"] == {"f_low_hz": 902e6, "f_high_hz": 928e6, "f_center_hz": 915e6}
+    assert isinstance(doc["before"]["worst_return_loss_db"], float)
+    assert doc["candidates"]
+    for c in doc["candidates"]:
+        assert {"topology", "elements", "worst_return_loss_db", "return_loss_at_f0_db", "network_loss_db"} <= set(c)
+        for e in c["elements"]:
+            assert e["kind"] in ("inductor", "capacitor") and e["connection"] in ("series", "shunt")
+            assert e["unit"] == ("H" if e["kind"] == "inductor" else "F") and e["value"] > 0
+    d = [c["worst_delivered_fraction"] for c in doc["candidates"]]
+    assert d == sorted(d, reverse=True)  # best first
+    assert doc["candidates"][0]["worst_return_loss_db"] > doc["before"]["worst_return_loss_db"]
+    assert doc["bode_fano"]["best_worst_return_loss_db"] >= doc["candidates"][0]["worst_return_loss_db"]
+    # before: worst return loss of the series RLC over the band, at the band edge 902 MHz (derived)
+    w = 2 * math.pi * np.array([902e6, 928e6])
+    c_f = 1 / ((2 * math.pi * 880e6) ** 2 * 30e-9)
+    z = 20 + 1j * (w * 30e-9 - 1 / (w * c_f))
+    assert doc["before"]["worst_return_loss_db"] == pytest.approx(-20 * np.log10(np.abs(gamma_of(z)).max()), abs=1e-6)
+
+
+def test_pozar_example_5_1_through_the_cli(cli, tmp_path):
+    # Pozar 4th ed. Example 5.1: a constant 200 - j100 ohm load on a 100 ohm system at 500 MHz
+    f = np.linspace(450e6, 550e6, 21)
+    p = tmp_path / "pozar.s1p"
+    p.write_text(s1p_text(f, gamma_of(np.full(f.size, 200 - 100j), 100.0), z0=100.0))
+    doc = cli("match", p, "--at", "500MHz", "--series", "exact", "--json").json()
+    two = [c for c in doc["candidates"] if len(c["elements"]) == 2]
+    assert len(two) == 2
+    found = sorted((e["kind"], e["connection"], e["value"]) for c in two for e in c["elements"])
+    # exact closed form: series C 2.599 pF, shunt C 0.923 pF, series L 38.98 nH, shunt L 46.14 nH
+    want = [("capacitor", "series", 2.599e-12), ("capacitor", "shunt", 0.923e-12),
+            ("inductor", "series", 38.98e-9), ("inductor", "shunt", 46.14e-9)]
+    for (k, c, v), (wk, wc, wv) in zip(found, want, strict=True):
+        assert (k, c) == (wk, wc) and v == pytest.approx(wv, rel=1e-3)
+    assert all(c["return_loss_at_f0_db"] > 60 for c in doc["candidates"] if len(c["elements"]) == 2)
+
+
+def test_written_network_and_matched_sweep(cli, tmp_path):
+    p = _ant(tmp_path)
+    net, mat = tmp_path / "net.s2p", tmp_path / "matched.s1p"
+    r = cli("match", p, "--band", "902MHz:928MHz", "--write-network", net, "--write-matched", mat, "--json")
+    assert r.code == 0, r.err
+    best = r.json()["candidates"][0]
+    n2 = skrf.Network(str(net))
+    n1 = skrf.Network(str(mat))
+    # ideal parts: lossless 2-port, |S11|^2 + |S21|^2 = 1
+    assert np.allclose(np.abs(n2.s[:, 0, 0]) ** 2 + np.abs(n2.s[:, 1, 0]) ** 2, 1, atol=1e-9)
+    # the matched sweep equals the network (port 2 at the antenna) cascaded with the antenna in scikit-rf
+    ant = skrf.Network(str(p))
+    assert np.allclose((n2 ** ant).s[:, 0, 0], n1.s[:, 0, 0], atol=1e-9)
+    f = n1.f
+    g = np.interp(915e6, f, n1.s[:, 0, 0].real) + 1j * np.interp(915e6, f, n1.s[:, 0, 0].imag)
+    assert -20 * math.log10(abs(g)) == pytest.approx(best["return_loss_at_f0_db"], abs=0.2)
+    # no overwrite without --force, nothing changed, one error line
+    before = net.read_text()
+    r2 = cli("match", p, "--band", "902MHz:928MHz", "--series", "E12", "--write-network", net)
+    assert r2.code == 2 and len(r2.err_lines) == 1 and "net.s2p" in r2.err
+    assert net.read_text() == before
+    r3 = cli("match", p, "--band", "902MHz:928MHz", "--series", "E12", "--write-network", net, "--force")
+    assert r3.code == 0
+
+
+def test_finite_q_reports_loss_and_yield_is_reproducible(cli, tmp_path):
+    p = _ant(tmp_path)
+    args = ("match", p, "--band", "902MHz:928MHz", "--q-inductor", "30", "--q-capacitor", "200",
+            "--tolerance", "5%", "--trials", "500", "--seed", "3", "--json")
+    a, b = cli(*args).json(), cli(*args).json()
+    assert a["candidates"][0]["network_loss_db"] > 0
+    assert a["yield"]["trials"] == 500 and 0 <= a["yield"]["best_fraction"] <= 1
+    assert a["yield"]["best_fraction"] == b["yield"]["best_fraction"]
+    ideal = cli("match", p, "--band", "902MHz:928MHz", "--json").json()
+    assert ideal["candidates"][0]["network_loss_db"] == pytest.approx(0, abs=1e-9)
+
+
+def test_terminal_output_has_table_and_schematic(cli, tmp_path):
+    p = _ant(tmp_path)
+    r = cli("match", p, "--band", "902MHz:928MHz", "--tolerance", "5")
+    assert r.code == 0
+    assert "RADIO" in r.out and "ANTENNA" in r.out and "GND" in r.out
+    assert r.out.index("RADIO") < r.out.index("ANTENNA")
+    assert "Bode-Fano" in r.out and "yield" in r.out.lower()
+
+
+@pytest.mark.parametrize("args, word", [
+    (("--at", "915MHz", "--band", "902MHz:928MHz"), "exactly one"),
+    ((), "exactly one"),
+    (("--band", "600MHz:928MHz"), "outside the sweep"),
+    (("--at", "2GHz"), "outside the sweep"),
+    (("--band", "902MHz:902.3MHz"), "sample"),
+    (("--band", "902MHz:928MHz", "--series", "E7"), "series"),
+    (("--band", "902MHz:928MHz", "--tolerance", "abc"), "tolerance"),
+    (("--band", "902MHz:928MHz", "--c-range", "1pF"), "range"),
+    (("--at", "915MHz", "--c-range", "1nF:2nF", "--l-range", "1uH:2uH"), "bounds"),
+    (("--band", "902MHz:928MHz", "--q-inductor", "-3"), "quality"),
+])
+def test_errors_are_one_line_exit_2(cli, tmp_path, args, word):
+    p = _ant(tmp_path)
+    r = cli("match", p, *args)
+    assert r.code == 2
+    assert len(r.err_lines) == 1 and r.err_lines[0].startswith("error:")
+    assert word in r.err_lines[0]
+    assert "Traceback" not in r.err
+
+
+def test_schematic_order_radio_left_antenna_right():
+    from matchtool.commands.match import schematic
+    from matchtool.matching import Element
+
+    text = schematic((Element("inductor", "series", 39e-9), Element("capacitor", "shunt", 0.92e-12)), 100.0)
+    top = text.splitlines()[0]
+    assert top.startswith("RADIO 100 ohm") and top.endswith("ANTENNA")
+    assert top.index("L1 39 nH") < top.index("+")  # series part toward the radio, shunt at the antenna
+    lines = text.splitlines()
+    col = top.index("+")
+    assert lines[1][col] == "|" and "C2 0.92 pF" in lines[2]
+    assert lines[-1].strip() == "GND"
+
+
+def test_negative_seed_refused(cli, tmp_path):
+    p = _ant(tmp_path)
+    r = cli("match", p, "--band", "902MHz:928MHz", "--tolerance", "5%", "--seed", "-1")
+    assert r.code == 2 and "seed" in r.err_lines[0]
+
+
+def test_lossy_parts_written_network_is_lossy_and_cascades(cli, tmp_path):
+    p = _ant(tmp_path)
+    net, mat = tmp_path / "net.s2p", tmp_path / "m.s1p"
+    r = cli("match", p, "--band", "902MHz:928MHz", "--q-inductor", "25", "--q-capacitor", "100",
+            "--write-network", net, "--write-matched", mat, "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    d = [c["worst_delivered_fraction"] for c in doc["candidates"]]
+    assert d == sorted(d, reverse=True)  # ranked by delivered power, which includes part losses
+    n2, n1, ant = skrf.Network(str(net)), skrf.Network(str(mat)), skrf.Network(str(p))
+    power = np.abs(n2.s[:, 0, 0]) ** 2 + np.abs(n2.s[:, 1, 0]) ** 2
+    assert np.all(power < 1) and np.all(power > 0.9)
+    assert np.allclose((n2 ** ant).s[:, 0, 0], n1.s[:, 0, 0], atol=1e-9)
+    # network loss at the band centre from the written 2-port: P_in / P_antenna
+    k = int(np.argmin(np.abs(n2.f - 915e6)))
+    s = n2.s[k]
+    gl = ant.s[k, 0, 0]
+    gin = s[0, 0] + s[0, 1] * s[1, 0] * gl / (1 - s[1, 1] * gl)
+    delivered = np.abs(s[1, 0]) ** 2 * (1 - abs(gl) ** 2) / abs(1 - s[1, 1] * gl) ** 2
+    loss_db = 10 * np.log10((1 - abs(gin) ** 2) / delivered)
+    assert 0 < loss_db <= doc["candidates"][0]["network_loss_db"] + 1e-9
+
+
+def test_z0_option_matches_to_the_system_impedance(cli, tmp_path):
+    p = _ant(tmp_path)
+    mat = tmp_path / "m75.s1p"
+    r = cli("match", p, "--at", "915MHz", "--series", "exact", "--z0", "75", "--write-matched", mat, "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["z0_ohm"] == 75.0
+    n1 = skrf.Network(str(mat))
+    assert np.allclose(n1.z0, 75.0)
+    # the exact network nulls Gamma at 75 ohm at f0 (interpolated between the written samples)
+    g = np.interp(915e6, n1.f, n1.s[:, 0, 0].real) + 1j * np.interp(915e6, n1.f, n1.s[:, 0, 0].imag)
+    assert abs(g) < 0.01
