@@ -69,7 +69,7 @@ def find_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float) -> l
     for i, j in zip(starts, stops, strict=True):
         lo = f[0] if i == 0 else _crossing(f[i - 1], f[i], y[i - 1], y[i], threshold_db)
         hi = f[-1] if j == len(ok) - 1 else _crossing(f[j], f[j + 1], y[j], y[j + 1], threshold_db)
-        bands.append(Band(float(lo), float(hi), i == 0, j == len(ok) - 1))
+        bands.append(Band(float(lo), float(hi), bool(i == 0), bool(j == len(ok) - 1)))
     return bands
 
 

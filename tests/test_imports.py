@@ -17,9 +17,17 @@ def test_library_import_is_lean():
     assert "matplotlib" not in mods and "typer" not in mods and "rich" not in mods
 
 
-def test_help_and_inspect_do_not_import_matplotlib(tmp_path):
+def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
     p = write_rlc(tmp_path / "u.s1p")
-    for argv in (["--help"], ["inspect", str(p), "--json"], ["inspect", str(p)]):
+    q = write_rlc(tmp_path / "v.s1p", f0_hz=880e6)
+    link = tmp_path / "link.toml"
+    link.write_text('f_hz = "915 MHz"\ndistance_m = 100\ntx_power_dbm = 14\ntx_gain_dbi = 2\ntx_cable_loss_db = 0.5\n'
+                    'rx_gain_dbi = 2\nrx_cable_loss_db = 0.5\npolarization_angle_deg = 0\n'
+                    'rx_sensitivity_dbm = -110\ntx_sweep = "u.s1p"\n')
+    for argv in (["--help"], ["inspect", str(p), "--json"], ["inspect", str(p)],
+                 ["compare", str(p), str(q)], ["match", str(q), "--band", "902MHz:928MHz"],
+                 ["feedline", str(p), "--delay", "100ps", "--toward", "radio"], ["budget", str(link)],
+                 ["match", "--help"], ["report", "--help"], ["plot", "--help"]):
         code = (f"import sys; sys.argv = ['matchtool'] + {argv!r}\nfrom matchtool.cli import main\n"
                 "main()")
         mods = _modules_after(code)
