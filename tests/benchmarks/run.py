@@ -1,0 +1,518 @@
+#!/usr/bin/env python3
+"""matchtool benchmarks: each case timed against a baseline measured in the same run.
+
+    python3 tests/benchmarks/run.py            # full sizes (a few minutes on 2 cores)
+    python3 tests/benchmarks/run.py --quick    # tiny sizes, seconds (what the smoke test runs)
+    python3 tests/benchmarks/run.py --only P2,P5 --reps 9 --json results.json
+
+Cases (goals from the benchmarks issue):
+
+  P1  ``matchtool check`` of 1,000 sweeps x 1,601 points against a two-band spec, --jobs 1 and
+      --jobs 2, against one process looping ``skrf.Network(path)`` over the same files.
+      Goal: <= 1.2x (one job), <= 0.7x (two jobs).
+  P2  cold ``python -m matchtool inspect FILE --json`` against
+      ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.3x.
+  P3  ``matchtool match FILE --band 902MHz:928MHz --series E24`` with part Q on a 1,601-point
+      sweep (wall time of the command). Goal: < 1 s; the ratio to a bare scikit-rf read is shown.
+  P4  the same with ``--tolerance 5 --trials 10000``: the time the 10,000 trials add to P3.
+      Goal: < 2 s.
+  P5  ``inspect`` of a 1,000,000-point sweep: wall time and peak memory (max RSS of the process)
+      against scikit-rf's own read of the same file. Goal: <= 1.3x time, <= 2x memory.
+
+Every measurement is a fresh subprocess (so start-up is counted, as a user sees it); candidate
+and baseline runs are interleaved, repeated, and the median is reported. Peak memory comes from
+``os.wait4`` (the child's own ``ru_maxrss``). Subprocesses get a private ``PYTHONPYCACHEPREFIX``
+and one untimed warm-up run, so compiled bytecode is cached as it is for an installed package.
+Commands that do not exist yet (or lack an option) are reported as "not built yet", not as
+failures. All data are generated here, deterministically, into a temporary directory.
+
+Exit status: 0 when every case ran or was skipped as not built; 1 when a built command failed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import json
+import math
+import os
+import platform
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+ROOT = Path(__file__).resolve().parents[2]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+from matchtool.sweep import touchstone_text  # noqa: E402
+
+SEED = 20261201
+PY = sys.executable
+TREE = ROOT  # the checkout whose matchtool is benchmarked (--tree)
+
+SPEC_TOML = """\
+# two-band spec for the benchmark (synthetic)
+[[band]]
+name = "ISM 915"
+f_low = "902 MHz"
+f_high = "928 MHz"
+min_return_loss_db = 10
+
+[[band]]
+name = "SRD 868"
+f_low = "863 MHz"
+f_high = "870 MHz"
+max_vswr = 2.0
+"""
+
+
+LAUNCHER = """
+import json, os, subprocess, sys, time
+err, timeout, argv = sys.argv[1], float(sys.argv[2]), sys.argv[3:]
+with open(err, "wb") as fh:
+    t0 = time.perf_counter()
+    p = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=fh)
+    while True:
+        pid, status, usage = os.wait4(p.pid, os.WNOHANG)
+        if pid:
+            break
+        if time.perf_counter() - t0 > timeout:
+            p.kill()
+            pid, status, usage = os.wait4(p.pid, 0)
+            break
+        time.sleep(0.001)
+    wall = time.perf_counter() - t0
+print(json.dumps([wall, usage.ru_maxrss, os.waitstatus_to_exitcode(status), usage.ru_utime + usage.ru_stime]))
+"""
+
+
+@dataclass
+class Sizes:
+    p1_files: int
+    points: int
+    p5_points: int
+    trials: int
+    reps_fast: int  # repetitions of sub-second cases
+    reps_slow: int  # repetitions of multi-second cases
+
+
+FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, trials=10_000, reps_fast=11, reps_slow=3)
+QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, trials=200, reps_fast=2, reps_slow=1)
+
+
+@dataclass
+class Run:
+    wall_s: float
+    maxrss_kb: int
+    code: int
+    err: str
+    cpu_s: float = 0.0  # user + system time of the command (and the children it waited for)
+
+
+@dataclass
+class Row:
+    case: str
+    what: str
+    ours: float | None = None  # seconds (or MB for memory rows): median wall time
+    base: float | None = None
+    ours_cpu: float | None = None  # median CPU time (user + system), seconds
+    base_cpu: float | None = None
+    unit: str = "s"
+    goal: str = ""
+    goal_kind: str = "ratio"  # "ratio": ours/base <= limit; "abs": ours < limit
+    limit: float | None = None
+    status: str = ""
+    note: str = ""
+    samples: dict = field(default_factory=dict)
+
+    @property
+    def ratio(self) -> float | None:
+        if self.ours is None or not self.base:
+            return None
+        return self.ours / self.base
+
+    @property
+    def cpu_ratio(self) -> float | None:
+        if self.ours_cpu is None or not self.base_cpu:
+            return None
+        return self.ours_cpu / self.base_cpu
+
+    def set_times(self, ours: list[Run], base: list[Run] | None) -> None:
+        self.ours, self.ours_cpu = median_wall(ours), median_cpu(ours)
+        self.samples["ours_wall_s"] = [round(x.wall_s, 4) for x in ours]
+        if base:
+            self.base, self.base_cpu = median_wall(base), median_cpu(base)
+            self.samples["base_wall_s"] = [round(x.wall_s, 4) for x in base]
+
+    def judge(self) -> None:
+        if self.status:
+            return
+        value = self.ratio if self.goal_kind == "ratio" else self.ours
+        if value is None or self.limit is None:
+            self.status = "measured"
+        elif self.goal_kind == "ratio":
+            self.status = "met" if value <= self.limit else "NOT met"
+        else:
+            self.status = "met" if value < self.limit else "NOT met"
+
+
+# ------------------------------------------------------------------------------------------
+# data (a series-RLC antenna with shunt pad C, through a short lossy pigtail, a little noise)
+
+
+def antenna_gamma(f_hz: np.ndarray, f_res_hz: float, rng: np.random.Generator) -> np.ndarray:
+    """S11 of a 915 MHz-class PCB antenna model (ohms, henries, farads; 50-ohm reference)."""
+    w = 2 * math.pi * f_hz
+    l_h = 100e-9
+    c_f = 1.0 / ((2 * math.pi * f_res_hz) ** 2 * l_h)
+    z = 46.0 * (f_hz / 915e6) ** 2 + 3.0 + 1j * (w * l_h - 1.0 / (w * c_f))
+    z = 1.0 / (1.0 / z + 1j * w * 0.35e-12) + 1j * w * 1.5e-9
+    g = (z - 50.0) / (z + 50.0)
+    g = g * np.exp(-2j * w / (0.7 * 299_792_458.0) * 0.05) * 10 ** (-0.075 * np.sqrt(f_hz / 1e9) / 20)
+    sigma = 10 ** (-60 / 20) / math.sqrt(2)
+    return g + sigma * (rng.standard_normal(f_hz.size) + 1j * rng.standard_normal(f_hz.size))
+
+
+def write_sweep(path: Path, n_points: int, f_res_hz: float, rng: np.random.Generator,
+                f_lo_hz: float = 700e6, f_hi_hz: float = 1.1e9) -> Path:
+    f = np.linspace(f_lo_hz, f_hi_hz, n_points)
+    path.write_text(touchstone_text(f, antenna_gamma(f, f_res_hz, rng), 50.0,
+                                    ["synthetic benchmark sweep (tests/benchmarks/run.py)"]))
+    return path
+
+
+def write_lot(folder: Path, n_files: int, n_points: int) -> list[Path]:
+    """A production lot: one file per unit, resonance spread +-1 % around 917 MHz."""
+    folder.mkdir(parents=True, exist_ok=True)
+    rng = np.random.default_rng([SEED, 1])
+    f_res = 917.5e6 * (1 + 0.01 * rng.uniform(-1, 1, n_files))
+    return [write_sweep(folder / f"unit{k:04d}.s1p", n_points, fr, rng) for k, fr in enumerate(f_res)]
+
+
+# ------------------------------------------------------------------------------------------
+# running and timing
+
+
+class Runner:
+    def __init__(self, tmp: Path, verbose: bool = False) -> None:
+        env = dict(os.environ)
+        env.pop("PYTHONDONTWRITEBYTECODE", None)
+        env["PYTHONPYCACHEPREFIX"] = str(tmp / "pycache")
+        env["PYTHONPATH"] = str(TREE) + (os.pathsep + env["PYTHONPATH"] if env.get("PYTHONPATH") else "")
+        env.setdefault("MPLBACKEND", "Agg")
+        self.env = env
+        self.cwd = tmp
+        self.verbose = verbose
+
+    def once(self, argv: list[str], timeout_s: float = 300.0) -> Run:
+        """Run ``argv`` once; wall time (s), its peak RSS (kB), exit code and stderr.
+
+        The command is started by a small launcher process, not by this one: a child's
+        ``ru_maxrss`` starts at the RSS of the process that forked it, and this one holds numpy.
+        """
+        errf = self.cwd / "last_stderr.txt"
+        p = subprocess.run([PY, "-c", LAUNCHER, str(errf), str(timeout_s), *argv], capture_output=True, text=True,
+                           env=self.env, cwd=self.cwd, timeout=timeout_s + 30)
+        try:
+            wall, rss_kb, code, cpu = json.loads(p.stdout.strip().splitlines()[-1])
+        except (ValueError, IndexError):
+            raise RuntimeError(f"benchmark launcher failed: {p.stderr.strip()[-300:]}") from None
+        err = errf.read_text("utf-8", "replace")
+        if self.verbose:
+            print(f"  {wall:7.3f} s {rss_kb / 1024:7.1f} MB rc={code} {' '.join(argv)[:110]}", file=sys.stderr)
+        return Run(float(wall), int(rss_kb), int(code), err, float(cpu))
+
+    def compare(self, cands: dict[str, list[str]], reps: int, warm: bool = True) -> dict[str, list[Run]]:
+        """Interleave the commands ``reps`` times (after one untimed warm-up of each)."""
+        if warm:
+            for argv in cands.values():
+                self.once(argv)
+        out: dict[str, list[Run]] = {k: [] for k in cands}
+        for _ in range(reps):
+            for k, argv in cands.items():
+                out[k].append(self.once(argv))
+        return out
+
+
+def median_wall(runs: list[Run]) -> float:
+    return statistics.median(r.wall_s for r in runs)
+
+
+def median_cpu(runs: list[Run]) -> float:
+    return statistics.median(r.cpu_s for r in runs)
+
+
+def median_rss_mb(runs: list[Run]) -> float:
+    return statistics.median(r.maxrss_kb for r in runs) / 1024.0
+
+
+def failed(runs: list[Run], ok_codes: tuple[int, ...] = (0,)) -> str | None:
+    for r in runs:
+        if r.code not in ok_codes:
+            lines = [ln for ln in r.err.splitlines() if ln.strip()]
+            return f"exit {r.code}: {lines[-1][:150] if lines else 'no message'}"
+    return None
+
+
+def not_built(err: str) -> str | None:
+    """Recognise 'this command or option does not exist yet' in a CLI's error line."""
+    low = err.lower()
+    for key in ("no such command", "no such option", "got unexpected extra argument"):
+        if key in low:
+            line = next((ln for ln in err.splitlines() if key in ln.lower()), err.strip())
+            return line.strip()[:120]
+    return None
+
+
+def has_command(name: str) -> bool:
+    """Whether the benchmarked checkout has ``matchtool/commands/<name>.py``."""
+    if TREE == ROOT:
+        return importlib.util.find_spec(f"matchtool.commands.{name}") is not None
+    return (TREE / "matchtool" / "commands" / f"{name}.py").is_file()
+
+
+def skrf_read(path: Path) -> list[str]:
+    return [PY, "-c", f"import skrf; skrf.Network({str(path)!r})"]
+
+
+def mt(*args: object) -> list[str]:
+    return [PY, "-m", "matchtool", *map(str, args)]
+
+
+# ------------------------------------------------------------------------------------------
+# the cases
+
+
+def p1(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    rows = [Row("P1", f"check {sz.p1_files} x {sz.points} pts, --jobs 1", goal="<= 1.2x", limit=1.2),
+            Row("P1", f"check {sz.p1_files} x {sz.points} pts, --jobs 2", goal="<= 0.7x", limit=0.7)]
+    if not has_command("check"):
+        for r in rows:
+            r.status = "not built yet"
+        return rows
+    files = write_lot(tmp / "lot", sz.p1_files, sz.points)
+    spec = tmp / "spec.toml"
+    spec.write_text(SPEC_TOML)
+    listing = tmp / "lot_files.txt"
+    listing.write_text("\n".join(map(str, files)))
+    loop = [PY, "-c", "import sys, skrf\nfor p in open(sys.argv[1]).read().split('\\n'): skrf.Network(p)",
+            str(listing)]
+    cands = {"base": loop,
+             "j1": mt("check", *files, "--spec", spec, "--json", "--jobs", 1),
+             "j2": mt("check", *files, "--spec", spec, "--json", "--jobs", 2)}
+    probe = run.once(cands["j1"])
+    nb = not_built(probe.err) if probe.code == 2 else None
+    if nb or probe.code not in (0, 1):
+        for r in rows:
+            r.status = "not built yet" if nb else "error"
+            r.note = nb or failed([probe], (0, 1)) or ""
+        return rows
+    res = run.compare(cands, sz.reps_slow)
+    for r, key in zip(rows, ("j1", "j2"), strict=True):
+        bad = failed(res[key], (0, 1)) or failed(res["base"])
+        if bad:
+            r.status, r.note = "error", bad
+            continue
+        r.set_times(res[key], res["base"])
+    rows[0].note = f"baseline: one process, skrf.Network over the {sz.p1_files} files"
+    return rows
+
+
+def p2(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    path = write_sweep(tmp / "p2_ant.s1p", sz.points, 917.5e6, np.random.default_rng([SEED, 2]))
+    row = Row("P2", f"cold inspect --json, {sz.points} pts", goal="<= 1.3x", limit=1.3)
+    res = run.compare({"base": skrf_read(path), "ours": mt("inspect", path, "--json"),
+                       "python": [PY, "-c", "pass"], "numpy": [PY, "-c", "import numpy"]}, sz.reps_fast)
+    bad = failed(res["ours"]) or failed(res["base"])
+    if bad:
+        row.status, row.note = "error", bad
+        return [row]
+    row.set_times(res["ours"], res["base"])
+    row.note = (f"bare python {median_wall(res['python']):.3f} s, python+numpy {median_wall(res['numpy']):.3f} s; "
+                f"peak RSS {median_rss_mb(res['ours']):.0f} vs {median_rss_mb(res['base']):.0f} MB")
+    return [row]
+
+
+def _match_args(path: Path) -> list[object]:
+    return ["match", path, "--band", "902MHz:928MHz", "--series", "E24", "--q-inductor", 40,
+            "--q-capacitor", 300, "--json"]
+
+
+def p3_p4(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    r3 = Row("P3", f"match --band E24 + part Q, {sz.points} pts", goal="< 1 s", goal_kind="abs", limit=1.0)
+    r4 = Row("P4", f"{sz.trials} tolerance trials, {sz.points} pts", goal="< 2 s" if sz.trials >= 10_000 else "-",
+             goal_kind="abs", limit=2.0 if sz.trials >= 10_000 else None)
+    if not has_command("match"):
+        r3.status = r4.status = "not built yet"
+        return [r3, r4]
+    # r1-like: resonance near 870 MHz, misses 902-928 MHz, so the match has work to do
+    path = write_sweep(tmp / "p3_r1.s1p", sz.points, 875e6, np.random.default_rng([SEED, 3]))
+    m3 = mt(*_match_args(path))
+    probe = run.once(m3)
+    if probe.code not in (0, 1):
+        r3.status = "not built yet" if not_built(probe.err) else "error"
+        r3.note = not_built(probe.err) or failed([probe], (0, 1)) or ""
+        r4.status, r4.note = r3.status, "needs P3"
+        return [r3, r4]
+    cands = {"base": skrf_read(path), "m3": m3}
+    m4 = None
+    for tol in ("5", "5%"):  # the option takes a percentage; accept either spelling
+        argv = mt(*_match_args(path), "--tolerance", tol, "--trials", sz.trials)
+        pr = run.once(argv)
+        if pr.code in (0, 1):
+            m4 = argv
+            break
+    if m4 is None:
+        r4.status = "not built yet" if not_built(pr.err) else "error"
+        r4.note = not_built(pr.err) or failed([pr], (0, 1)) or ""
+    else:
+        cands["m4"] = m4
+    res = run.compare(cands, min(sz.reps_fast, 5), warm=False)
+    bad = failed(res["m3"], (0, 1))
+    if bad:
+        r3.status, r3.note = "error", bad
+    else:
+        r3.set_times(res["m3"], res["base"])
+        r3.note = "wall time of the command incl. start-up; ratio to a bare skrf read"
+    if m4 is not None:
+        bad = failed(res["m4"], (0, 1))
+        if bad:
+            r4.status, r4.note = "error", bad
+        elif r3.ours is not None:
+            total = median_wall(res["m4"])
+            r4.ours = max(total - r3.ours, 0.0)
+            r4.ours_cpu = max(median_cpu(res["m4"]) - (r3.ours_cpu or 0.0), 0.0)
+            r4.goal_kind = "abs"
+            r4.note = f"time added to P3 by the trials; whole command {total:.3f} s"
+    return [r3, r4]
+
+
+def p5(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    path = write_sweep(tmp / "p5_big.s1p", sz.p5_points, 917.5e6, np.random.default_rng([SEED, 5]), 100e6, 6e9)
+    mb = path.stat().st_size / 1e6
+    rt = Row("P5", f"inspect {sz.p5_points:,} pts ({mb:.0f} MB): time", goal="<= 1.3x", limit=1.3)
+    rm = Row("P5", f"inspect {sz.p5_points:,} pts: peak memory", unit="MB", goal="<= 2x", limit=2.0)
+    reps = sz.reps_slow
+    res = run.compare({"base": skrf_read(path), "ours": mt("inspect", path, "--json")}, reps)
+    bad = failed(res["ours"]) or failed(res["base"])
+    if bad:
+        rt.status = rm.status = "error"
+        rt.note = bad
+        return [rt, rm]
+    rt.set_times(res["ours"], res["base"])
+    rm.ours, rm.base = median_rss_mb(res["ours"]), median_rss_mb(res["base"])
+    rm.note = "max RSS of each process (os.wait4), includes the interpreter and imports"
+    return [rt, rm]
+
+
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5}
+
+
+# ------------------------------------------------------------------------------------------
+# report
+
+
+def _fmt(v: float | None, unit: str) -> str:
+    if v is None:
+        return "-"
+    return f"{v:.1f} MB" if unit == "MB" else f"{v:.3f} s"
+
+
+def table(rows: list[Row]) -> str:
+    head = ["case", "what", "matchtool", "baseline", "ratio", "goal", "status", "cpu ratio"]
+    body = [[r.case, r.what, _fmt(r.ours, r.unit), _fmt(r.base, r.unit),
+             "-" if r.ratio is None else f"{r.ratio:.2f}x", r.goal or "-", r.status,
+             "-" if r.cpu_ratio is None else f"{r.cpu_ratio:.2f}x"] for r in rows]
+    widths = [max(len(x) for x in col) for col in zip(head, *body, strict=True)]
+    line = lambda cells: "  ".join(c.ljust(w) for c, w in zip(cells, widths, strict=True)).rstrip()  # noqa: E731
+    out = [line(head), line(["-" * w for w in widths])] + [line(b) for b in body]
+    notes = [f"  {r.case}: {r.note}" for r in rows if r.note]
+    return "\n".join(out + (["", "notes:"] + notes if notes else []))
+
+
+def machine() -> dict:
+    info = {"python": platform.python_version(), "numpy": np.__version__, "nproc": os.cpu_count(),
+            "platform": platform.platform()}
+    try:
+        import skrf
+
+        info["scikit-rf"] = skrf.__version__
+    except ImportError:  # pragma: no cover
+        pass
+    try:
+        for ln in Path("/proc/cpuinfo").read_text().splitlines():
+            if ln.startswith("model name"):
+                info["cpu"] = ln.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    info["load_average_start"] = round(os.getloadavg()[0], 2)
+    for k in ("OPENBLAS_CORETYPE", "OPENBLAS_L2_SIZE"):
+        if k in os.environ:
+            info[k] = os.environ[k]
+    return info
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description="matchtool benchmarks against scikit-rf baselines")
+    ap.add_argument("--quick", action="store_true", help="tiny sizes (seconds); for the smoke test")
+    ap.add_argument("--only", default="", help="comma-separated cases, e.g. P2,P5 (P3 includes P4)")
+    ap.add_argument("--reps", type=int, default=None, help="repetitions (overrides the defaults)")
+    ap.add_argument("--json", dest="json_out", default=None, help="also write the results as JSON here")
+    ap.add_argument("--verbose", action="store_true", help="print every subprocess run to stderr")
+    ap.add_argument("--tree", default=None, help="benchmark the matchtool of another checkout (default: this one)")
+    args = ap.parse_args(argv)
+    global TREE
+    TREE = Path(args.tree).resolve() if args.tree else ROOT
+    if not (TREE / "matchtool" / "__init__.py").is_file():
+        print(f"error: --tree {args.tree}: no matchtool package there; expected a matchtool checkout", file=sys.stderr)
+        return 2
+    sz = QUICK if args.quick else FULL
+    if args.reps:
+        sz = Sizes(**{**sz.__dict__, "reps_fast": args.reps, "reps_slow": args.reps})
+    wanted = [c.strip().upper() for c in args.only.split(",") if c.strip()] or list(CASES)
+    wanted = ["P3" if c == "P4" else c for c in wanted]
+    unknown = [c for c in wanted if c not in CASES]
+    if unknown:
+        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P1 P2 P3 P4 P5", file=sys.stderr)
+        return 2
+    info = machine()
+    print(f"matchtool benchmarks ({'quick' if args.quick else 'full'} sizes) - "
+          f"{info.get('cpu', '?')}, {info['nproc']} cores, Python {info['python']}, numpy {info['numpy']}, "
+          f"scikit-rf {info.get('scikit-rf', '?')}")
+    rows: list[Row] = []
+    t0 = time.perf_counter()
+    with tempfile.TemporaryDirectory(prefix="mt_bench_") as d:
+        tmp = Path(d)
+        run = Runner(tmp, verbose=args.verbose)
+        for c in dict.fromkeys(wanted):
+            t = time.perf_counter()
+            got = CASES[c](run, tmp, sz)
+            for r in got:
+                r.judge()
+            rows += got
+            print(f"  {c} done in {time.perf_counter() - t:.1f} s", file=sys.stderr)
+    print(table(rows))
+    info["load_average_end"] = round(os.getloadavg()[0], 2)
+    print(f"\ntotal {time.perf_counter() - t0:.1f} s; medians of interleaved runs, each a fresh process; "
+          "cpu ratio = user+system time")
+    busy = max(info["load_average_start"], info["load_average_end"])
+    if busy > (info["nproc"] or 1):
+        print(f"warning: the machine was busy (load average {busy:.1f} on {info['nproc']} cores): wall-time "
+              "ratios are unreliable; the CPU-time ratios are steadier")
+    if args.json_out:
+        doc = {"machine": info, "quick": args.quick,
+               "rows": [{**{k: v for k, v in r.__dict__.items()}, "ratio": r.ratio} for r in rows]}
+        Path(args.json_out).write_text(json.dumps(doc, indent=2))
+    return 1 if any(r.status == "error" for r in rows) else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
