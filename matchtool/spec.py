@@ -24,11 +24,14 @@ A spec states requirements on the reflection of one port::
 Evaluation rules (see docs/check.md):
 
 - The worst case over a band is taken over the samples inside the band plus the band-edge values,
-  found by linear interpolation of the return-loss dB curve between the two bracketing samples
-  (the same rule the threshold bands use). Between two samples that model is linear, so its worst
-  point over the band is always either a sample or an edge: no coarse sweep passes because its
-  samples miss the band edges. (Interpolating complex Gamma instead would cut a chord across the
-  Smith chart and read up to a few dB better than both neighbouring samples; the dB curve does not.)
+  interpolated linearly in complex Gamma between the two bracketing samples (the contract's rule
+  for any value between samples, so ``matchtool inspect --at EDGE`` shows the same number).
+  |Gamma| of a straight segment is largest at one of its ends, so the samples plus the edges give
+  the exact worst case of the interpolated curve: a coarse sweep cannot pass because its samples
+  miss a failing band edge. Near a deep null complex Gamma is close to linear in frequency, so
+  this reads the edges far better than interpolating the dB curve would; when the phase turns
+  far between two samples the straight chord reads |Gamma| low, hence the warning for a band
+  with fewer than three samples.
 - A band the sweep does not cover fails, with the reason; fewer than three samples in a band warn.
 - ``limit`` and ``worst`` are in the units of the limit key: positive dB of return loss for
   ``min_return_loss_db``, a ratio for ``max_vswr``, dB of S11 for ``max_s11_db``, dB for
@@ -107,14 +110,14 @@ class ResonanceSpec:
 
 @dataclass(frozen=True, eq=False)
 class GoldenSpec:
-    """``[golden]``: a known-good unit's return-loss curve (``f_hz``, ``return_loss_db`` positive
-    dB) that a unit may not stray from by more than ``max_deviation_db`` over ``band``."""
+    """``[golden]``: a known-good unit's reflection (``f_hz``, complex ``gamma``) whose return-loss
+    curve a unit may not stray from by more than ``max_deviation_db`` over ``band``."""
 
     path: str
     band: str
     max_deviation_db: float
     f_hz: np.ndarray
-    return_loss_db: np.ndarray
+    gamma: np.ndarray
 
 
 @dataclass(frozen=True)
@@ -386,7 +389,7 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
                         f"({band.f_low_hz:g} to {band.f_high_hz:g} Hz)", path=path, key="golden.file")
     warnings.extend(sw.warnings)
     return GoldenSpec(path=str(gpath), band=band.name, max_deviation_db=dev, f_hz=np.array(f, dtype=float),
-                      return_loss_db=_rl_db(sw.gamma))
+                      gamma=np.array(sw.gamma, dtype=complex))
 
 
 def load_spec(path: str | Path, port: int | None = None, z0_ohm: float | None = None) -> Spec:
@@ -422,49 +425,55 @@ def _not_covered(name: str, key: str, limit: float, lo: float, hi: float, f: np.
                              margin_db=None, f_low_hz=lo, f_high_hz=hi, reason=reason)
 
 
-def _band_results(b: BandSpec, f: np.ndarray, rl: np.ndarray, where: str, warnings: list[str]) -> list[RequirementResult]:
+def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
+                  warnings: list[str]) -> list[RequirementResult]:
     lo, hi = b.f_low_hz, b.f_high_hz
     if lo < f[0] or hi > f[-1]:
         out = [_not_covered(b.name, b.limit_key, b.limit, lo, hi, f)]
         if b.max_mismatch_loss_db is not None:
             out.append(_not_covered(f"{b.name} mismatch loss", "max_mismatch_loss_db", b.max_mismatch_loss_db, lo, hi, f))
         return out
-    fb, yb = band_samples(f, rl, lo, hi)
+    fb, gb = band_samples(f, gamma, lo, hi)
+    mag = np.abs(gb)
     n_in = int(np.count_nonzero((f >= lo) & (f <= hi)))
     if n_in < MIN_BAND_SAMPLES:
         warnings.append(f"{where}: band {b.name!r} holds {n_in} sample(s); the worst case leans on interpolation "
                         f"(measure at least {MIN_BAND_SAMPLES} points in the band)")
-    k = int(np.argmin(yb))
-    worst_rl, worst_f = float(yb[k]), float(fb[k])
+    k = int(np.argmax(mag))
+    worst_f = float(fb[k])
+    worst_rl = min(float(rf.return_loss_db(mag[k])), _CAP_DB)
     margin = worst_rl - b.min_return_loss_db
     if b.limit_key == "min_return_loss_db":
         worst = worst_rl
     elif b.limit_key == "max_s11_db":
         worst = -worst_rl
     else:
-        worst = float(rf.vswr(rf.gamma_mag_from_return_loss(worst_rl)))
+        worst = float(rf.vswr(mag[k]))
     passed = margin >= 0  # the sign of margin_db is the verdict, for all three keys
     out = [RequirementResult(name=b.name, key=b.limit_key, passed=bool(passed), limit=b.limit, worst=worst,
                              worst_f_hz=worst_f, margin_db=margin, f_low_hz=lo, f_high_hz=hi,
                              worst_return_loss_db=worst_rl, samples=n_in)]
     if b.max_mismatch_loss_db is not None:
-        ml = float(rf.mismatch_loss_db(rf.gamma_mag_from_return_loss(worst_rl)))
+        ml = float(rf.mismatch_loss_db(mag[k]))
         m = b.max_mismatch_loss_db - ml if math.isfinite(ml) else -math.inf
         out.append(RequirementResult(name=f"{b.name} mismatch loss", key="max_mismatch_loss_db", passed=bool(m >= 0),
-                                     limit=b.max_mismatch_loss_db, worst=ml, worst_f_hz=worst_f, margin_db=m,
-                                     f_low_hz=lo, f_high_hz=hi, worst_return_loss_db=worst_rl, samples=n_in))
+                                     limit=b.max_mismatch_loss_db, worst=ml if math.isfinite(ml) else None,
+                                     worst_f_hz=worst_f, margin_db=m if math.isfinite(m) else None, f_low_hz=lo,
+                                     f_high_hz=hi, worst_return_loss_db=worst_rl, samples=n_in,
+                                     reason="" if math.isfinite(ml) else "|Gamma| >= 1: mismatch loss is undefined"))
     return out
 
 
-def _golden_result(g: GoldenSpec, b: BandSpec, f: np.ndarray, rl: np.ndarray) -> RequirementResult:
+def _golden_result(g: GoldenSpec, b: BandSpec, f: np.ndarray, gamma: np.ndarray) -> RequirementResult:
     name = f"{b.name} deviation from golden"
     lo, hi = b.f_low_hz, b.f_high_hz
     if lo < f[0] or hi > f[-1]:
         return _not_covered(name, "max_deviation_db", g.max_deviation_db, lo, hi, f)
-    fu, yu = band_samples(f, rl, lo, hi)
-    fg = g.f_hz[(g.f_hz > lo) & (g.f_hz < hi)]
-    grid = np.union1d(fu, fg)
-    dev = np.abs(np.interp(grid, f, rl) - np.interp(grid, g.f_hz, g.return_loss_db))
+    fu, gu = band_samples(f, gamma, lo, hi)
+    grid = np.union1d(fu, g.f_hz[(g.f_hz > lo) & (g.f_hz < hi)])
+    gu = np.interp(grid, f, gamma.real) + 1j * np.interp(grid, f, gamma.imag)
+    gg = np.interp(grid, g.f_hz, g.gamma.real) + 1j * np.interp(grid, g.f_hz, g.gamma.imag)
+    dev = np.abs(_rl_db(gu) - _rl_db(gg))
     k = int(np.argmax(dev))
     worst = float(dev[k])
     return RequirementResult(name=name, key="max_deviation_db", passed=bool(worst <= g.max_deviation_db),
@@ -478,12 +487,12 @@ def evaluate_arrays(f_hz: np.ndarray, gamma: np.ndarray, spec: Spec, file: str =
     """Evaluate reflection ``gamma`` (complex, at the spec's system impedance) sampled at ``f_hz``
     (strictly increasing, Hz) against ``spec``. Warnings name ``file``."""
     f = np.asarray(f_hz, dtype=float)
-    rl = _rl_db(np.asarray(gamma))
+    gamma = np.asarray(gamma, dtype=complex)
     warns = list(warnings)
     reqs: list[RequirementResult] = []
     for b in spec.bands:
-        reqs.extend(_band_results(b, f, rl, file, warns))
-    i = int(np.argmax(rl))  # the sample with the smallest |Gamma|
+        reqs.extend(_band_results(b, f, gamma, file, warns))
+    i = int(np.argmin(np.abs(gamma)))  # the sample with the smallest |Gamma| (contract's 'best')
     best_f, best_rl = float(f[i]), float(rf.return_loss_db(gamma[i]))
     if spec.resonance is not None:
         r = spec.resonance
@@ -494,7 +503,7 @@ def evaluate_arrays(f_hz: np.ndarray, gamma: np.ndarray, spec: Spec, file: str =
                                       margin_hz=m_hz, samples=int(f.size),
                                       reason="" if m_hz >= 0 else "the best match lies outside the resonance window"))
     if spec.golden is not None:
-        reqs.append(_golden_result(spec.golden, spec.band(spec.golden.band), f, rl))
+        reqs.append(_golden_result(spec.golden, spec.band(spec.golden.band), f, gamma))
     return UnitResult(file=file, passed=all(r.passed for r in reqs), requirements=tuple(reqs), best_f_hz=best_f,
                       best_return_loss_db=best_rl, warnings=tuple(warns))
 
