@@ -171,8 +171,8 @@ class RequirementYield:
 
 @dataclass(frozen=True)
 class WorstUnit:
-    """A unit with its smallest margin (dB; None when a requirement could not be evaluated or the
-    worst requirement is the resonance window) and the requirement where it occurs."""
+    """A unit with its smallest margin (dB; None when a requirement could not be evaluated) and the
+    requirement that failed (or, for a passing unit, where the smallest margin occurs)."""
 
     file: str
     requirement: str
@@ -200,19 +200,18 @@ class LotSummary:
         return self.passed / self.units if self.units else 0.0
 
 
-def _unit_key(u: UnitResult) -> tuple[float, str, bool]:
-    """(smallest margin in dB, where) - a requirement that could not be evaluated counts as -inf."""
-    best = (math.inf, "", True)
+def _unit_key(u: UnitResult) -> tuple[bool, float, str]:
+    """Sort key of a unit, worst first: failing before passing, then the smallest dB margin (a
+    requirement that could not be evaluated counts as -inf; the resonance window has no dB margin)."""
+    m, where = math.inf, ""
     for r in u.requirements:
-        if r.margin_db is not None:
-            m = r.margin_db
-        elif r.key == "resonance" and r.passed:
-            continue
-        else:
-            m = -math.inf
-        if m < best[0]:
-            best = (m, r.name, r.passed)
-    return best
+        x = r.margin_db if r.margin_db is not None else (math.inf if r.key == "resonance" else -math.inf)
+        if x < m or not where:
+            m, where = x, r.name
+    failing = [r.name for r in u.requirements if not r.passed]
+    if failing and where not in failing:
+        where = failing[0]
+    return (u.passed, m, where)
 
 
 def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
@@ -229,8 +228,8 @@ def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
             counts[r.name][0] += int(r.passed)
     f_best = np.array([u.best_f_hz for u in ok if u.best_f_hz is not None], dtype=float)
     spread = (float(f_best.min()), float(np.median(f_best)), float(f_best.max())) if f_best.size else (None,) * 3
-    ranked = sorted(((_unit_key(u), n, u) for n, u in enumerate(ok)), key=lambda t: (t[0][0], t[1]))
-    worst = tuple(WorstUnit(u.file, k[1], k[0] if math.isfinite(k[0]) else None, u.passed)
+    ranked = sorted(((_unit_key(u), n, u) for n, u in enumerate(ok)), key=lambda t: (t[0][0], t[0][1], t[1]))
+    worst = tuple(WorstUnit(u.file, k[2], k[1] if math.isfinite(k[1]) else None, u.passed)
                   for k, _, u in ranked[:n_worst])
     passed = sum(1 for u in results if u.passed)
     errors = len(results) - len(ok)
