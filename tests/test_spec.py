@@ -285,3 +285,25 @@ def test_limit_is_inclusive_and_sharp(rl_db, ok):
     r = res.requirements[0]
     assert r.passed is ok and (r.margin_db >= 0) is ok
     assert r.margin_db == pytest.approx(rl_db - 10, abs=1e-9)
+
+
+def test_fast_loader_agrees_with_sweep_load(tmp_path):
+    # check_file reads each file once without an skrf.Network; it must see what sweep.load sees
+    from matchtool.sweep import touchstone_text
+
+    f = np.linspace(880e6, 950e6, 71)
+    s = np.zeros((f.size, 2, 2), dtype=complex)
+    s[:, 0, 0] = gamma_of(series_rlc_z(f, 30.0, 40e-9, 915e6))
+    s[:, 1, 1] = 0.2 + 0.1j
+    s[:, 0, 1] = s[:, 1, 0] = 0.5
+    two = tmp_path / "two.s2p"
+    two.write_text(touchstone_text(f, s, 50.0))
+    hot = tmp_path / "hot.s1p"
+    hot.write_text("# MHz S RI R 50\n900 0.5 0\n915 1.2 0\n930 0.5 0\n")
+    for path, port, z0 in ((two, 1, None), (two, 2, None), (two, 2, 75.0), (hot, 1, None)):
+        fh, g, w = sp._load_reflection(path, port, z0)
+        ref = load(path, port=port, z0_ohm=z0)
+        assert np.array_equal(fh, ref.f_hz) and np.allclose(g, ref.gamma, rtol=0, atol=1e-15) and w == ref.warnings
+    assert any("> 1" in x for x in sp._load_reflection(hot, 1, None)[2])
+    with pytest.raises(Exception, match="port 3"):
+        sp._load_reflection(two, 3, None)
