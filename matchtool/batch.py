@@ -81,9 +81,29 @@ def expand_inputs(items: Iterable[str | Path]) -> list[Input]:
 _WORKER_SPEC: Spec | None = None
 
 
-def _init_worker(spec: Spec) -> None:
+def tune_malloc() -> bool:
+    """Ask glibc to keep freed blocks of up to 32 MB in the heap instead of returning each to the
+    kernel. Parsing a sweep allocates a few arrays of the file's size; with the default threshold
+    (128 kB) every one is a fresh mmap, and the page faults cost about a fifth of a lot's run time.
+    Process-wide and glibc-only (a no-op returning False elsewhere); the CLI turns it on."""
+    import ctypes
+    import sys
+
+    if not sys.platform.startswith("linux"):
+        return False
+    try:
+        libc = ctypes.CDLL("libc.so.6")
+        m_trim_threshold, m_mmap_threshold = -1, -3
+        return bool(libc.mallopt(m_mmap_threshold, 32 << 20) and libc.mallopt(m_trim_threshold, 64 << 20))
+    except (OSError, AttributeError):
+        return False
+
+
+def _init_worker(spec: Spec, tune: bool = False) -> None:
     global _WORKER_SPEC
     _WORKER_SPEC = spec
+    if tune:
+        tune_malloc()
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and stops the pool
@@ -102,16 +122,20 @@ def default_jobs() -> int:
 
 
 def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None,
-              progress: Callable[[int], None] | None = None) -> list[UnitResult]:
+              progress: Callable[[int], None] | None = None, fast_malloc: bool = False) -> list[UnitResult]:
     """Evaluate every input against ``spec``; one UnitResult per input, in input order.
 
-    ``jobs`` None means :func:`default_jobs`; ``progress(n)`` is called after each ``n`` files.
+    ``jobs`` None means :func:`default_jobs`; ``progress(n)`` is called after each ``n`` files;
+    ``fast_malloc`` calls :func:`tune_malloc` (in this process and the workers) for a large lot.
     Unreadable files give results with ``error`` set; they never stop the others. Ctrl-C stops the
     workers and propagates KeyboardInterrupt.
     """
     items = [i if isinstance(i, Input) else Input(str(i)) for i in inputs]
     jobs = default_jobs() if jobs is None else int(jobs)
     todo = [i.path for i in items if i.error is None]
+    tune = fast_malloc and len(todo) > 16
+    if tune:
+        tune_malloc()
     if jobs <= 1 or len(todo) <= IN_PROCESS_MAX:
         results = []
         for it in items:
@@ -129,7 +153,7 @@ def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None
     jobs = min(jobs, len(todo))
     chunk = max(1, min(64, math.ceil(len(todo) / (jobs * 8))))
     done = {}
-    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker, initargs=(spec,))
+    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker, initargs=(spec, tune))
     try:
         futures = []
         for k in range(0, len(todo), chunk):

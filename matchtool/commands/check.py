@@ -28,7 +28,8 @@ Exit status: 0 every unit passed, 1 a requirement failed, 2 a file or the spec c
 """
 
 TABLE_ALL_MAX = 50
-"""Lots larger than this show only the units that did not pass in the terminal table."""
+"""Lots larger than this show only the units that did not pass, at most this many, in the table
+(the CSV and JSON hold every row; a table of a thousand units helps nobody and is slow to draw)."""
 PROGRESS_MIN = 20
 
 
@@ -85,7 +86,7 @@ def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) ->
     from rich.table import Table
 
     c = console()
-    shown = results if len(results) <= TABLE_ALL_MAX else [u for u in results if not u.passed]
+    shown = results if len(results) <= TABLE_ALL_MAX else [u for u in results if not u.passed][:TABLE_ALL_MAX]
     t = Table(title=f"Check against {escape(spec.path)}", title_justify="left", show_edge=False)
     for col in ("file", "requirement", "verdict", "worst", "at", "limit", "margin"):
         t.add_column(col, justify="left" if col in ("file", "requirement", "verdict") else "right")
@@ -99,7 +100,9 @@ def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) ->
     if shown:
         c.print(t)
     if len(shown) < len(results):
-        c.print(f"({len(results) - len(shown)} passing units not listed; see --csv or --json for every row)")
+        not_passing = sum(1 for u in results if not u.passed)
+        c.print(f"({len(results) - len(shown)} units not listed: {len(results) - not_passing} passing, "
+                f"{not_passing - len(shown)} more not passing; --csv or --json hold every row)")
     c.print("Margins are in dB of return loss (positive = passing); a VSWR or S11 limit is converted to it.")
     if summary is not None:
         c.print(f"[bold]Lot[/bold]: {summary.units} units, {summary.passed} passed, {summary.failed} failed, "
@@ -161,9 +164,9 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     n_jobs = default_jobs() if jobs is None else jobs
     if sys.stderr.isatty() and len(inputs) >= PROGRESS_MIN:
         with _Progress(len(inputs)) as bar:
-            results = run_batch(inputs, spec, n_jobs, progress=bar)
+            results = run_batch(inputs, spec, n_jobs, progress=bar, fast_malloc=True)
     else:
-        results = run_batch(inputs, spec, n_jobs)
+        results = run_batch(inputs, spec, n_jobs, fast_malloc=True)
     summary = summarize_lot(results) if len(results) > 1 else None
     outputs: list[tuple[str, str]] = []
     if junit:
