@@ -170,3 +170,38 @@ def test_pattern_that_matches_nothing_is_a_per_file_error(cli, lot):
     assert r.code == 2
     files = r.json()["files"]
     assert files[0]["pass"] is True and "matches no file" in files[1]["error"]
+
+
+def test_core_and_check_imports_are_lean(tmp_path):
+    import subprocess
+    import sys
+
+    from helpers import ROOT
+
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    p = write_rlc(tmp_path / "u.s1p")
+    lib = ("import matchtool.spec, matchtool.batch, matchtool.render.junit, matchtool.render.csvout\n"
+           "import sys; print(' '.join(sys.modules))")
+    mods = set(subprocess.run([sys.executable, "-c", lib], capture_output=True, text=True, cwd=ROOT,
+                              check=True).stdout.split())
+    assert not {"typer", "rich", "matplotlib"} & mods
+    run = (f"from matchtool.cli import main\nmain(['check', {str(p)!r}, '--spec', {str(spec)!r}])\n"
+           "import sys; print(' '.join(sys.modules))")
+    out = subprocess.run([sys.executable, "-c", run], capture_output=True, text=True, cwd=ROOT).stdout
+    assert "guard" in out and "matplotlib" not in out.split()
+
+
+def test_progress_bar_only_on_a_terminal(cli, tmp_path, monkeypatch):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    for k in range(20):
+        write_rlc(tmp_path / f"u{k}.s1p", n=101)
+    quiet = cli("check", tmp_path, "--spec", spec, "--json")
+    assert "checking" not in quiet.err
+    import sys
+
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    monkeypatch.setenv("FORCE_COLOR", "1")
+    loud = cli("check", tmp_path, "--spec", spec, "--json")
+    assert "checking" in loud.err and loud.json() == quiet.json()
