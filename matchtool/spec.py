@@ -345,6 +345,19 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
     if "golden" in doc:
         golden = _golden(doc["golden"], path, bands, port, z0_ohm, warnings)
 
+    taken: dict[str, str] = {}
+    generated = [(f"band[{i + 1}].name", b.name) for i, b in enumerate(bands)]
+    generated += [(f"band[{i + 1}].max_mismatch_loss_db", f"{b.name} mismatch loss")
+                  for i, b in enumerate(bands) if b.max_mismatch_loss_db is not None]
+    if resonance is not None:
+        generated.append(("resonance", "resonance"))
+    if golden is not None:
+        generated.append(("golden.band", f"{golden.band} deviation from golden"))
+    for key, req in generated:
+        if req in taken:
+            raise SpecError(f"two requirements would both be named {req!r}", path=path, key=taken[req],
+                            expected="band names that differ from 'resonance' and from '<band> mismatch loss'")
+        taken[req] = key
     if not bands and resonance is None:
         raise SpecError("the spec states no requirement (an empty spec would pass every unit)", path=path,
                         key="band", expected="at least one [[band]] with a limit, or a [resonance] window")
@@ -384,7 +397,7 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
         raise SpecError(f"golden file unusable: {exc}", path=path, key="golden.file") from None
     band = next(b for b in bands if b.name == g["band"])
     f = sw.f_hz
-    if band.f_low_hz < f[0] or band.f_high_hz > f[-1]:
+    if not _covers(f, band.f_low_hz, band.f_high_hz):
         raise SpecError(f"golden sweep ({f[0]:g} to {f[-1]:g} Hz) does not cover band {band.name!r} "
                         f"({band.f_low_hz:g} to {band.f_high_hz:g} Hz)", path=path, key="golden.file")
     warnings.extend(sw.warnings)
@@ -418,6 +431,13 @@ def _rl_db(gamma: np.ndarray) -> np.ndarray:
     return np.minimum(rf.return_loss_db(gamma), _CAP_DB)
 
 
+def _covers(f: np.ndarray, lo: float, hi: float) -> bool:
+    """Whether the sweep spans [lo, hi], allowing for the rounding of a file's frequency unit
+    (0.902 GHz * 1e9 may land a fraction of a micro-hertz off 902 MHz)."""
+    tol = 1e-9 * max(abs(float(f[-1])), 1.0)
+    return bool(f.size >= 2 and lo >= f[0] - tol and hi <= f[-1] + tol)
+
+
 def _not_covered(name: str, key: str, limit: float, lo: float, hi: float, f: np.ndarray) -> RequirementResult:
     reason = (f"the sweep ({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz) does not cover the band "
               f"({lo / 1e6:.6g} to {hi / 1e6:.6g} MHz)")
@@ -428,12 +448,13 @@ def _not_covered(name: str, key: str, limit: float, lo: float, hi: float, f: np.
 def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
                   warnings: list[str]) -> list[RequirementResult]:
     lo, hi = b.f_low_hz, b.f_high_hz
-    if lo < f[0] or hi > f[-1]:
+    if not _covers(f, lo, hi):
         out = [_not_covered(b.name, b.limit_key, b.limit, lo, hi, f)]
         if b.max_mismatch_loss_db is not None:
             out.append(_not_covered(f"{b.name} mismatch loss", "max_mismatch_loss_db", b.max_mismatch_loss_db, lo, hi, f))
         return out
-    fb, gb = band_samples(f, gamma, lo, hi)
+    fb, gb = band_samples(f, gamma, max(lo, f[0]), min(hi, f[-1]))
+    fb[0], fb[-1] = lo, hi  # report the spec's own edges (they differ from the sweep's by rounding only)
     mag = np.abs(gb)
     n_in = int(np.count_nonzero((f >= lo) & (f <= hi)))
     if n_in < MIN_BAND_SAMPLES:
@@ -467,8 +488,9 @@ def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
 def _golden_result(g: GoldenSpec, b: BandSpec, f: np.ndarray, gamma: np.ndarray) -> RequirementResult:
     name = f"{b.name} deviation from golden"
     lo, hi = b.f_low_hz, b.f_high_hz
-    if lo < f[0] or hi > f[-1]:
+    if not _covers(f, lo, hi):
         return _not_covered(name, "max_deviation_db", g.max_deviation_db, lo, hi, f)
+    lo, hi = max(lo, f[0]), min(hi, f[-1])
     fu, gu = band_samples(f, gamma, lo, hi)
     grid = np.union1d(fu, g.f_hz[(g.f_hz > lo) & (g.f_hz < hi)])
     gu = np.interp(grid, f, gamma.real) + 1j * np.interp(grid, f, gamma.imag)

@@ -205,3 +205,12 @@ def test_progress_bar_only_on_a_terminal(cli, tmp_path, monkeypatch):
     monkeypatch.setenv("FORCE_COLOR", "1")
     loud = cli("check", tmp_path, "--spec", spec, "--json")
     assert "checking" in loud.err and loud.json() == quiet.json()
+
+
+def test_report_may_not_overwrite_an_input(cli, lot):
+    d, spec, good, *_ = lot
+    before = good.read_text()
+    r = cli("check", good, "--spec", spec, "--csv", good, "--force")
+    assert r.code == 2 and "overwrite one of the inputs" in r.err and good.read_text() == before
+    r = cli("check", good, "--spec", spec, "--junit", spec, "--force")
+    assert r.code == 2 and spec.read_text() == SPEC

@@ -307,3 +307,27 @@ def test_fast_loader_agrees_with_sweep_load(tmp_path):
     assert any("> 1" in x for x in sp._load_reflection(hot, 1, None)[2])
     with pytest.raises(Exception, match="port 3"):
         sp._load_reflection(two, 3, None)
+
+
+def test_sweep_in_ghz_exactly_spanning_the_band_is_covered(tmp_path):
+    # 0.902 GHz read from a file need not be 902e6 to the last bit; the band is still covered
+    f = np.linspace(902e6, 928e6, 27)
+    g = gamma_of(series_rlc_z(f, 50.0, 40e-9, 915e6))
+    from helpers import s1p_text
+
+    p = tmp_path / "ghz.s1p"
+    p.write_text(s1p_text(f, g, unit="GHz"))
+    r = sp.check_file(p, sp.parse_spec(BAND + GOOD_LIMIT, "s.toml")).requirements[0]
+    assert r.reason == "" and r.passed and r.worst_f_hz in (902e6, 928e6)
+    short = sweep_from_arrays(np.linspace(902.5e6, 928e6, 27), g, 50.0)
+    assert "does not cover" in sp.evaluate(short, sp.parse_spec(BAND + GOOD_LIMIT, "s.toml")).requirements[0].reason
+
+
+@pytest.mark.parametrize("text", [
+    '[[band]]\nname = "resonance"\nf_low = 9e8\nf_high = 9.3e8\nmax_vswr = 2\n[resonance]\nf_low = 9e8\nf_high = 9.3e8\n',
+    BAND + GOOD_LIMIT + "max_mismatch_loss_db = 1\n"
+    + '[[band]]\nname = "ism mismatch loss"\nf_low = 9e8\nf_high = 9.3e8\nmax_vswr = 2\n',
+])
+def test_requirement_names_must_be_unique(text):
+    with pytest.raises(SpecError, match="two requirements"):
+        sp.parse_spec(text, "s.toml")

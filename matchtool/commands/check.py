@@ -161,6 +161,11 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     inputs = expand_inputs(sweeps)
     if not inputs:
         raise UsageError("no sweep to check", expected="files, glob patterns or directories of Touchstone files")
+    protected = {str(Path(i.path).resolve()) for i in inputs if i.error is None} | {str(Path(spec.path).resolve())}
+    for p in targets:
+        if str(Path(p).resolve()) in protected:
+            raise UsageError("an output would overwrite one of the inputs", path=p,
+                             expected="a report file name that is not a sweep or the spec")
     n_jobs = default_jobs() if jobs is None else jobs
     if sys.stderr.isatty() and len(inputs) >= PROGRESS_MIN:
         with _Progress(len(inputs)) as bar:

@@ -27,7 +27,7 @@ def _cell(x) -> str:
         if not math.isfinite(x):
             return "inf" if x > 0 else ("-inf" if x < 0 else "nan")
         return repr(x)
-    return str(x)
+    return str(x).encode("utf-8", "replace").decode("utf-8")  # a file name that is not valid UTF-8
 
 
 def csv_text(results: list[UnitResult]) -> str:
