@@ -8,6 +8,7 @@ processes in chunks; the results are identical to ``jobs = 1`` (same pure functi
 
 from __future__ import annotations
 
+import contextlib
 import glob
 import math
 import os
@@ -18,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .spec import Spec, UnitResult, check_file
+from .spec import RequirementResult, Spec, UnitResult, check_file
 
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)$", re.I)
 IN_PROCESS_MAX = 64
@@ -165,7 +166,16 @@ def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None
             if progress:
                 progress(len(part))
     except BaseException:
+        # Ctrl-C (or any failure): stop now, not after the queued chunks. The workers are this
+        # process's own children; end each by its handle.
+        procs = list(getattr(pool, "_processes", {}).values())
         pool.shutdown(wait=False, cancel_futures=True)
+        for proc in procs:
+            with contextlib.suppress(Exception):
+                proc.terminate()
+        for proc in procs:
+            with contextlib.suppress(Exception):
+                proc.join(timeout=2)
         raise
     pool.shutdown(wait=True)
     it_res = iter(results_flat)
@@ -202,6 +212,7 @@ class WorstUnit:
     requirement: str
     margin_db: float | None
     passed: bool
+    margin_hz: float | None = None
 
 
 @dataclass(frozen=True)
@@ -224,18 +235,19 @@ class LotSummary:
         return self.passed / self.units if self.units else 0.0
 
 
-def _unit_key(u: UnitResult) -> tuple[bool, float, str]:
-    """Sort key of a unit, worst first: failing before passing, then the smallest dB margin (a
-    requirement that could not be evaluated counts as -inf; the resonance window has no dB margin)."""
-    m, where = math.inf, ""
-    for r in u.requirements:
-        x = r.margin_db if r.margin_db is not None else (math.inf if r.key == "resonance" else -math.inf)
-        if x < m or not where:
-            m, where = x, r.name
-    failing = [r.name for r in u.requirements if not r.passed]
-    if failing and where not in failing:
-        where = failing[0]
-    return (u.passed, m, where)
+def _unit_key(u: UnitResult) -> tuple[bool, float, RequirementResult | None]:
+    """Sort key of a unit, worst first: failing before passing, then the smallest margin in dB.
+
+    For a failing unit only its failing requirements count; one without a dB margin (not
+    evaluated, or outside the resonance window) counts as -inf. The requirement is returned too.
+    """
+    reqs = [r for r in u.requirements if not r.passed] or [r for r in u.requirements if r.margin_db is not None]
+    worst, m = None, math.inf
+    for r in reqs:
+        x = r.margin_db if r.margin_db is not None else -math.inf
+        if worst is None or x < m:
+            worst, m = r, x
+    return (u.passed, m, worst)
 
 
 def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
@@ -253,7 +265,8 @@ def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
     f_best = np.array([u.best_f_hz for u in ok if u.best_f_hz is not None], dtype=float)
     spread = (float(f_best.min()), float(np.median(f_best)), float(f_best.max())) if f_best.size else (None,) * 3
     ranked = sorted(((_unit_key(u), n, u) for n, u in enumerate(ok)), key=lambda t: (t[0][0], t[0][1], t[1]))
-    worst = tuple(WorstUnit(u.file, k[2], k[1] if math.isfinite(k[1]) else None, u.passed)
+    worst = tuple(WorstUnit(u.file, k[2].name if k[2] else "", k[2].margin_db if k[2] else None, u.passed,
+                            k[2].margin_hz if k[2] else None)
                   for k, _, u in ranked[:n_worst])
     passed = sum(1 for u in results if u.passed)
     errors = len(results) - len(ok)

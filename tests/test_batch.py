@@ -79,8 +79,13 @@ def test_lot_summary(tmp_path, spec):
     ism = next(y for y in s.yields if y.name == "ism")
     assert ism.passed == sum(r >= 10 for r in rl_worst) and 0 < ism.passed < len(f0s)
     # worst units: the failing ones first, each group by its smallest dB margin
-    margins = [min(r.margin_db for r in u.requirements if r.margin_db is not None) for u in results]
-    order = sorted(range(len(results)), key=lambda k: (results[k].passed, margins[k]))
+    # (a failing unit by its failing requirements only, one without a dB margin counting as -inf)
+    def key(u):
+        reqs = [r for r in u.requirements if not r.passed] or u.requirements
+        return (u.passed, min(-np.inf if r.margin_db is None else r.margin_db for r in reqs
+                              if r.margin_db is not None or not r.passed))
+
+    order = sorted(range(len(results)), key=lambda k: key(results[k]))
     assert [w.file for w in s.worst] == [results[k].file for k in order]
     assert [w.passed for w in s.worst] == sorted(w.passed for w in s.worst)
     for w, k in zip(s.worst, order, strict=True):  # the named requirement is one that failed

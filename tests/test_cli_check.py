@@ -214,3 +214,22 @@ def test_report_may_not_overwrite_an_input(cli, lot):
     assert r.code == 2 and "overwrite one of the inputs" in r.err and good.read_text() == before
     r = cli("check", good, "--spec", spec, "--junit", spec, "--force")
     assert r.code == 2 and spec.read_text() == SPEC
+
+
+def test_interrupt_in_a_worker_process_stops_the_lot(cli, tmp_path, monkeypatch):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    for k in range(8):
+        write_rlc(tmp_path / f"u{k}.s1p", n=101)
+    monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
+    real = batch._work
+
+    def work(path):  # runs in the forked workers
+        if path.endswith("u5.s1p"):
+            raise KeyboardInterrupt
+        return real(path)
+
+    monkeypatch.setattr(batch, "_work", work)
+    r = cli("check", tmp_path, "--spec", spec, "--jobs", "2", "--csv", tmp_path / "r.csv")
+    assert r.code == 130 and not (tmp_path / "r.csv").exists()
+    assert not [p for p in tmp_path.iterdir() if p.name.endswith(".part")]

@@ -52,8 +52,8 @@ def summary_doc(s: LotSummary) -> dict[str, Any]:
             "yield": [{"name": y.name, "passed": y.passed, "evaluated": y.evaluated, "yield_fraction": y.yield_fraction}
                       for y in s.yields],
             "resonance_f_hz": {"min": s.resonance_min_hz, "median": s.resonance_median_hz, "max": s.resonance_max_hz},
-            "worst_units": [{"file": w.file, "requirement": w.requirement, "margin_db": w.margin_db, "pass": w.passed}
-                            for w in s.worst]}
+            "worst_units": [{"file": w.file, "requirement": w.requirement, "margin_db": w.margin_db,
+                             "margin_hz": w.margin_hz, "pass": w.passed} for w in s.worst]}
 
 
 def check_doc(spec: Spec, results: list[UnitResult], summary: LotSummary | None, warnings: list[str]) -> dict[str, Any]:
@@ -64,6 +64,14 @@ def check_doc(spec: Spec, results: list[UnitResult], summary: LotSummary | None,
         doc["summary"] = summary_doc(summary)
     doc["warnings"] = warnings
     return doc
+
+
+def _worst_margin(w) -> str:
+    if w.margin_db is not None:
+        return f"{w.margin_db:+.2f} dB"
+    if w.margin_hz is not None:
+        return f"{w.margin_hz / 1e6:+.3f} MHz from the window"
+    return "not evaluated"
 
 
 def _verdict(r: RequirementResult) -> str:
@@ -117,10 +125,8 @@ def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) ->
             c.print(f"Best-match frequency: min {ff(summary.resonance_min_hz)}, median {ff(summary.resonance_median_hz)}, "
                     f"max {ff(summary.resonance_max_hz)}")
         if summary.worst:
-            c.print("Worst units: " + "; ".join(
-                f"{escape(w.file)} ({escape(w.requirement)}, "
-                + (f"{w.margin_db:+.2f} dB" if w.margin_db is not None else "not evaluated") + ")"
-                for w in summary.worst))
+            c.print("Worst units: " + "; ".join(f"{escape(w.file)} ({escape(w.requirement)}, {_worst_margin(w)})"
+                                                for w in summary.worst))
     verdict = ("[red]FAIL[/red]" if not all(u.passed for u in results) else "[green]PASS[/green]")
     c.print(f"Verdict: {verdict}")
 
