@@ -251,6 +251,14 @@ def _edges(t: dict, path: str, prefix: str) -> tuple[float, float]:
     return lo, hi
 
 
+def _bare_hz_warning(t: dict, path: str, prefix: str, warnings: list[str]) -> None:
+    for k in ("f_low", "f_high"):
+        v = t.get(k)
+        if isinstance(v, int | float) and not isinstance(v, bool) and 0 < v < 1e5:
+            warnings.append(f"{path}: {prefix}{k} = {v!r} is read as {v:g} Hz (a bare number is Hz); "
+                            f"write \"{v:g} MHz\" if that was meant")
+
+
 def _band(t: Any, i: int, path: str, seen: set[str]) -> BandSpec:
     prefix = f"band[{i}]."
     if not isinstance(t, dict):
@@ -331,6 +339,9 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
         raise SpecError(f"band is {raw_bands!r}", path=path, key="band", expected="[[band]] tables")
     seen: set[str] = set()
     bands = tuple(_band(t, i + 1, path, seen) for i, t in enumerate(raw_bands))
+    warnings: list[str] = []
+    for i, t in enumerate(raw_bands):
+        _bare_hz_warning(t, path, f"band[{i + 1}].", warnings)
 
     resonance = None
     if "resonance" in doc:
@@ -339,9 +350,9 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
             raise SpecError("is not a table", path=path, key="resonance", expected="a [resonance] table")
         _unknown(r, _RES_KEYS, path, "resonance.")
         resonance = ResonanceSpec(*_edges(r, path, "resonance."))
+        _bare_hz_warning(r, path, "resonance.", warnings)
 
     golden = None
-    warnings: list[str] = []
     if "golden" in doc:
         golden = _golden(doc["golden"], path, bands, port, z0_ohm, warnings)
 

@@ -331,3 +331,33 @@ def test_sweep_in_ghz_exactly_spanning_the_band_is_covered(tmp_path):
 def test_requirement_names_must_be_unique(text):
     with pytest.raises(SpecError, match="two requirements"):
         sp.parse_spec(text, "s.toml")
+
+
+from hypothesis import given  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@given(st.integers(min_value=2, max_value=40), st.integers(min_value=0, max_value=2**32 - 1),
+       st.floats(min_value=0.0, max_value=1.0), st.floats(min_value=0.0, max_value=1.0))
+def test_worst_is_the_worst_of_samples_and_interpolated_edges(n, seed, a, b):
+    # Independent reference: the contract's between-samples rule (sweep.gamma_at) at both edges,
+    # and the raw samples strictly inside the band.
+    rng = np.random.default_rng(seed)
+    f = np.sort(rng.choice(np.arange(800, 1030), size=n, replace=False)).astype(float) * 1e6
+    g = rng.uniform(0, 0.95, n) * np.exp(2j * np.pi * rng.uniform(0, 1, n))
+    sw = sweep_from_arrays(f, g, 50.0)
+    lo = f[0] + min(a, b) * (f[-1] - f[0])
+    hi = f[0] + max(a, b) * (f[-1] - f[0])
+    if hi - lo < 1e3:
+        return
+    text = f'[[band]]\nname = "b"\nf_low = {float(lo)!r}\nf_high = {float(hi)!r}\nmin_return_loss_db = 6\n'
+    r = sp.evaluate(sw, sp.parse_spec(text, "s.toml")).requirements[0]
+    cand = [abs(gamma_at(sw, lo)), abs(gamma_at(sw, hi))] + list(np.abs(g[(f > lo) & (f < hi)]))
+    assert r.worst == pytest.approx(-20 * math.log10(max(cand)), abs=1e-9)
+    assert r.passed == (r.worst >= 6) == (r.margin_db >= 0)
+
+
+def test_bare_small_frequency_warns_that_it_is_hz():
+    s = sp.parse_spec('[[band]]\nname = "x"\nf_low = 902\nf_high = 928\nmin_return_loss_db = 10\n', "s.toml")
+    assert s.bands[0].f_low_hz == 902.0 and any("902 Hz" in w and "MHz" in w for w in s.warnings)
+    assert sp.parse_spec(BAND + GOOD_LIMIT, "s.toml").warnings == ()
