@@ -233,3 +233,18 @@ def test_interrupt_in_a_worker_process_stops_the_lot(cli, tmp_path, monkeypatch)
     r = cli("check", tmp_path, "--spec", spec, "--jobs", "2", "--csv", tmp_path / "r.csv")
     assert r.code == 130 and not (tmp_path / "r.csv").exists()
     assert not [p for p in tmp_path.iterdir() if p.name.endswith(".part")]
+
+
+def test_reports_survive_hostile_file_names(cli, tmp_path):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    odd = write_rlc(tmp_path / 'a&b <"c">\x1b, =1+1.s1p', n=101)
+    junit, table = tmp_path / "r.xml", tmp_path / "r.csv"
+    r = cli("check", odd, "--spec", spec, "--junit", junit, "--csv", table)
+    assert r.code == 0
+    cases = ET.parse(junit).getroot().findall(".//testcase")
+    assert len(cases) == 3 and cases[0].get("classname") == str(odd).replace("\x1b", "\ufffd")
+    assert 'a&b <"c">' in cases[0].get("classname")
+    with open(table, newline="", encoding="utf-8") as fh:
+        rows = list(csv.reader(fh))
+    assert len(rows) == 4 and all(len(x) == len(rows[0]) for x in rows) and 'a&b <"c">' in rows[1][0]
