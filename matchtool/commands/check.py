@@ -138,8 +138,9 @@ class _Progress:
         from rich.console import Console
         from rich.progress import BarColumn, MofNCompleteColumn, Progress, TimeRemainingColumn
 
+        # no refresh thread (auto_refresh off): the worker processes are forked while it runs
         self.p = Progress("checking", BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(),
-                          console=Console(file=sys.stderr), transient=True)
+                          console=Console(file=sys.stderr), transient=True, auto_refresh=False)
         self.task = self.p.add_task("check", total=total)
 
     def __enter__(self):
@@ -151,6 +152,7 @@ class _Progress:
 
     def __call__(self, n: int) -> None:
         self.p.advance(self.task, n)
+        self.p.refresh()
 
 
 def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: str | None = None,
