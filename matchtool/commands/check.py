@@ -142,6 +142,7 @@ class _Progress:
         self.p = Progress("checking", BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(),
                           console=Console(file=sys.stderr), transient=True, auto_refresh=False)
         self.task = self.p.add_task("check", total=total)
+        self.last = 0.0
 
     def __enter__(self):
         self.p.__enter__()
@@ -151,8 +152,13 @@ class _Progress:
         return self.p.__exit__(*exc)
 
     def __call__(self, n: int) -> None:
+        import time
+
         self.p.advance(self.task, n)
-        self.p.refresh()
+        now = time.monotonic()
+        if now - self.last >= 0.1:  # at most ten redraws a second
+            self.last = now
+            self.p.refresh()
 
 
 def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: str | None = None,
