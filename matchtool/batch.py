@@ -235,11 +235,12 @@ class LotSummary:
         return self.passed / self.units if self.units else 0.0
 
 
-def _unit_key(u: UnitResult) -> tuple[bool, float, RequirementResult | None]:
+def _unit_key(u: UnitResult) -> tuple[bool, float, RequirementResult | None, int]:
     """Sort key of a unit, worst first: failing before passing, then the smallest margin in dB.
 
     For a failing unit only its failing requirements count; one without a dB margin (not
-    evaluated, or outside the resonance window) counts as -inf. The requirement is returned too.
+    evaluated, or outside the resonance window) counts as -inf; ties go to the unit that fails more
+    requirements. The requirement is returned too.
     """
     reqs = [r for r in u.requirements if not r.passed] or [r for r in u.requirements if r.margin_db is not None]
     worst, m = None, math.inf
@@ -247,7 +248,7 @@ def _unit_key(u: UnitResult) -> tuple[bool, float, RequirementResult | None]:
         x = r.margin_db if r.margin_db is not None else -math.inf
         if worst is None or x < m:
             worst, m = r, x
-    return (u.passed, m, worst)
+    return (u.passed, m, worst, -sum(1 for r in u.requirements if not r.passed))
 
 
 def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
@@ -264,7 +265,7 @@ def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
             counts[r.name][0] += int(r.passed)
     f_best = np.array([u.best_f_hz for u in ok if u.best_f_hz is not None], dtype=float)
     spread = (float(f_best.min()), float(np.median(f_best)), float(f_best.max())) if f_best.size else (None,) * 3
-    ranked = sorted(((_unit_key(u), n, u) for n, u in enumerate(ok)), key=lambda t: (t[0][0], t[0][1], t[1]))
+    ranked = sorted(((_unit_key(u), n, u) for n, u in enumerate(ok)), key=lambda t: (t[0][0], t[0][1], t[0][3], t[1]))
     worst = tuple(WorstUnit(u.file, k[2].name if k[2] else "", k[2].margin_db if k[2] else None, u.passed,
                             k[2].margin_hz if k[2] else None)
                   for k, _, u in ranked[:n_worst])

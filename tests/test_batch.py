@@ -83,7 +83,8 @@ def test_lot_summary(tmp_path, spec):
     def key(u):
         reqs = [r for r in u.requirements if not r.passed] or u.requirements
         return (u.passed, min(-np.inf if r.margin_db is None else r.margin_db for r in reqs
-                              if r.margin_db is not None or not r.passed))
+                              if r.margin_db is not None or not r.passed),
+                -sum(not r.passed for r in u.requirements))
 
     order = sorted(range(len(results)), key=lambda k: key(results[k]))
     assert [w.file for w in s.worst] == [results[k].file for k in order]

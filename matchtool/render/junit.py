@@ -4,7 +4,8 @@ Layout (read by the common JUnit consumers): ``<testsuites>`` holding one ``<tes
 file (``name`` = the file's path); each test case has ``classname`` = the file's path and
 ``name`` = the requirement. A failing requirement carries ``<failure>`` whose message states the
 worst value, where it occurs and the margin; an unreadable file is one test case named ``load``
-with an ``<error>``. No timestamps, so the same inputs give the same bytes.
+with an ``<error>``. Only the attributes of the common JUnit schema are used (as pytest's
+``xunit2`` family does); no timestamps, so the same inputs give the same bytes.
 """
 
 from __future__ import annotations
@@ -50,12 +51,12 @@ def junit_xml(results: list[UnitResult], suite_name: str = "matchtool check") ->
         fails = errs = 0
         cls = _text(u.file)
         if u.error is not None:
-            tc = ET.Element("testcase", classname=cls, name="load", file=cls)
+            tc = ET.Element("testcase", classname=cls, name="load")
             ET.SubElement(tc, "error", message=_text(u.error), type="InputError").text = _text(u.error)
             cases.append(tc)
             errs += 1
         for r in u.requirements:
-            tc = ET.Element("testcase", classname=cls, name=_text(r.name), file=cls)
+            tc = ET.Element("testcase", classname=cls, name=_text(r.name))
             if not r.passed:
                 msg = _text(requirement_message(r))
                 ET.SubElement(tc, "failure", message=msg, type="RequirementFailed").text = msg
