@@ -289,7 +289,10 @@ def _band(t: Any, i: int, path: str, seen: set[str]) -> BandSpec:
         raise SpecError(f"positive S11 limit {limit:g} dB (a passive load has S11 <= 0 dB)", path=path,
                         key=prefix + key, expected="e.g. max_s11_db = -10, or min_return_loss_db = 10")
     if key == "max_vswr" and limit < 1:
-        raise SpecError(f"VSWR limit {limit:g} is below 1", path=path, key=prefix + key, expected="a VSWR >= 1, e.g. 2")
+        raise SpecError(f"VSWR limit {limit:g} is below 1", path=path, key=prefix + key, expected="a VSWR above 1, e.g. 2")
+    if key == "max_vswr" and limit == 1:
+        raise SpecError("VSWR limit 1 asks for a perfect match, which no measured unit meets", path=path,
+                        key=prefix + key, expected="a VSWR above 1, e.g. 2")
     ml = None
     if "max_mismatch_loss_db" in t:
         ml = _number(t["max_mismatch_loss_db"], path, prefix + "max_mismatch_loss_db", "limit")

@@ -193,6 +193,7 @@ GOOD_LIMIT = "min_return_loss_db = 10\n"
     (BAND + "min_return_loss_db = -10\n", "band[1].min_return_loss_db", "negative return loss"),
     (BAND + "max_s11_db = 10\n", "band[1].max_s11_db", "positive S11"),
     (BAND + "max_vswr = 0.5\n", "band[1].max_vswr", "below 1"),
+    (BAND + "max_vswr = 1\n", "band[1].max_vswr", "perfect match"),
     (BAND + GOOD_LIMIT + "max_mismatch_loss_db = -0.5\n", "band[1].max_mismatch_loss_db", "negative"),
     (BAND + GOOD_LIMIT + BAND + GOOD_LIMIT, "band[2].name", "duplicate"),
     ('[[band]]\nf_low = "902 MHz"\nf_high = "928 MHz"\n' + GOOD_LIMIT, "band[1].name", "name"),
