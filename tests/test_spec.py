@@ -362,3 +362,22 @@ def test_bare_small_frequency_warns_that_it_is_hz():
     s = sp.parse_spec('[[band]]\nname = "x"\nf_low = 902\nf_high = 928\nmin_return_loss_db = 10\n', "s.toml")
     assert s.bands[0].f_low_hz == 902.0 and any("902 Hz" in w and "MHz" in w for w in s.warnings)
     assert sp.parse_spec(BAND + GOOD_LIMIT, "s.toml").warnings == ()
+
+
+@pytest.mark.parametrize("vswr, rl_db, ml_db", [
+    # VSWR / return loss / mismatch loss table (Pozar 4th ed. eqs. 2.37-2.41; T. S. Bird, IEEE Antennas
+    # Propag. Mag. 51(2), 2009), as transcribed in shared/references.md
+    (1.1, 26.444, 0.00986), (1.2, 20.828, 0.03604), (1.5, 13.979, 0.17729),
+    (2.0, 9.5424, 0.51153), (3.0, 6.0206, 1.24939), (5.0, 3.5218, 2.55273),
+])
+def test_resistive_loads_reproduce_the_vswr_table(vswr, rl_db, ml_db):
+    # a resistor of VSWR x 50 ohm on a 50 ohm system has exactly that VSWR at every frequency
+    f = np.linspace(880e6, 950e6, 15)
+    r_ohm = 50.0 * vswr
+    sw = sweep_from_arrays(f, np.full(f.size, (r_ohm - 50) / (r_ohm + 50), dtype=complex), 50.0)
+    text = (BAND + f"max_vswr = {vswr}\nmax_mismatch_loss_db = {ml_db}\n"
+            + '[[band]]\nname = "rl"\nf_low = 9e8\nf_high = 9.3e8\n' + f"min_return_loss_db = {rl_db}\n")
+    v, ml, rl = sp.evaluate(sw, sp.parse_spec(text, "s.toml")).requirements
+    assert v.worst == pytest.approx(vswr, rel=1e-12) and v.margin_db == pytest.approx(0, abs=1e-9)
+    assert rl.worst == pytest.approx(rl_db, abs=5e-4) and abs(rl.margin_db) < 5e-4
+    assert ml.worst == pytest.approx(ml_db, abs=5e-6)
