@@ -546,7 +546,19 @@ def evaluate_arrays(f_hz: np.ndarray, gamma: np.ndarray, spec: Spec, file: str =
 
 def evaluate(sweep: Sweep, spec: Spec) -> UnitResult:
     """Evaluate a loaded :class:`~matchtool.sweep.Sweep` against ``spec`` (the sweep's own port and
-    reference impedance are used as loaded; load it with ``spec.port`` / ``spec.z0_ohm``)."""
+    reference impedance are used as loaded; load it with ``spec.port`` / ``spec.z0_ohm``).
+
+    A sweep loaded for another port or system impedance than the spec states is refused
+    (UsageError) rather than judged on the wrong reflection.
+    """
+    from .errors import UsageError
+
+    if sweep.port != spec.port:
+        raise UsageError(f"sweep was loaded for port {sweep.port} but the spec checks port {spec.port}",
+                         path=sweep.path, expected=f"load(path, port={spec.port})")
+    if spec.z0_ohm is not None and not math.isclose(sweep.z0_ohm, spec.z0_ohm, rel_tol=1e-9):
+        raise UsageError(f"sweep is at {sweep.z0_ohm:g} ohm but the spec asks for {spec.z0_ohm:g} ohm",
+                         path=sweep.path, expected=f"load(path, z0_ohm={spec.z0_ohm:g})")
     return evaluate_arrays(sweep.f_hz, sweep.gamma, spec, file=sweep.path, warnings=sweep.warnings)
 
 

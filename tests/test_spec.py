@@ -381,3 +381,14 @@ def test_resistive_loads_reproduce_the_vswr_table(vswr, rl_db, ml_db):
     assert v.worst == pytest.approx(vswr, rel=1e-12) and v.margin_db == pytest.approx(0, abs=1e-9)
     assert rl.worst == pytest.approx(rl_db, abs=5e-4) and abs(rl.margin_db) < 5e-4
     assert ml.worst == pytest.approx(ml_db, abs=5e-6)
+
+
+def test_evaluate_refuses_a_sweep_loaded_for_another_port_or_impedance(tmp_path):
+    from matchtool.errors import UsageError
+
+    p = write_rlc(tmp_path / "u.s1p")
+    with pytest.raises(UsageError, match="75 ohm"):
+        sp.evaluate(load(p), sp.parse_spec("z0_ohm = 75\n" + BAND + GOOD_LIMIT, "s.toml"))
+    with pytest.raises(UsageError, match="port 2"):
+        sp.evaluate(load(p), sp.parse_spec("port = 2\n" + BAND + GOOD_LIMIT, "s.toml"))
+    assert sp.evaluate(load(p, z0_ohm=75), sp.parse_spec("z0_ohm = 75\n" + BAND + GOOD_LIMIT, "s.toml")).requirements
