@@ -71,7 +71,7 @@ LIMIT_UNITS = {
 _TOP_KEYS = {"name", "port", "z0_ohm", "band", "resonance", "golden"}
 _BAND_KEYS = {"name", "f_low", "f_high", "max_mismatch_loss_db", *LIMIT_KEYS}
 _RES_KEYS = {"f_low", "f_high"}
-_GOLDEN_KEYS = {"file", "band", "max_deviation_db", "port"}
+_GOLDEN_KEYS = {"file", "band", "max_deviation_db", "port", "rl_ceiling_db"}
 _CAP_DB = 400.0  # stands in for +inf return loss (a perfect sample), as in bands.py
 MIN_BAND_SAMPLES = 3
 
@@ -118,6 +118,9 @@ class GoldenSpec:
     max_deviation_db: float
     f_hz: np.ndarray
     gamma: np.ndarray
+    rl_ceiling_db: float | None = None
+    """Return loss above this (positive dB) counts as this in both curves, so that two deep nulls
+    of different depth (35 dB against 45 dB, both excellent) do not count as a deviation."""
 
 
 @dataclass(frozen=True)
@@ -397,6 +400,12 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
     if dev <= 0:
         raise SpecError(f"max_deviation_db is {dev:g}", path=path, key="golden.max_deviation_db",
                         expected="a positive number of dB")
+    ceiling = None
+    if "rl_ceiling_db" in g:
+        ceiling = _number(g["rl_ceiling_db"], path, "golden.rl_ceiling_db", "ceiling")
+        if ceiling <= 0:
+            raise SpecError(f"rl_ceiling_db is {ceiling:g}", path=path, key="golden.rl_ceiling_db",
+                            expected="a positive return loss in dB, e.g. 25")
     gport = g.get("port", port)
     if isinstance(gport, bool) or not isinstance(gport, int) or gport < 1:
         raise SpecError(f"port is {gport!r}", path=path, key="golden.port", expected="a port number from 1")
@@ -416,7 +425,7 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
                         f"({band.f_low_hz:g} to {band.f_high_hz:g} Hz)", path=path, key="golden.file")
     warnings.extend(sw.warnings)
     return GoldenSpec(path=str(gpath), band=band.name, max_deviation_db=dev, f_hz=np.array(f, dtype=float),
-                      gamma=np.array(sw.gamma, dtype=complex))
+                      gamma=np.array(sw.gamma, dtype=complex), rl_ceiling_db=ceiling)
 
 
 def load_spec(path: str | Path, port: int | None = None, z0_ohm: float | None = None) -> Spec:
@@ -509,7 +518,8 @@ def _golden_result(g: GoldenSpec, b: BandSpec, f: np.ndarray, gamma: np.ndarray)
     grid = np.union1d(fu, g.f_hz[(g.f_hz > lo) & (g.f_hz < hi)])
     gu = np.interp(grid, f, gamma.real) + 1j * np.interp(grid, f, gamma.imag)
     gg = np.interp(grid, g.f_hz, g.gamma.real) + 1j * np.interp(grid, g.f_hz, g.gamma.imag)
-    dev = np.abs(_rl_db(gu) - _rl_db(gg))
+    cap = _CAP_DB if g.rl_ceiling_db is None else g.rl_ceiling_db
+    dev = np.abs(np.minimum(_rl_db(gu), cap) - np.minimum(_rl_db(gg), cap))
     k = int(np.argmax(dev))
     worst = float(dev[k])
     return RequirementResult(name=name, key="max_deviation_db", passed=bool(worst <= g.max_deviation_db),

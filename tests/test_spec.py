@@ -392,3 +392,19 @@ def test_evaluate_refuses_a_sweep_loaded_for_another_port_or_impedance(tmp_path)
     with pytest.raises(UsageError, match="port 2"):
         sp.evaluate(load(p), sp.parse_spec("port = 2\n" + BAND + GOOD_LIMIT, "s.toml"))
     assert sp.evaluate(load(p, z0_ohm=75), sp.parse_spec("z0_ohm = 75\n" + BAND + GOOD_LIMIT, "s.toml")).requirements
+
+
+def test_golden_ceiling_ignores_null_depth(tmp_path):
+    # Two units resonating at the same frequency with different null depth (R 48 vs 50 ohm):
+    # their return losses differ by tens of dB at f0 only; a 20 dB ceiling makes them agree.
+    gold = write_rlc(tmp_path / "g.s1p", r_ohm=50.0, n=461)
+    unit = write_rlc(tmp_path / "u.s1p", r_ohm=48.0, n=461)
+    base = BAND + 'min_return_loss_db = 3\n[golden]\nfile = "g.s1p"\nband = "ism"\nmax_deviation_db = 1\n'
+    raw = sp.check_file(unit, sp.load_spec(write_spec(tmp_path, base, "a.toml"))).requirements[-1]
+    capped = sp.check_file(unit, sp.load_spec(write_spec(tmp_path, base + "rl_ceiling_db = 20\n", "b.toml")))
+    assert not raw.passed and raw.worst > 10 and raw.worst_f_hz == pytest.approx(915e6)
+    c = capped.requirements[-1]
+    assert c.passed and c.worst < 1
+    assert gold.exists()
+    with pytest.raises(SpecError, match="rl_ceiling_db"):
+        sp.load_spec(write_spec(tmp_path, base + "rl_ceiling_db = -3\n", "c.toml"))
