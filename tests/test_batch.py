@@ -1,0 +1,114 @@
+"""Batch checking: input expansion and order, parallel runs equal to serial, per-file errors, lot summary."""
+
+from __future__ import annotations
+
+import os
+
+import numpy as np
+import pytest
+from helpers import gamma_of, series_rlc_z, write_rlc
+
+from matchtool import batch
+from matchtool.spec import parse_spec
+
+SPEC = ('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 10\n'
+        '[resonance]\nf_low = "905 MHz"\nf_high = "925 MHz"\n')
+
+
+@pytest.fixture
+def spec():
+    return parse_spec(SPEC, "spec.toml")
+
+
+def make_lot(d, f0s_hz, r_ohm=50.0, l_h=40e-9):
+    d.mkdir(parents=True, exist_ok=True)
+    return [write_rlc(d / f"u{k}.s1p", f0_hz=f0, r_ohm=r_ohm, l_h=l_h, n=231) for k, f0 in enumerate(f0s_hz)]
+
+
+def test_directories_recurse_in_natural_order(tmp_path):
+    for name in ("u10.s1p", "u2.s1p", "sub/u1.s2p", "notes.txt", ".hidden/u0.s1p", "sub/deeper/x.ts"):
+        p = tmp_path / "lot" / name
+        p.parent.mkdir(parents=True, exist_ok=True)
+        p.write_text("x")
+    got = [os.path.relpath(i.path, tmp_path / "lot") for i in batch.expand_inputs([tmp_path / "lot"])]
+    assert got == ["sub/deeper/x.ts", "sub/u1.s2p", "u2.s1p", "u10.s1p"]
+
+
+def test_globs_literals_duplicates_and_empty_patterns(tmp_path):
+    make_lot(tmp_path / "a", [915e6] * 3)
+    inputs = batch.expand_inputs([tmp_path / "a" / "u1.s1p", str(tmp_path / "a" / "*.s1p"),
+                                  str(tmp_path / "**" / "u2.s1p"), tmp_path / "missing.s1p",
+                                  str(tmp_path / "zzz*.s1p")])
+    names = [os.path.basename(i.path) for i in inputs]
+    assert names == ["u1.s1p", "u0.s1p", "u2.s1p", "missing.s1p", "zzz*.s1p"]  # first occurrence kept
+    assert inputs[3].error is None  # a literal path is loaded (and reported) as a file
+    assert "matches no file" in inputs[4].error
+
+
+def test_parallel_equals_serial(tmp_path, spec, monkeypatch):
+    rng = np.random.default_rng(7)
+    f0s = rng.uniform(880e6, 950e6, 30)
+    paths = make_lot(tmp_path, f0s, r_ohm=40.0)
+    (tmp_path / "broken.s1p").write_text("# MHz S RI R 50\n900 0.1 0.2\n910 0.3\n")
+    inputs = batch.expand_inputs([tmp_path])
+    monkeypatch.setattr(batch, "IN_PROCESS_MAX", 4)  # force the process pool for this small lot
+    calls = []
+    par = batch.run_batch(inputs, spec, jobs=3, progress=calls.append)
+    ser = batch.run_batch(inputs, spec, jobs=1)
+    assert par == ser and len(par) == len(paths) + 1
+    assert sum(calls) == len(inputs)  # progress counts every file, readable or not
+    assert [u.file for u in par] == [i.path for i in inputs]
+    bad = [u for u in par if u.error]
+    assert len(bad) == 1 and "broken.s1p line 3" in bad[0].error
+    assert all(u.error is None and u.requirements for u in par if u is not bad[0])
+
+
+def test_lot_summary(tmp_path, spec):
+    # resonant frequencies on the sweep's 1 MHz grid, so the best sample lies exactly at f0
+    f0s = [900e6, 915e6, 918e6, 930e6, 912e6]
+    results = batch.run_batch(batch.expand_inputs(make_lot(tmp_path, f0s, l_h=150e-9)), spec, jobs=1)
+    s = batch.summarize_lot(results)
+    assert (s.resonance_min_hz, s.resonance_median_hz, s.resonance_max_hz) == pytest.approx(
+        (900e6, float(np.median(f0s)), 930e6))
+    # independent count: resonance window 905-925 MHz
+    res_yield = next(y for y in s.yields if y.name == "resonance")
+    assert (res_yield.passed, res_yield.evaluated) == (sum(905e6 <= f <= 925e6 for f in f0s), len(f0s))
+    # independent count for the band: analytic worst return loss of each series RLC at the band edges
+    edges = np.array([902e6, 928e6])
+    rl_worst = [(-20 * np.log10(np.abs(gamma_of(series_rlc_z(edges, 50.0, 150e-9, f0))))).min() for f0 in f0s]
+    ism = next(y for y in s.yields if y.name == "ism")
+    assert ism.passed == sum(r >= 10 for r in rl_worst) and 0 < ism.passed < len(f0s)
+    # worst units: the failing ones first, each group by its smallest dB margin
+    # (a failing unit by its failing requirements only, one without a dB margin counting as -inf)
+    def key(u):
+        reqs = [r for r in u.requirements if not r.passed] or u.requirements
+        return (u.passed, min(-np.inf if r.margin_db is None else r.margin_db for r in reqs
+                              if r.margin_db is not None or not r.passed),
+                -sum(not r.passed for r in u.requirements))
+
+    order = sorted(range(len(results)), key=lambda k: key(results[k]))
+    assert [w.file for w in s.worst] == [results[k].file for k in order]
+    assert [w.passed for w in s.worst] == sorted(w.passed for w in s.worst)
+    for w, k in zip(s.worst, order, strict=True):  # the named requirement is one that failed
+        assert w.passed or w.requirement in {r.name for r in results[k].requirements if not r.passed}
+    assert s.units == 5 and s.passed + s.failed + s.errors == 5 and s.errors == 0
+
+
+def test_summary_counts_unreadable_units(tmp_path, spec):
+    make_lot(tmp_path, [915e6, 915e6])
+    (tmp_path / "x.s1p").write_text("nothing here")
+    results = batch.run_batch(batch.expand_inputs([tmp_path]), spec, jobs=1)
+    s = batch.summarize_lot(results)
+    assert s.errors == 1 and s.units == 3 and s.yield_fraction == pytest.approx(s.passed / 3)
+    assert all(y.evaluated == 2 for y in s.yields)
+
+
+def test_keyboard_interrupt_propagates(tmp_path, spec, monkeypatch):
+    make_lot(tmp_path, [915e6] * 3)
+
+    def boom(path, spec):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(batch, "check_file", boom)
+    with pytest.raises(KeyboardInterrupt):
+        batch.run_batch(batch.expand_inputs([tmp_path]), spec, jobs=1)

@@ -1,0 +1,250 @@
+"""CLI layer for check: exit statuses, JSON per the contract, JUnit and CSV read back with real parsers."""
+
+from __future__ import annotations
+
+import csv
+import xml.etree.ElementTree as ET
+
+import pytest
+from helpers import write_rlc
+
+from matchtool import batch
+
+SPEC = ('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 10\n'
+        'max_mismatch_loss_db = 0.5\n'
+        '[[band]]\nname = "guard"\nf_low = "890 MHz"\nf_high = "940 MHz"\nmax_vswr = 3\n')
+
+
+@pytest.fixture
+def lot(tmp_path):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    good = write_rlc(tmp_path / "good.s1p", r_ohm=50.0)
+    bad = write_rlc(tmp_path / "detuned.s1p", r_ohm=50.0, f0_hz=980e6)
+    broken = tmp_path / "broken.s1p"
+    broken.write_text("# MHz S RI R 50\n900 0.1 0.2\n910 0.1\n")
+    return tmp_path, spec, good, bad, broken
+
+
+def test_json_contract_and_exit_statuses(cli, lot):
+    d, spec, good, bad, broken = lot
+    r = cli("check", good, "--spec", spec, "--json")
+    assert r.code == 0
+    doc = r.json()
+    assert doc["pass"] is True and len(doc["files"]) == 1
+    f = doc["files"][0]
+    assert f["file"] == str(good) and f["pass"] is True and f["error"] is None
+    assert [q["name"] for q in f["requirements"]] == ["ism", "ism mismatch loss", "guard"]
+    for q in f["requirements"]:
+        for k in ("name", "pass", "limit", "worst", "worst_f_hz", "margin_db"):
+            assert k in q
+        assert q["margin_db"] > 0
+    assert f["requirements"][2]["limit"] == 3 and 1 <= f["requirements"][2]["worst"] < 3  # a ratio
+    r = cli("check", good, bad, "--spec", spec, "--json")
+    assert r.code == 1 and r.json()["pass"] is False
+    assert "summary" in r.json() and r.json()["summary"]["units"] == 2
+
+
+def test_exit_2_wins_and_reports_still_written(cli, lot):
+    d, spec, good, bad, broken = lot
+    junit, table = d / "r.xml", d / "r.csv"
+    r = cli("check", good, bad, broken, "--spec", spec, "--json", "--junit", junit, "--csv", table)
+    assert r.code == 2
+    doc = r.json()  # stdout holds exactly one JSON document
+    assert [f["file"] for f in doc["files"]] == [str(good), str(bad), str(broken)]
+    assert doc["files"][2]["error"].startswith(f"{broken} line 3") and doc["files"][2]["requirements"] == []
+    assert doc["files"][1]["pass"] is False and doc["files"][0]["pass"] is True
+    assert any(ln.startswith(f"error: {broken} line 3") for ln in r.err_lines)
+
+    root = ET.parse(junit).getroot()
+    cases = root.findall(".//testcase")
+    assert len(cases) == 3 + 3 + 1  # one per file and requirement, one error case for the broken file
+    assert int(root.get("tests")) == 7 and int(root.get("errors")) == 1
+    err = [c for c in cases if c.find("error") is not None]
+    assert len(err) == 1 and err[0].get("classname") == str(broken)
+    fails = [c for c in cases if c.find("failure") is not None]
+    assert fails and all(c.get("classname") == str(bad) for c in fails)
+    assert int(root.get("failures")) == len(fails)
+    det = next(q for q in doc["files"][1]["requirements"] if q["name"] == "ism")
+    msg = next(c for c in fails if c.get("name") == "ism").find("failure").get("message")
+    assert f"worst {det['worst']:.2f}" in msg and f"margin {det['margin_db']:+.2f} dB" in msg
+
+    with open(table, newline="", encoding="utf-8") as fh:
+        rows = list(csv.DictReader(fh))
+    assert len(rows) == 7
+    cols = rows[0].keys()
+    assert {"file", "requirement", "pass", "limit", "worst", "worst_f_hz", "margin_db", "band_f_low_hz"} <= set(cols)
+    row = next(x for x in rows if x["file"] == str(bad) and x["requirement"] == "ism")
+    assert float(row["worst"]) == pytest.approx(det["worst"], rel=1e-12) and row["pass"] == "false"
+    assert float(row["worst_f_hz"]) == det["worst_f_hz"] and row["unit"] == "dB return loss"
+    assert next(x for x in rows if x["file"] == str(broken))["error"].startswith(str(broken))
+
+
+def test_existing_reports_are_not_replaced_without_force(cli, lot):
+    d, spec, good, *_ = lot
+    junit, table = d / "r.xml", d / "r.csv"
+    table.write_text("keep me")
+    r = cli("check", good, "--spec", spec, "--junit", junit, "--csv", table)
+    assert r.code == 2 and "r.csv" in r.err and "--force" in r.err and len(r.err_lines) == 1
+    assert not junit.exists() and table.read_text() == "keep me"  # nothing written at all
+    r = cli("check", good, "--spec", spec, "--junit", junit, "--csv", table, "--force")
+    assert r.code == 0 and table.read_text().startswith("file,") and ET.parse(junit).getroot().tag == "testsuites"
+
+
+def test_same_output_twice_refused(cli, lot):
+    d, spec, good, *_ = lot
+    r = cli("check", good, "--spec", spec, "--junit", d / "x", "--csv", d / "x")
+    assert r.code == 2 and "same file" in r.err and not (d / "x").exists()
+
+
+def test_bad_spec_one_line_nothing_written(cli, lot):
+    d, spec, good, *_ = lot
+    badspec = d / "bad.toml"
+    badspec.write_text('[[band]]\nname = "x"\nf_low = "928 MHz"\nf_high = "902 MHz"\nmin_return_loss_db = 10\n')
+    r = cli("check", good, "--spec", badspec, "--junit", d / "r.xml", "--json")
+    assert r.code == 2 and r.out == ""
+    assert r.err_lines == [f"error: {badspec} key 'band[1].f_high': reversed band: f_high 9.02e+08 Hz is below "
+                           "f_low 9.28e+08 Hz; expected f_high above f_low"]
+    assert not (d / "r.xml").exists()
+
+
+def test_interrupt_leaves_no_report(cli, lot, monkeypatch):
+    d, spec, good, bad, _ = lot
+    seen = []
+
+    def interrupted(path, spec):
+        seen.append(path)
+        if len(seen) == 2:
+            raise KeyboardInterrupt
+        return real(path, spec)
+
+    real = batch.check_file
+    monkeypatch.setattr(batch, "check_file", interrupted)
+    r = cli("check", good, bad, "--spec", spec, "--junit", d / "r.xml", "--csv", d / "r.csv")
+    assert r.code == 130 and len(seen) == 2
+    assert not (d / "r.xml").exists() and not (d / "r.csv").exists()
+    assert not [p for p in d.iterdir() if p.name.endswith(".part")]
+
+
+def test_directory_and_jobs_give_identical_json(cli, tmp_path, monkeypatch):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    lot = tmp_path / "lot"
+    lot.mkdir()
+    for k in range(12):
+        write_rlc(lot / f"unit{k}.s1p", f0_hz=880e6 + 6e6 * k, l_h=150e-9, n=231)
+    monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
+    one = cli("check", lot, "--spec", spec, "--json", "--jobs", "1")
+    many = cli("check", lot, "--spec", spec, "--json", "--jobs", "3")
+    assert one.code == many.code == 1 and one.out == many.out
+    files = [f["file"] for f in one.json()["files"]]
+    assert files == [str(lot / f"unit{k}.s1p") for k in range(12)]  # natural order
+    s = one.json()["summary"]
+    assert s["resonance_f_hz"]["min"] == pytest.approx(880e6) and s["resonance_f_hz"]["max"] == pytest.approx(946e6)
+    assert s["yield"][0]["name"] == "ism" and 0 < s["yield"][0]["passed"] < 12
+    assert "checking" not in one.err  # no progress bar when stderr is not a terminal
+
+
+def test_terminal_table_and_summary(cli, lot):
+    d, spec, good, bad, _ = lot
+    r = cli("check", good, bad, "--spec", spec)
+    assert r.code == 1
+    assert "good.s1p" in r.out and "detuned.s1p" in r.out and "FAIL" in r.out and "margin" in r.out
+    assert "Lot: 2 units, 1 passed, 1 failed" in r.out and "yield 50.0 %" in r.out
+
+
+@pytest.mark.parametrize("args, words", [
+    (["--jobs", "0"], "--jobs"),
+    ([], "Missing option"),
+])
+def test_bad_arguments(cli, lot, args, words):
+    d, spec, good, *_ = lot
+    extra = ["--spec", spec] if args else []
+    r = cli("check", good, *extra, *args)
+    assert r.code == 2 and len(r.err_lines) == 1 and words in r.err
+
+
+def test_pattern_that_matches_nothing_is_a_per_file_error(cli, lot):
+    d, spec, good, *_ = lot
+    r = cli("check", good, str(d / "none*.s1p"), "--spec", spec, "--json")
+    assert r.code == 2
+    files = r.json()["files"]
+    assert files[0]["pass"] is True and "matches no file" in files[1]["error"]
+
+
+def test_core_and_check_imports_are_lean(tmp_path):
+    import subprocess
+    import sys
+
+    from helpers import ROOT
+
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    p = write_rlc(tmp_path / "u.s1p")
+    lib = ("import matchtool.spec, matchtool.batch, matchtool.render.junit, matchtool.render.csvout\n"
+           "import sys; print(' '.join(sys.modules))")
+    mods = set(subprocess.run([sys.executable, "-c", lib], capture_output=True, text=True, cwd=ROOT,
+                              check=True).stdout.split())
+    assert not {"typer", "rich", "matplotlib"} & mods
+    run = (f"from matchtool.cli import main\nmain(['check', {str(p)!r}, '--spec', {str(spec)!r}])\n"
+           "import sys; print(' '.join(sys.modules))")
+    out = subprocess.run([sys.executable, "-c", run], capture_output=True, text=True, cwd=ROOT).stdout
+    assert "guard" in out and "matplotlib" not in out.split()
+
+
+def test_progress_bar_only_on_a_terminal(cli, tmp_path, monkeypatch):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    for k in range(20):
+        write_rlc(tmp_path / f"u{k}.s1p", n=101)
+    quiet = cli("check", tmp_path, "--spec", spec, "--json")
+    assert "checking" not in quiet.err
+    import sys
+
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    monkeypatch.setenv("FORCE_COLOR", "1")
+    loud = cli("check", tmp_path, "--spec", spec, "--json")
+    assert "checking" in loud.err and loud.json() == quiet.json()
+
+
+def test_report_may_not_overwrite_an_input(cli, lot):
+    d, spec, good, *_ = lot
+    before = good.read_text()
+    r = cli("check", good, "--spec", spec, "--csv", good, "--force")
+    assert r.code == 2 and "overwrite one of the inputs" in r.err and good.read_text() == before
+    r = cli("check", good, "--spec", spec, "--junit", spec, "--force")
+    assert r.code == 2 and spec.read_text() == SPEC
+
+
+def test_interrupt_in_a_worker_process_stops_the_lot(cli, tmp_path, monkeypatch):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    for k in range(8):
+        write_rlc(tmp_path / f"u{k}.s1p", n=101)
+    monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
+    real = batch._work
+
+    def work(path):  # runs in the forked workers
+        if path.endswith("u5.s1p"):
+            raise KeyboardInterrupt
+        return real(path)
+
+    monkeypatch.setattr(batch, "_work", work)
+    r = cli("check", tmp_path, "--spec", spec, "--jobs", "2", "--csv", tmp_path / "r.csv")
+    assert r.code == 130 and not (tmp_path / "r.csv").exists()
+    assert not [p for p in tmp_path.iterdir() if p.name.endswith(".part")]
+
+
+def test_reports_survive_hostile_file_names(cli, tmp_path):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    odd = write_rlc(tmp_path / 'a&b <"c">\x1b, =1+1.s1p', n=101)
+    junit, table = tmp_path / "r.xml", tmp_path / "r.csv"
+    r = cli("check", odd, "--spec", spec, "--junit", junit, "--csv", table)
+    assert r.code == 0
+    cases = ET.parse(junit).getroot().findall(".//testcase")
+    assert len(cases) == 3 and cases[0].get("classname") == str(odd).replace("\x1b", "\ufffd")
+    assert 'a&b <"c">' in cases[0].get("classname")
+    with open(table, newline="", encoding="utf-8") as fh:
+        rows = list(csv.reader(fh))
+    assert len(rows) == 4 and all(len(x) == len(rows[0]) for x in rows) and 'a&b <"c">' in rows[1][0]
