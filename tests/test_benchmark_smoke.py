@@ -41,3 +41,32 @@ def test_unknown_case_is_a_one_line_error():
     p = subprocess.run([sys.executable, str(SCRIPT), "--only", "P9"], capture_output=True, text=True, timeout=120)
     assert p.returncode == 2
     assert p.stderr.strip().startswith("error: unknown case") and len(p.stderr.strip().splitlines()) == 1
+
+
+NON_DRAWING = {  # command -> a run on a bundled sample with contract options only
+    "inspect": ["sample_sweeps/ant_r3.s1p", "--json"],
+    "compare": ["sample_sweeps/ant_r1.s1p", "sample_sweeps/ant_r3.s1p", "--json"],
+    "match": ["sample_sweeps/ant_r1.s1p", "--at", "915MHz", "--json"],
+    "check": None,
+    "feedline": None,
+    "budget": None,
+}
+
+
+def test_non_drawing_commands_do_not_import_matplotlib():
+    """Start-up budget (benchmarks issue, P2): matplotlib costs more start-up than scikit-rf, so
+    no command that draws nothing may import it - checked through sys.modules in a subprocess,
+    for every such command that exists on this checkout."""
+    present = [c for c in NON_DRAWING if (ROOT / "matchtool" / "commands" / f"{c}.py").is_file()]
+    assert "inspect" in present
+    for cmd in present:
+        runs = [[cmd, "--help"]] + ([[cmd, *NON_DRAWING[cmd]]] if NON_DRAWING[cmd] else [])
+        for argv in runs:
+            code = (f"import sys; sys.argv = ['matchtool'] + {argv!r}\nfrom matchtool.cli import main\n"
+                    "rc = main()\nprint('MODULES', ' '.join(sys.modules)); print('RC', rc)")
+            p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=300)
+            tail = p.stdout.split("MODULES", 1)
+            assert len(tail) == 2, p.stdout + p.stderr
+            mods = set(tail[1].split("RC")[0].split())
+            assert "matplotlib" not in mods, argv
+            assert tail[1].split("RC")[1].strip() in ("0", "1"), (argv, p.stderr)

@@ -17,10 +17,13 @@ Models (textbook circuit theory; the values are our own choices, not measurement
 - Parasitics: a shunt pad capacitance across the radiator's terminals, then a series feed
   inductance (the trace to the connector).
 - Feed pigtail / coax: a matched line, Gamma_in = Gamma_L exp(-2 gamma l) (Pozar, Microwave
-  Engineering, 4th ed., eq. 2.91), conductor loss scaling with sqrt(f) and dielectric loss with f.
-- Two-ports are cascades of ABCD matrices (Pozar 4th ed., table 4.1) turned into S with
-  ``skrf.network.a2s``.
-- Measurement noise: complex Gaussian, RMS magnitude -60 dB (a 1 kHz IF bandwidth trace), -70 dB on the fixture paths.
+  Engineering, 4th ed., eqs. 2.90-2.94), conductor loss scaling with sqrt(f) and dielectric loss
+  with f (common practice, no source).
+- Two-ports are cascades of ABCD matrices (Pozar 4th ed., table 4.1, from memory for the table
+  number) turned into S with ``skrf.network.a2s``.
+- Measurement noise: complex Gaussian, RMS magnitude -60 dB on reflections (a plausible trace
+  noise at 1 kHz IF bandwidth, from memory), about -70 dB on the fixture's transmission paths and
+  -65 dB on the cable.
 """
 
 from __future__ import annotations
@@ -124,8 +127,8 @@ def abcd_series(z_ohm: np.ndarray) -> np.ndarray:
 
 
 def cascade_load(s: np.ndarray, gamma_load: np.ndarray) -> np.ndarray:
-    """Input reflection at port 1 of two-port ``s`` (n, 2, 2) with ``gamma_load`` on port 2
-    (Pozar 4th ed. eq. 11.3a): S11 + S12 S21 G / (1 - S22 G)."""
+    """Input reflection at port 1 of two-port ``s`` (n, 2, 2) with ``gamma_load`` on port 2:
+    S11 + S12 S21 G / (1 - S22 G) (the terminated two-port; Pozar 4th ed. ch. 12, from memory)."""
     s11, s12, s21, s22 = s[:, 0, 0], s[:, 0, 1], s[:, 1, 0], s[:, 1, 1]
     return s11 + s12 * s21 * gamma_load / (1.0 - s22 * gamma_load)
 
