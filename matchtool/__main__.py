@@ -1,5 +1,5 @@
 """``python -m matchtool``."""
 
-from matchtool.cli import run
+from matchtool._entry import run
 
 run()

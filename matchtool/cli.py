@@ -25,31 +25,38 @@ The tool computes; it does not certify. Transmitting into a badly matched antenn
 amplifier, and EIRP, band and RF-exposure limits are set by local regulation.
 """
 
-app = typer.Typer(
-    name="matchtool",
-    help=HELP,
-    add_completion=False,
-    no_args_is_help=True,
-    pretty_exceptions_enable=False,
-    rich_markup_mode=None,
-    context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100},
-)
-
 # Each command lives in matchtool/commands/<name>.py and exposes register(app).
-_COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report")
-for _name in _COMMANDS:
-    try:
-        _module = importlib.import_module(f"matchtool.commands.{_name}")
-    except ModuleNotFoundError as _exc:  # a command not built yet
-        if _exc.name != f"matchtool.commands.{_name}":
-            raise
-        continue
-    _module.register(app)
+COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report")
 
 
-@app.callback()
 def _root() -> None:
     """Antenna match from measured S11 sweeps."""
+
+
+def build_app(only: str | None = None) -> typer.Typer:
+    """The typer app with every command, or with just ``only`` (start-up is then cheaper: a
+    command's module, and what it imports, load only when that command runs)."""
+    app = typer.Typer(
+        name="matchtool",
+        help=HELP,
+        add_completion=False,
+        no_args_is_help=True,
+        pretty_exceptions_enable=False,
+        rich_markup_mode=None,
+        context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100},
+    )
+    app.callback()(_root)
+    for name in (only,) if only in COMMANDS else COMMANDS:
+        importlib.import_module(f"matchtool.commands.{name}").register(app)
+    return app
+
+
+def _command_named(args: list[str]) -> str | None:
+    """The command word of ``args`` (the first argument that is not an option), if any."""
+    for a in args:
+        if not a.startswith("-"):
+            return a
+    return None
 
 
 def _one_line(text: str) -> str:
@@ -62,6 +69,7 @@ def main(argv: list[str] | None = None) -> int:
     debug = "--debug" in args
     args = [a for a in args if a != "--debug"]
     try:
+        app = build_app(_command_named(args))
         rv = app(args=args, prog_name="matchtool", standalone_mode=False)
         return int(rv or 0)
     except MatchtoolError as exc:
@@ -86,6 +94,8 @@ def main(argv: list[str] | None = None) -> int:
         print(f"error: {_one_line(exc.format_message())}{hint}", file=sys.stderr)
         return ExitStatus.ERROR
     except typer.Exit as exc:
+        if exc.exit_code == ExitStatus.INTERRUPTED:  # some typer releases turn Ctrl-C into Exit(130)
+            print("error: interrupted; no output file was left half-written", file=sys.stderr)
         return int(exc.exit_code)
     except OSError as exc:
         if debug:
