@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import importlib
 import sys
+from typing import Annotated
 
 import typer
 
@@ -29,7 +30,18 @@ amplifier, and EIRP, band and RF-exposure limits are set by local regulation.
 COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report")
 
 
-def _root() -> None:
+def _show_version(value: bool) -> None:
+    if value:
+        from . import __version__
+
+        print(f"matchtool {__version__}")
+        raise typer.Exit(0)
+
+
+def _root(
+    version: Annotated[bool, typer.Option("--version", callback=_show_version, is_eager=True,
+                                          help="Print the version and exit.")] = False,
+) -> None:
     """Antenna match from measured S11 sweeps."""
 
 
