@@ -39,7 +39,7 @@ _KEYWORDS = {
 }
 _COMMENT = re.compile(r"![^\n]*")
 _CONTROL = re.compile(r"^[ \t\f\v]*([#\[][^\n]*)", re.M)
-_NOT_NUMERIC = re.compile(r"[^0-9eE+\-.\s]")
+_NOT_NUMERIC = re.compile(r"[^0-9eE+\-. \t\n\v\f]")
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
 _EXT_PORTS = re.compile(r"\.s(\d+)p$", re.I)
 _BINARY = re.compile(rb"[\x00-\x08\x0e-\x1f\x7f]")
@@ -225,7 +225,9 @@ def _positive(token: str, path: str, line: int, what: str) -> float:
 def _bad_token(chunk: str, first_line: int, path: str, what: str) -> TouchstoneError:
     """Find the first token of ``chunk`` that is not a plain decimal number and describe it."""
     for k, text in enumerate(chunk.split("\n")):
-        for tok in text.split():
+        for tok in re.split(r"[ \t\v\f]+", text):
+            if not tok:
+                continue
             if not _NUMBER.fullmatch(tok):
                 low = tok.lower()
                 if low.lstrip("+-") in ("nan", "inf", "infinity"):
@@ -234,26 +236,44 @@ def _bad_token(chunk: str, first_line: int, path: str, what: str) -> TouchstoneE
                 if low.startswith("["):
                     return TouchstoneError(f"keyword {tok!r} out of place", path, first_line + k)
                 return TouchstoneError(f"expected a number in {what}, found {tok[:40]!r}", path, first_line + k)
+    m = _NOT_NUMERIC.search(chunk)
+    if m:
+        return TouchstoneError(f"unexpected character {m.group()!r} in {what}", path,
+                               first_line + chunk.count("\n", 0, m.start()))
     return TouchstoneError(f"unreadable numbers in {what}", path, first_line)
 
 
 def _numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndarray, np.ndarray]:
-    """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised)."""
+    """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised).
+
+    Every token must be a plain finite decimal number; anything else raises TouchstoneError with
+    the line of the first bad token. Memory stays a few bytes per character of the chunk.
+    """
     if _NOT_NUMERIC.search(chunk):
         raise _bad_token(chunk, first_line, path, what)
     raw = np.frombuffer(chunk.encode("ascii"), dtype=np.uint8)
+    newline_at = np.flatnonzero(raw == 10)
     if raw.size == 0:
         return np.empty(0), np.zeros(1, dtype=np.int64)
-    space = (raw == 32) | (raw == 9) | (raw == 11) | (raw == 12)
-    newline = raw == 10
-    filled = ~(space | newline)
+    filled = raw > 32  # only digits, signs, '.', 'e'/'E' and blanks are left at this point
     start = filled.copy()
     start[1:] &= ~filled[:-1]
-    line_of = np.cumsum(newline)
-    counts = np.bincount(line_of[start], minlength=int(line_of[-1]) + 1)
-    values = np.fromstring(chunk, dtype=float, sep=" ") if counts.sum() else np.empty(0)
+    del filled
+    token_at = np.flatnonzero(start)
+    del start
+    counts = np.bincount(np.searchsorted(newline_at, token_at), minlength=newline_at.size + 1)
+    del token_at
+    try:
+        values = np.fromstring(chunk, dtype=float, sep=" ") if counts.sum() else np.empty(0)
+    except ValueError:  # numpy 2 refuses a token it cannot read to its end ('1.2.3', '1e', '1-2')
+        raise _bad_token(chunk, first_line, path, what) from None
     if values.size != counts.sum():
         raise _bad_token(chunk, first_line, path, what)
+    if not np.isfinite(values).all():  # '1e999' reads as inf
+        k = int(np.argmin(np.isfinite(values)))
+        line = first_line + int(np.searchsorted(np.cumsum(counts), k, side="right"))
+        raise TouchstoneError(f"number out of range in {what}", path, line,
+                              expected="finite numbers (magnitude below 1e308)")
     return values, counts
 
 
@@ -499,15 +519,13 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
                 rows = np.flatnonzero(counts)
                 row_f = values[starts[rows]] if values.size else np.empty(0)
                 full = counts[rows] == per
-                noise_at = None
-                prev = last_f
-                for k in range(rows.size):
-                    if row_f[k] <= prev:
-                        noise_at = k
-                        break
-                    if not full[k]:
-                        break
-                    prev = row_f[k]
+                # first row whose frequency is not above the one before (vectorised; a short or
+                # long row before it ends the search and is reported by _check_rows below)
+                prev_f = np.concatenate(([last_f], row_f[:-1]))
+                falls = row_f <= prev_f
+                stop = np.flatnonzero(falls | ~full)
+                noise_at = int(stop[0]) if stop.size and falls[stop[0]] else None
+                prev = float(prev_f[noise_at]) if noise_at is not None else last_f
                 if noise_at is not None:
                     after = rows[noise_at:]
                     if np.all(counts[after] == 5):
