@@ -17,6 +17,7 @@ from __future__ import annotations
 import math
 import os
 import re
+import stat
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -123,8 +124,10 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
         raise TouchstoneError("no such file", path=path) from None
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
-    if p.is_dir():
+    if stat.S_ISDIR(st.st_mode):
         raise TouchstoneError("is a directory", path=path, expected="a Touchstone file")
+    if not stat.S_ISREG(st.st_mode):  # a FIFO or device would block or never end
+        raise TouchstoneError("not a regular file", path=path, expected="a Touchstone file")
     if st.st_size > limit:
         raise TouchstoneError(
             f"file is {st.st_size / 1e6:.1f} MB, over the input limit of {limit / 1e6:.1f} MB",
@@ -300,6 +303,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     chunks: list[_Chunk] = []
     section: str | None = None  # v1: "network" after the option line; v2: by keyword
     in_info = False
+    info_line = 0
     ended = False
     prev_end = 0
 
@@ -360,6 +364,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
                                   expected="[Version] 2.0 as the first line of a file that uses keywords")
         elif name == "begin information":
             in_info = True
+            info_line = ln
             continue
         elif name == "network data":
             if option is None:
@@ -383,6 +388,8 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
         if name not in ("reference", "network data", "noise data", "end", "version"):
             section = None if version != "1" else section
     region(prev_end, len(body))
+    if in_info:
+        raise TouchstoneError("[Begin Information] without [End Information]", path, info_line)
 
     if option is None:
         raise TouchstoneError("no option line", path,
@@ -657,7 +664,9 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
             s = skrf.network.renormalize_s(s, z0_file, np.full(n, float(z0_ohm)))
         z0_file = np.full(n, float(z0_ohm))
     freq = skrf.Frequency.from_f(f_hz, unit="Hz")
-    net = skrf.Network(frequency=freq, s=s, z0=z0_file, name=Path(path).stem)
+    # a (nports,) z0 would be read by scikit-rf as one value per frequency when nfreq == nports
+    z0_full = np.broadcast_to(z0_file, (len(f_hz), n)).copy()
+    net = skrf.Network(frequency=freq, s=s, z0=z0_full, name=Path(path).stem)
     g = np.abs(s[:, port - 1, port - 1])
     over = g > 1.0
     if over.any():
