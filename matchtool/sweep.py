@@ -39,11 +39,13 @@ _KEYWORDS = {
     "begin information", "end information", "network data", "noise data", "end",
 }
 _COMMENT = re.compile(r"![^\n]*")
-_CONTROL = re.compile(r"^[ \t\f\v]*([#\[][^\n]*)", re.M)
 _NOT_NUMERIC = re.compile(r"[^0-9eE+\-. \t\n\v\f]")
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
 _EXT_PORTS = re.compile(r"\.s(\d+)p$", re.I)
 _BINARY = re.compile(rb"[\x00-\x08\x0e-\x1f\x7f]")
+_BINARY_BYTES = bytes(b for b in range(256) if _BINARY.match(bytes([b])))
+_KEEP_BINARY = bytes(b for b in range(256) if b not in _BINARY_BYTES)  # delete these, binary remains
+_DATA_BYTES = b"0123456789eE+-. \t\n\v\f"
 
 
 @dataclass(frozen=True, eq=False)
@@ -134,11 +136,22 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
             path=path, expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
     try:
         with open(p, "rb") as fh:
-            raw = fh.read(limit + 1)
+            # read(limit + 1) would allocate the whole limit up front: read the size stat() gave
+            raw = fh.read(st.st_size + 1)
+            more, total = [], len(raw)
+            while total <= limit:  # the file grew after stat(): read on in small pieces
+                piece = fh.read(1 << 20)
+                if not piece:
+                    break
+                more.append(piece)
+                total += len(piece)
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
-    if len(raw) > limit:
-        raise TouchstoneError(f"file is over the input limit of {limit / 1e6:.1f} MB", path=path)
+    if total > limit:
+        raise TouchstoneError(f"file is over the input limit of {limit / 1e6:.1f} MB", path=path,
+                              expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
+    if more:
+        raw = b"".join([raw, *more])
     return decode_text(raw, path)
 
 
@@ -146,7 +159,7 @@ def decode_text(raw: bytes, path: str | Path) -> str:
     """Decode bytes of a text input file; refuse binary content."""
     if raw.startswith(b"\xff\xfe") or raw.startswith(b"\xfe\xff"):
         raise TouchstoneError("file is UTF-16 text", path=path, expected="ASCII or UTF-8 text")
-    m = _BINARY.search(raw)
+    m = _BINARY.search(raw) if raw.translate(None, _KEEP_BINARY) else None  # translate: fast C scan
     if m:
         line = raw.count(b"\n", 0, m.start()) + 1
         raise TouchstoneError(f"binary content (byte 0x{raw[m.start()]:02x})", path=path, line=line,
@@ -190,15 +203,15 @@ def _option_line(text: str, path: str, line: int) -> tuple[float, str, str, floa
         t = tokens[i].lower()
         if t in _UNITS:
             if unit is not None:
-                raise TouchstoneError(f"option line gives the frequency unit twice ({tokens[i]!r})", path, line)
+                raise TouchstoneError(f"option line gives the frequency unit twice ({_show(tokens[i])})", path, line)
             unit = t
         elif t in _PARAMS:
             if param is not None:
-                raise TouchstoneError(f"option line gives the parameter twice ({tokens[i]!r})", path, line)
+                raise TouchstoneError(f"option line gives the parameter twice ({_show(tokens[i])})", path, line)
             param = t
         elif t in _FORMATS:
             if fmt is not None:
-                raise TouchstoneError(f"option line gives the format twice ({tokens[i]!r})", path, line)
+                raise TouchstoneError(f"option line gives the format twice ({_show(tokens[i])})", path, line)
             fmt = t
         elif t == "r":
             if r is not None:
@@ -210,18 +223,24 @@ def _option_line(text: str, path: str, line: int) -> tuple[float, str, str, floa
             i += 1
         else:
             raise TouchstoneError(
-                f"unknown option-line token {tokens[i]!r}", path, line,
+                f"unknown option-line token {_show(tokens[i])}", path, line,
                 expected="a unit (Hz kHz MHz GHz), a parameter (S Y Z H G), a format (RI MA DB) or R <ohms>")
         i += 1
     return (_UNITS[unit or "ghz"], (param or "s").upper(), (fmt or "ma").upper(), 50.0 if r is None else r)
 
 
+def _show(token: str, limit: int = 40, quote: bool = True) -> str:
+    """A file's text for an error message: quoted, at most ``limit`` characters (one line)."""
+    t = token if len(token) <= limit else token[:limit] + "..."
+    return repr(t) if quote else t
+
+
 def _positive(token: str, path: str, line: int, what: str) -> float:
     if not _NUMBER.fullmatch(token):
-        raise TouchstoneError(f"{what} {token!r} is not a number", path, line)
+        raise TouchstoneError(f"{what} {_show(token)} is not a number", path, line)
     value = float(token)
     if not (math.isfinite(value) and value > 0):
-        raise TouchstoneError(f"{what} is {token}", path, line, expected="a positive number of ohms")
+        raise TouchstoneError(f"{what} is {_show(token)}", path, line, expected="a positive number of ohms")
     return value
 
 
@@ -234,11 +253,11 @@ def _bad_token(chunk: str, first_line: int, path: str, what: str) -> TouchstoneE
             if not _NUMBER.fullmatch(tok):
                 low = tok.lower()
                 if low.lstrip("+-") in ("nan", "inf", "infinity"):
-                    return TouchstoneError(f"non-finite value {tok!r} in {what}", path, first_line + k,
+                    return TouchstoneError(f"non-finite value {_show(tok)} in {what}", path, first_line + k,
                                            expected="finite numbers")
                 if low.startswith("["):
-                    return TouchstoneError(f"keyword {tok!r} out of place", path, first_line + k)
-                return TouchstoneError(f"expected a number in {what}, found {tok[:40]!r}", path, first_line + k)
+                    return TouchstoneError(f"keyword {_show(tok)} out of place", path, first_line + k)
+                return TouchstoneError(f"expected a number in {what}, found {_show(tok)}", path, first_line + k)
     m = _NOT_NUMERIC.search(chunk)
     if m:
         return TouchstoneError(f"unexpected character {m.group()!r} in {what}", path,
@@ -252,9 +271,13 @@ def _numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndar
     Every token must be a plain finite decimal number; anything else raises TouchstoneError with
     the line of the first bad token. Memory stays a few bytes per character of the chunk.
     """
-    if _NOT_NUMERIC.search(chunk):
+    try:
+        data = chunk.encode("ascii")
+    except UnicodeEncodeError:
+        raise _bad_token(chunk, first_line, path, what) from None
+    if data.translate(None, _DATA_BYTES):  # something other than digits, signs, '.', 'e' and blanks
         raise _bad_token(chunk, first_line, path, what)
-    raw = np.frombuffer(chunk.encode("ascii"), dtype=np.uint8)
+    raw = np.frombuffer(data, dtype=np.uint8)
     newline_at = np.flatnonzero(raw == 10)
     if raw.size == 0:
         return np.empty(0), np.zeros(1, dtype=np.int64)
@@ -278,6 +301,34 @@ def _numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndar
         raise TouchstoneError(f"number out of range in {what}", path, line,
                               expected="finite numbers (magnitude below 1e308)")
     return values, counts
+
+
+def _controls(body: str):
+    """Yield (line start, line end, stripped text) of every line that begins (after blanks) with
+    '#' or '['. Uses str.find, which is far faster than a regex scan of a large file."""
+    found = []
+    for ch in "#[":
+        k = body.find(ch)
+        while k >= 0:
+            found.append(k)
+            k = body.find(ch, k + 1)
+    found.sort()
+    last_end = -1
+    prev = -1
+    for k in found:
+        if k < last_end:  # inside a control line already yielded
+            continue
+        if prev >= 0 and body.find("\n", prev, k) < 0:
+            prev = k
+            continue  # same line as an earlier '#'/'[' that is not at its start (keeps this linear)
+        prev = k
+        start = body.rfind("\n", 0, k) + 1
+        if body[start:k].strip(" \t\f\v"):
+            continue  # not at the start of its line: the data checks report it
+        end = body.find("\n", k)
+        end = len(body) if end < 0 else end
+        last_end = end
+        yield start, end, body[k:end].strip()
 
 
 @dataclass
@@ -323,11 +374,10 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             raise TouchstoneError("data before [Network Data]", path, first)
         chunks.append(_Chunk(seg, lines.at(start), section))
 
-    for m in _CONTROL.finditer(body):
-        region(prev_end, m.start())
-        prev_end = m.end()
-        ln = lines.at(m.start())
-        ctrl = m.group(1).strip()
+    for c_start, c_end, ctrl in _controls(body):
+        region(prev_end, c_start)
+        prev_end = c_end
+        ln = lines.at(c_start)
         if ctrl.startswith("#"):
             if in_info:
                 continue
@@ -342,7 +392,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             continue
         close = ctrl.find("]")
         if close < 0:
-            raise TouchstoneError(f"unclosed keyword {ctrl[:40]!r}", path, ln)
+            raise TouchstoneError(f"unclosed keyword {_show(ctrl)}", path, ln)
         name = " ".join(ctrl[1:close].lower().split())
         arg = ctrl[close + 1:].strip()
         if in_info:
@@ -350,17 +400,17 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
                 in_info = False
             continue
         if name not in _KEYWORDS:
-            raise TouchstoneError(f"unknown keyword [{ctrl[1:close]}]", path, ln)
+            raise TouchstoneError(f"unknown keyword [{_show(ctrl[1:close], quote=False)}]", path, ln)
         if ended:
             raise TouchstoneError("text after [End]", path, ln)
         if name == "version":
             if kw or option is not None:
                 raise TouchstoneError("[Version] must come first", path, ln)
             if arg not in ("2.0", "2.1"):
-                raise TouchstoneError(f"unsupported [Version] {arg!r}", path, ln, expected="2.0 or 2.1")
+                raise TouchstoneError(f"unsupported [Version] {_show(arg)}", path, ln, expected="2.0 or 2.1")
             version = arg
         elif version == "1":
-            raise TouchstoneError(f"keyword [{ctrl[1:close]}] in a version 1 file", path, ln,
+            raise TouchstoneError(f"keyword [{_show(ctrl[1:close], quote=False)}] in a version 1 file", path, ln,
                                   expected="[Version] 2.0 as the first line of a file that uses keywords")
         elif name == "begin information":
             in_info = True
@@ -383,7 +433,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             raise TouchstoneError("mixed-mode data is not supported", path, ln,
                                   expected="single-ended S-parameters")
         if name in kw and name not in ("end",):
-            raise TouchstoneError(f"keyword [{ctrl[1:close]}] given twice", path, ln)
+            raise TouchstoneError(f"keyword [{_show(ctrl[1:close], quote=False)}] given twice", path, ln)
         kw[name] = (arg, ln)
         if name not in ("reference", "network data", "noise data", "end", "version"):
             section = None if version != "1" else section
@@ -401,7 +451,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     if "number of ports" in kw:
         arg, ln = kw["number of ports"]
         if not re.fullmatch(r"\d+", arg) or int(arg) < 1:
-            raise TouchstoneError(f"[Number of Ports] {arg!r} is not a positive whole number", path, ln)
+            raise TouchstoneError(f"[Number of Ports] {_show(arg)} is not a positive whole number", path, ln)
         n_kw = int(arg)
     elif version != "1":
         raise TouchstoneError("version 2 file without [Number of Ports]", path)
@@ -434,7 +484,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     # layout of one record
     fmt_arg = kw.get("matrix format", ("full", 0))[0].lower()
     if fmt_arg not in ("full", "lower", "upper"):
-        raise TouchstoneError(f"unknown [Matrix Format] {fmt_arg!r}", path, kw["matrix format"][1],
+        raise TouchstoneError(f"unknown [Matrix Format] {_show(fmt_arg)}", path, kw["matrix format"][1],
                               expected="Full, Lower or Upper")
     npairs = n * n if fmt_arg == "full" else n * (n + 1) // 2
     per = 1 + 2 * npairs
@@ -445,7 +495,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
                                   expected="[Two-Port Data Order] 12_21 or 21_12")
         order = kw["two-port data order"][0].replace(" ", "")
         if order not in ("12_21", "21_12"):
-            raise TouchstoneError(f"[Two-Port Data Order] {order!r}", path, kw["two-port data order"][1],
+            raise TouchstoneError(f"[Two-Port Data Order] {_show(order)}", path, kw["two-port data order"][1],
                                   expected="12_21 or 21_12")
 
     net_chunks = [c for c in chunks if c.section == "network"]
@@ -482,7 +532,8 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     if "number of frequencies" in kw:
         arg, ln = kw["number of frequencies"]
         if not re.fullmatch(r"\d+", arg) or int(arg) != len(f_hz):
-            raise TouchstoneError(f"[Number of Frequencies] is {arg} but the file holds {len(f_hz)}", path, ln)
+            raise TouchstoneError(f"[Number of Frequencies] is {_show(arg, quote=False)} but the file holds "
+                                  f"{len(f_hz)}", path, ln)
     elif version != "1":
         warnings.append(f"{path}: version 2 file without [Number of Frequencies]")
     if version != "1" and not ended:
@@ -490,7 +541,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     if "number of noise frequencies" in kw:
         arg, ln = kw["number of noise frequencies"]
         if not re.fullmatch(r"\d+", arg) or int(arg) != noise_rows:
-            raise TouchstoneError(f"[Number of Noise Frequencies] is {arg} but the file holds {noise_rows}",
+            raise TouchstoneError(f"[Number of Noise Frequencies] is {_show(arg, quote=False)} but the file holds {noise_rows}",
                                   path, ln)
     if len(f_hz) == 1:
         warnings.append(f"{path}: a single frequency point; bands and interpolation need more")

@@ -259,5 +259,11 @@ def cases(tmp: Path) -> list[Case]:
     c.append(_ok("very long comment line", "longcomment.s1p", b"!" + b"x" * 2_000_000 + b"\n" + text(*g)))
     c.append(_err("very long data line", "longdata.s1p", text(GOOD_HEAD, " ".join(["0.1"] * 300_001)),
                   "expected 3 numbers.*found 300001", 2))
+    c.append(_err("very long unknown option token", "longopt.s1p", text("# MHz S RI " + "Q" * 500_000, *r),
+                  "unknown option-line token 'QQQQ", 1))
+    c.append(_err("very long junk token", "longjunk.s1p", text(GOOD_HEAD, r[0], "200 0.2 " + "[#" * 300_000, *r[2:]),
+                  "out of place", 3))
+    c.append(_err("very long keyword", "longkw.ts", text("[Version] 2.0", "[" + "K" * 100_000 + "]", GOOD_HEAD),
+                  "unknown keyword", 2))
     c.append(_ok("very long blank run", "longblank.s1p", text(GOOD_HEAD, r[0] + " " * 1_000_000, *r[1:])))
     return c
