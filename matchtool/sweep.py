@@ -617,21 +617,20 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
             noise_rows += int(np.count_nonzero(counts))
         else:
             # N >= 3: a record may wrap over several lines; no line may hold parts of two records
-            have = 0
-            first = None
-            for k in np.flatnonzero(counts):
-                if have == 0:
-                    first = int(line_no[k])
-                have += int(counts[k])
-                if have > per:
-                    raise TouchstoneError(
-                        f"a {n}-port record needs {per} numbers; line ends {have - per} past the record",
-                        path, int(line_no[k]))
-                if have == per:
-                    lines_out.append(np.array([first]))
-                    have = 0
-            if have:
-                raise TouchstoneError(f"incomplete {n}-port record ({have} of {per} numbers)", path, first)
+            nz = np.flatnonzero(counts)
+            cum = np.cumsum(counts[nz])
+            before = cum - counts[nz]  # numbers of this chunk before each line
+            straddle = np.flatnonzero(before // per != (cum - 1) // per)
+            if straddle.size:
+                k = int(straddle[0])
+                past = int(cum[k] - (before[k] // per + 1) * per)
+                raise TouchstoneError(f"a {n}-port record needs {per} numbers; line ends {past} past the record",
+                                      path, int(line_no[nz[k]]))
+            heads = nz[before % per == 0]  # lines that begin a record
+            if cum.size and cum[-1] % per:
+                raise TouchstoneError(f"incomplete {n}-port record ({int(cum[-1] % per)} of {per} numbers)", path,
+                                      int(line_no[heads[-1]]))
+            lines_out.append(line_no[heads])
             recs.append(values.reshape(-1, per))
     records = np.concatenate(recs) if recs else np.empty((0, per))
     if records.shape[0] == 0:
