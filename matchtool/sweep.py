@@ -459,6 +459,8 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
         raise TouchstoneError(f"[Number of Ports] is {n_kw} but the file name says {nports} ports", path,
                               kw["number of ports"][1])
     n = n_kw or nports
+    if n == 0:
+        raise TouchstoneError("the file name says 0 ports", path, expected="a .sNp name with N of 1 or more")
     if n is None:
         raise TouchstoneError("cannot tell the port count", path,
                               expected="a .sNp file name (e.g. .s1p) or a version 2 [Number of Ports]")
@@ -515,19 +517,20 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     f_hz = f_file * unit
     pairs = records[:, 1:].reshape(len(records), npairs, 2)
     a, b = pairs[..., 0], pairs[..., 1]
-    if fmt == "RI":
-        vals = a + 1j * b
-    elif fmt == "MA":
-        vals = a * np.exp(1j * np.deg2rad(b))
-    else:
-        vals = 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
+    with np.errstate(all="ignore"):  # an overflow (DB 1e308) is reported below, by line
+        if fmt == "RI":
+            vals = a + 1j * b
+        elif fmt == "MA":
+            vals = a * np.exp(1j * np.deg2rad(b))
+        else:
+            vals = 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
     mat = _to_matrix(vals, n, fmt_arg, order)
     s = _to_s(mat, param, z0, r_ohm, version, path)
     bad = ~np.isfinite(s).all(axis=(1, 2))
     if bad.any():
         i = int(np.argmax(bad))
-        raise TouchstoneError(f"{param}-parameters at {f_hz[i]:g} Hz have no finite S-parameter equivalent",
-                              path, int(rec_lines[i]))
+        what = "values out of range" if param == "S" else f"{param}-parameters with no finite S-parameter equivalent"
+        raise TouchstoneError(f"{what} at {f_hz[i]:g} Hz", path, int(rec_lines[i]))
 
     if "number of frequencies" in kw:
         arg, ln = kw["number of frequencies"]
@@ -667,9 +670,26 @@ def _to_matrix(vals: np.ndarray, n: int, layout: str, order: str | None) -> np.n
 
 
 def _to_s(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str, path: str) -> np.ndarray:
-    """Convert file parameters to S at ``z0``. Version 1 Z/Y/H/G data are normalised to R."""
+    """Convert file parameters to S at ``z0``. Version 1 Z/Y/H/G data are normalised to R.
+
+    A frequency whose matrix has no S equivalent (e.g. Z = -R, where Z + R is singular) comes back
+    as NaN, so that the caller can name its line.
+    """
     if param == "S":
         return mat
+    try:
+        return _convert(mat, param, z0, r_ohm, version)
+    except np.linalg.LinAlgError:  # find the singular frequencies one by one (rare path)
+        out = np.empty_like(mat, dtype=complex)
+        for k in range(len(mat)):
+            try:
+                out[k] = _convert(mat[k:k + 1], param, z0, r_ohm, version)[0]
+            except np.linalg.LinAlgError:
+                out[k] = np.nan
+        return out
+
+
+def _convert(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str) -> np.ndarray:
     v1 = version == "1"
     with np.errstate(all="ignore"):
         if param == "Z":

@@ -154,6 +154,11 @@ def cases(tmp: Path) -> list[Case]:
     c.append(_err("lone minus", "minus.s1p", text(GOOD_HEAD, r[0], "200 - 0.2 0.1", *r[2:]), "'-'", 3))
     c.append(_ok("plain number spellings", "spell.s1p",
                  text(GOOD_HEAD, "+1.0E+02 .5 +.1", "2E2 0.2 -0.3", "3.e2 5e-2 1e-2", "400. -.25 .2", "5e+2 .6 -.1")))
+    c.append(_err("Z equal to -R (no S equivalent)", "zneg.s1p", text("# MHz Z RI R 50", "100 0.5 0", "200 -1 0"),
+                  "no finite S-parameter", 3))
+    c.append(_err("Y of -1/R (no S equivalent)", "yneg.s1p", text("# MHz Y RI R 50", "100 0.5 0", "200 -1 0"),
+                  "no finite S-parameter", 3))
+    c.append(_err("DB overflow", "dbovf.s1p", text("# MHz S DB R 50", "100 -3 10", "200 1e308 0"), "out of range", 3))
     # -- frequencies
     c.append(_err("decreasing frequency", "dec.s1p", text(GOOD_HEAD, r[0], r[2], r[1], *r[3:]), "decreases", 4))
     c.append(_err("duplicated frequency", "dup.s1p", text(GOOD_HEAD, r[0], r[1], r[1], *r[2:]), "repeats", 4))
@@ -254,6 +259,7 @@ def cases(tmp: Path) -> list[Case]:
                   make=lambda p: os.symlink(p.parent / "nowhere.s1p", p)))
     c.append(_err("FIFO", "fifo.s1p", None, "not a regular file", make=lambda p: os.mkfifo(p)))
     c.append(_err("wrong extension", "sweep.txt", text(*g), "port count"))
+    c.append(_err("zero-port extension", "a.s0p", text(*g), "0 ports"))
     c.append(_ok("upper-case extension", "UPPER.S1P", text(*g)))
     # -- size
     c.append(_ok("very long comment line", "longcomment.s1p", b"!" + b"x" * 2_000_000 + b"\n" + text(*g)))
