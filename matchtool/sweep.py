@@ -104,11 +104,15 @@ def _max_bytes(max_bytes: int | None) -> int:
     if max_bytes is not None:
         return int(max_bytes)
     env = os.environ.get("MATCHTOOL_MAX_INPUT_MB")
-    if env:
+    if env is not None and env.strip():
         try:
-            return int(float(env) * 1024 * 1024)
+            mb = float(env)
         except ValueError:
-            raise UsageError(f"MATCHTOOL_MAX_INPUT_MB={env!r} is not a number") from None
+            mb = math.nan
+        if not (math.isfinite(mb) and mb > 0):
+            raise UsageError(f"MATCHTOOL_MAX_INPUT_MB={_show(env)} is not a positive number of megabytes",
+                             expected="e.g. MATCHTOOL_MAX_INPUT_MB=2000")
+        return int(mb * 1024 * 1024)
     return DEFAULT_MAX_BYTES
 
 
@@ -126,6 +130,8 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
         raise TouchstoneError("no such file", path=path) from None
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
+    except ValueError:  # a NUL byte in the name
+        raise TouchstoneError("the file name holds a NUL byte", path=repr(str(path))) from None
     if stat.S_ISDIR(st.st_mode):
         raise TouchstoneError("is a directory", path=path, expected="a Touchstone file")
     if not stat.S_ISREG(st.st_mode):  # a FIFO or device would block or never end

@@ -85,6 +85,8 @@ def test_cli_outcome(tmp_path, cli, name):
         return
     assert r.code == 0, r.err
     doc = r.json()
+    # stderr holds the document's warnings, one 'warning:' line each, and nothing else
+    assert r.err_lines == [f"warning: {' '.join(w.split())}" for w in doc["warnings"]]
     assert doc["points"] == len(case.f_hz) if case.f_hz is not None else doc["points"] > 0
     if case.outcome == "warn":
         assert any(re.search(case.match, w, re.I) for w in doc["warnings"]), doc["warnings"]
@@ -131,9 +133,17 @@ def test_size_limit_library_and_env(tmp_path, monkeypatch, cli):
     r = cli("inspect", p)
     assert r.code == 2 and len(r.err_lines) == 1
     assert r.err_lines[0].startswith(f"error: {p}: file is") and "MATCHTOOL_MAX_INPUT_MB" in r.err_lines[0]
-    monkeypatch.setenv("MATCHTOOL_MAX_INPUT_MB", "lots")
-    r = cli("inspect", p)
-    assert r.code == 2 and len(r.err_lines) == 1 and "MATCHTOOL_MAX_INPUT_MB" in r.err_lines[0]
+    for bad in ("lots", "inf", "nan", "-5", "0"):
+        monkeypatch.setenv("MATCHTOOL_MAX_INPUT_MB", bad)
+        r = cli("inspect", p)
+        assert r.code == 2 and len(r.err_lines) == 1 and "MATCHTOOL_MAX_INPUT_MB" in r.err_lines[0], r.err
+    monkeypatch.setenv("MATCHTOOL_MAX_INPUT_MB", "2")
+    assert cli("inspect", p).code == 0
+
+
+def test_nul_in_path_is_our_error():
+    with pytest.raises(TouchstoneError, match="NUL"):
+        load("bad\x00name.s1p")
 
 
 def test_errors_are_matchtool_errors_and_value_errors(tmp_path):
@@ -142,3 +152,21 @@ def test_errors_are_matchtool_errors_and_value_errors(tmp_path):
         load(path)
     with pytest.raises(MatchtoolError):
         load(path)
+
+
+SUBPROCESS_CASES = ["single point", "zero frequency", "|S11| > 1", "DB overflow", "Z equal to -R (no S equivalent)",
+                    "pickle protocol 4", "binary junk", "two option lines", "v2 matrix format Lower", "FIFO"]
+
+
+@pytest.mark.parametrize("name", SUBPROCESS_CASES)
+def test_cli_subprocess_stderr_is_clean(tmp_path, cli_subprocess, name):
+    # a real interpreter with the default warning filters: no numpy/scikit-rf warning or traceback
+    # may add lines to stderr
+    case, path = _build(tmp_path, name)
+    r = cli_subprocess("inspect", path, "--json")
+    assert "Traceback" not in r.err and "Warning" not in r.err, r.err
+    if case.outcome == "error":
+        assert r.code == 2 and len(r.err_lines) == 1 and r.err_lines[0].startswith(f"error: {path}")
+    else:
+        assert r.code == 0
+        assert all(ln.startswith("warning: ") for ln in r.err_lines), r.err
