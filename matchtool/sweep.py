@@ -138,7 +138,7 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
         raise TouchstoneError("not a regular file", path=path, expected="a Touchstone file")
     if st.st_size > limit:
         raise TouchstoneError(
-            f"file is {st.st_size / 1e6:.1f} MB, over the input limit of {limit / 1e6:.1f} MB",
+            f"file is {st.st_size / 2**20:.1f} MB, over the input limit of {limit / 2**20:.1f} MB",
             path=path, expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
     try:
         with open(p, "rb") as fh:
@@ -154,7 +154,7 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
     if total > limit:
-        raise TouchstoneError(f"file is over the input limit of {limit / 1e6:.1f} MB", path=path,
+        raise TouchstoneError(f"file is over the input limit of {limit / 2**20:.1f} MB", path=path,
                               expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
     if more:
         raw = b"".join([raw, *more])
