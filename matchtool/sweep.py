@@ -520,7 +520,17 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
 
     f_file = records[:, 0]
     _check_frequencies(f_file, rec_lines, path)
-    f_hz = f_file * unit
+    with np.errstate(over="ignore"):
+        f_hz = f_file * unit
+    if not np.isfinite(f_hz).all():
+        k = int(np.argmin(np.isfinite(f_hz)))
+        raise TouchstoneError(f"frequency {f_file[k]:g} is too large in this unit", path, int(rec_lines[k]))
+    same = np.flatnonzero(np.diff(f_hz) <= 0)
+    if same.size:  # two neighbouring floats can round to one value in Hz
+        k = int(same[0]) + 1
+        raise TouchstoneError(f"frequency {float(f_file[k])!r} is not distinct from the previous one "
+                              f"({float(f_file[k - 1])!r}) once converted to Hz", path, int(rec_lines[k]),
+                              expected="strictly increasing frequencies")
     pairs = records[:, 1:].reshape(len(records), npairs, 2)
     a, b = pairs[..., 0], pairs[..., 1]
     with np.errstate(all="ignore"):  # an overflow (DB 1e308) is reported below, by line

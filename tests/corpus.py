@@ -166,6 +166,11 @@ def cases(tmp: Path) -> list[Case]:
                    f=F_MHZ[:1], s=S11[:1]))
     c.append(_warn("zero frequency", "zero.s1p", text(GOOD_HEAD, "0 0.9 0", *r), "0 Hz",
                    f=np.r_[0.0, F_MHZ], s=np.r_[0.9, S11]))
+    c.append(_err("frequency overflows in Hz", "fovf.s1p", text("# GHz S RI R 50", "1 0.1 0", "1e300 0.1 0"),
+                  "too large", 3))
+    c.append(_err("frequencies equal once in Hz", "fsame.s1p",
+                  text("# GHz S RI R 50", "5.843289818973504 0.1 0", f"{float(np.nextafter(5.843289818973504, 9))!r} 0.1 0"),
+                  "not distinct", 3))
     c.append(_err("negative frequency", "neg.s1p", text(GOOD_HEAD, "-50 0.9 0", *r), "negative frequency", 2))
     big = S11.copy()
     big[2] = 1.2 + 0.1j

@@ -205,3 +205,42 @@ def test_valid_layouts_load_the_numbers_written(case):
     assert np.allclose(sw.f_hz, f_hz, rtol=1e-15, atol=0)
     assert np.allclose(sw.gamma, gamma, rtol=0, atol=1e-12)
     assert sw.z0_ohm == r_ohm
+
+
+SEEDS = [
+    b"! seed\n# MHz S RI R 50\n100 0.5 0.1\n200 0.2 -0.3\n300 0.05 0.01\n",
+    b"# GHz S MA R 50\n1 0.1 0 0.9 10 0.9 10 0.2 45\n2 0.1 5 0.8 20 0.8 20 0.3 50\n1.5 1.2 0.3 45 0.4\n",
+    b"[Version] 2.0\n# MHz Z RI R 50\n[Number of Ports] 1\n[Number of Frequencies] 2\n[Reference] 75\n"
+    b"[Network Data]\n100 40 10\n200 60 -5\n[End]\n",
+    b"[Version] 2.1\n# GHz S DB R 50\n[Number of Ports] 3\n[Matrix Format] Upper\n[Network Data]\n"
+    b"1 -3 0 -10 0 -10 0 -3 0 -10 0 -3 0\n2 -4 0 -11 0 -11 0 -4 0 -11 0 -4 0\n",
+]
+
+
+@st.composite
+def mutated(draw) -> tuple[bytes, str]:
+    """A valid file with a few random byte edits (insert, delete, replace, duplicate a span)."""
+    k = draw(st.integers(0, len(SEEDS) - 1))
+    raw = bytearray(SEEDS[k])
+    for _ in range(draw(st.integers(1, 4))):
+        at = draw(st.integers(0, len(raw)))
+        op = draw(st.sampled_from(["insert", "delete", "replace", "dup"]))
+        piece = draw(st.one_of(st.sampled_from([b" ", b"\n", b"\r", b"-", b".", b"e", b"!", b"#", b"[", b"]", b"0",
+                                                b"9", b"\t", b"\xa0", b"\xb5", b"R", b"1e400"]),
+                               st.binary(min_size=1, max_size=3)))
+        if op == "insert":
+            raw[at:at] = piece
+        elif op == "delete":
+            del raw[at: at + draw(st.integers(1, 5))]
+        elif op == "replace":
+            raw[at: at + len(piece)] = piece
+        else:
+            raw[at:at] = raw[at: at + draw(st.integers(1, 40))]
+    name = ["m.s1p", "m.s2p", "m.ts", "m.s3p"][k]
+    return bytes(raw), name
+
+
+@FUZZ
+@given(mutated())
+def test_byte_edits_of_valid_files_load_cleanly_or_fail_with_our_error(case):
+    test_near_valid_text_loads_cleanly_or_fails_with_our_error.hypothesis.inner_test(case)
