@@ -738,11 +738,20 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
     s = np.asarray(s, dtype=complex)
     if s.ndim == 1:
         s = s.reshape(-1, 1, 1)
+    if f_hz.ndim != 1 or f_hz.size == 0 or s.ndim != 3 or s.shape[0] != f_hz.size or s.shape[1] != s.shape[2]:
+        raise UsageError(f"arrays of shapes {f_hz.shape} and {s.shape} do not describe a sweep", path=path,
+                         expected="f_hz (n,) and s (n,) or (n, N, N)")
+    if not (np.isfinite(f_hz).all() and np.isfinite(s).all()):
+        raise UsageError("non-finite frequency or S-parameter", path=path, expected="finite numbers")
+    if np.any(f_hz < 0) or np.any(np.diff(f_hz) <= 0):
+        raise UsageError("frequencies are negative or do not strictly increase", path=path)
     n = s.shape[1]
     warnings = list(warnings or [])
     if isinstance(port, bool) or not isinstance(port, int | np.integer) or not 1 <= port <= n:
         raise UsageError(f"port {port} does not exist", path=path, expected=f"a port from 1 to {n}")
     z0_file = np.broadcast_to(np.asarray(z0_file_ohm, dtype=float), (n,)).copy()
+    if not (np.isfinite(z0_file).all() and np.all(z0_file > 0)):
+        raise UsageError("reference impedance must be positive and finite", path=path)
     if z0_ohm is not None:
         if not (math.isfinite(z0_ohm) and z0_ohm > 0):
             raise UsageError(f"--z0 {z0_ohm:g} ohm", expected="a positive, finite impedance")

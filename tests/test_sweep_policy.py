@@ -264,3 +264,19 @@ def test_size_limit_boundary(tmp_path):
     assert load(p, max_bytes=size).f_hz.size == 2
     with pytest.raises(TouchstoneError, match="over the input limit"):
         load(p, max_bytes=size - 1)
+
+
+@pytest.mark.parametrize("f, s, z0", [
+    ([1e9, 2e9], [0.1, 0.2, 0.3], 50.0),  # shapes disagree
+    ([1e9, np.nan], [0.1, 0.2], 50.0),
+    ([1e9, 2e9], [0.1, np.inf], 50.0),
+    ([2e9, 1e9], [0.1, 0.2], 50.0),
+    ([-1e9, 1e9], [0.1, 0.2], 50.0),
+    ([1e9, 2e9], [0.1, 0.2], 0.0),
+    ([], [], 50.0),
+])
+def test_sweep_from_arrays_refuses_bad_arrays(f, s, z0):
+    from matchtool.errors import UsageError
+    from matchtool.sweep import sweep_from_arrays
+    with pytest.raises(UsageError):
+        sweep_from_arrays(np.array(f, dtype=float), np.array(s, dtype=complex), z0)
