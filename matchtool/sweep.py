@@ -342,6 +342,7 @@ class _Chunk:
     text: str
     line: int  # 1-based line number of the chunk's first line
     section: str  # "network", "noise", "reference"
+    more: list[str] = field(default_factory=list)  # text after ignored option lines, joined later
 
 
 def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None = None) -> Touchstone:
@@ -366,8 +367,15 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
 
     def region(start: int, end: int) -> None:
         seg = body[start:end]
+        if in_info:
+            return
+        if repeats["merge"] and chunks and chunks[-1].section == section:
+            # only ignored option lines since the last chunk: continue it (an ignored line stays
+            # as an empty line, so line numbers hold) instead of starting a chunk per line
+            chunks[-1].more.append(seg)
+            return
         stripped = seg.lstrip()
-        if not stripped or in_info:
+        if not stripped:
             return
         first = lines.at(start) + seg[: len(seg) - len(stripped)].count("\n")
         if ended:
@@ -380,15 +388,19 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             raise TouchstoneError("data before [Network Data]", path, first)
         chunks.append(_Chunk(seg, lines.at(start), section))
 
+    repeats = {"merge": False, "count": 0, "first": 0}
     for c_start, c_end, ctrl in _controls(body):
         region(prev_end, c_start)
         prev_end = c_end
         ln = lines.at(c_start)
+        repeats["merge"] = False
         if ctrl.startswith("#"):
             if in_info:
                 continue
             if option is not None:
-                warnings.append(f"{path} line {ln}: a second option line is ignored (only the first counts)")
+                repeats["count"] += 1
+                repeats["first"] = repeats["first"] or ln
+                repeats["merge"] = True
                 continue
             if chunks:
                 raise TouchstoneError("data before the option line", path, chunks[0].line)
@@ -444,6 +456,14 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
         if name not in ("reference", "network data", "noise data", "end", "version"):
             section = None if version != "1" else section
     region(prev_end, len(body))
+    for c in chunks:
+        if c.more:
+            c.text = "".join([c.text, *c.more])
+            c.more = []
+    if repeats["count"]:
+        further = f" ({repeats['count'] - 1} more after it)" if repeats["count"] > 1 else ""
+        warnings.append(f"{path} line {repeats['first']}: a second option line is ignored{further} "
+                        "(only the first counts)")
     if in_info:
         raise TouchstoneError("[Begin Information] without [End Information]", path, info_line)
 

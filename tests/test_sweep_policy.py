@@ -280,3 +280,17 @@ def test_sweep_from_arrays_refuses_bad_arrays(f, s, z0):
     from matchtool.sweep import sweep_from_arrays
     with pytest.raises(UsageError):
         sweep_from_arrays(np.array(f, dtype=float), np.array(s, dtype=complex), z0)
+
+
+def test_many_repeated_option_lines_are_one_warning_and_linear():
+    # every repeat is ignored (Touchstone: only the first option line counts); one warning for all,
+    # and the rows between them are still read as one block with the right line numbers
+    n = 100_000
+    text = "# MHz S RI R 50\n" + "".join(f"# GHz Z\n{k + 1} 0.1 {k * 1e-6:.6f}\n" for k in range(n))
+    ts = parse_touchstone(text, "a.s1p", 1)
+    assert len(ts.f_hz) == n and ts.f_hz[-1] == n * 1e6 and ts.s[-1, 0, 0] == pytest.approx(0.1 + 0.099999j)
+    assert len(ts.warnings) == 1 and "line 2" in ts.warnings[0] and f"{n - 1} more" in ts.warnings[0]
+    bad = text.replace(f"\n{n // 2} 0.1", f"\n{n // 2} ")
+    with pytest.raises(TouchstoneError, match="found 2") as ei:
+        parse_touchstone(bad, "a.s1p", 1)
+    assert ei.value.line == 1 + 2 * (n // 2)
