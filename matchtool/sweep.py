@@ -165,7 +165,9 @@ def decode_text(raw: bytes, path: str | Path) -> str:
     """Decode bytes of a text input file; refuse binary content."""
     if raw.startswith(b"\xff\xfe") or raw.startswith(b"\xfe\xff"):
         raise TouchstoneError("file is UTF-16 text", path=path, expected="ASCII or UTF-8 text")
-    m = _BINARY.search(raw) if raw.translate(None, _KEEP_BINARY) else None  # translate: fast C scan
+    if raw.endswith(b"\x1a"):  # a DOS end-of-file mark (Ctrl-Z) written by old instruments
+        raw = raw[:-1]
+    m = _BINARY.search(raw) if raw.translate(None, _KEEP_BINARY) else None
     if m:
         line = raw.count(b"\n", 0, m.start()) + 1
         raise TouchstoneError(f"binary content (byte 0x{raw[m.start()]:02x})", path=path, line=line,
@@ -490,6 +492,9 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     if n is None:
         raise TouchstoneError("cannot tell the port count", path,
                               expected="a .sNp file name (e.g. .s1p) or a version 2 [Number of Ports]")
+    if n * (n + 1) > len(text):  # even one record in Lower/Upper form needs 1 + N(N+1) numbers
+        raise TouchstoneError(f"a {n}-port record needs at least {n * (n + 1) + 1} numbers; the file is shorter",
+                              path, kw["number of ports"][1] if "number of ports" in kw else None)
     if param in ("H", "G") and n != 2:
         raise TouchstoneError(f"{param}-parameters need a 2-port, this file has {n} ports", path)
 

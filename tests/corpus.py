@@ -252,6 +252,11 @@ def cases(tmp: Path) -> list[Case]:
     c.append(_err("trailing garbage", "trail.s1p", text(*g, "end of measurement"), "end", 7))
     c.append(_err("truncated last line", "trunc.s1p", text(*g)[:-8], "found 2", 6))
     c.append(_ok("no newline at end", "nonl.s1p", text(*g)[:-1]))
+    c.append(_ok("DOS end-of-file mark", "ctrlz.s1p", text(*g) + b"\x1a"))
+    c.append(_err("Ctrl-Z inside the data", "ctrlz2.s1p", text(*g[:3]) + b"\x1a" + text(*g[3:]), "binary", 4))
+    c.append(_err("absurd port count", "ports.ts", text("[Version] 2.0", GOOD_HEAD, "[Number of Ports] 1000000000",
+                                                       "[Network Data]", *r), "needs at least", 3))
+    c.append(_err("absurd port count in the name", "a.s99999999p", text(*g), "needs at least"))
     c.append(_err("binary junk", "junk.s1p", bytes(range(256)) * 4, "binary"))
     c.append(_err("NUL after valid data", "nul.s1p", text(*g) + b"\x00\x00", "binary", 7))
     for proto in (0, 2, 4, 5):
