@@ -818,10 +818,13 @@ def gamma_at_many(f_hz: np.ndarray, gamma: np.ndarray, f_query_hz: np.ndarray, p
     return np.interp(q, f_hz, gamma.real) + 1j * np.interp(q, f_hz, gamma.imag)
 
 
-def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float, comments: list[str] = ()) -> str:
+def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float, comments: list[str] = (),
+                    version2: bool = False) -> str:
     """Touchstone text (RI, Hz) for ``s`` of shape (n, N, N) at reference ``z0_ohm``.
 
-    Version 1 when all ports share one reference impedance, version 2.0 with [Reference] otherwise.
+    Version 1 when all ports share one reference impedance (and ``version2`` is false), version
+    2.0 with [Number of Ports] and [Reference] otherwise (a ``.ts`` name needs version 2: only
+    the keywords tell the port count).
     """
     s = np.asarray(s, dtype=complex)
     if s.ndim == 1:
@@ -829,7 +832,7 @@ def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float,
     m, n, _ = s.shape
     z0 = np.broadcast_to(np.asarray(z0_ohm, dtype=float), (n,))
     out = [f"! {c}" for c in comments]
-    one_ref = bool(np.all(z0 == z0[0]))
+    one_ref = bool(np.all(z0 == z0[0])) and not version2
     if one_ref:
         out.append(f"# Hz S RI R {z0[0]:.12g}")
     else:
@@ -872,4 +875,5 @@ def write_touchstone(path: str | Path, network: skrf.Network, force: bool = Fals
     if want is not None and want != n:
         raise UsageError(f"a {n}-port network cannot be written as .s{want}p", path=p, expected=f".s{n}p")
     z0 = np.asarray(network.z0)[0].real
-    return atomic_write(p, touchstone_text(network.f, network.s, z0, comments), force=force)
+    text = touchstone_text(network.f, network.s, z0, comments, version2=p.suffix.lower() == ".ts")
+    return atomic_write(p, text, force=force)

@@ -212,3 +212,25 @@ def test_ctrl_c_during_inspect_exits_130(tmp_path, monkeypatch, cli):
 def test_ctrl_c_during_inspect_prints_one_line(tmp_path, monkeypatch, cli):
     r = _interrupted_inspect(tmp_path, monkeypatch, cli)
     assert len(r.err_lines) == 1 and r.err_lines[0].startswith("error: interrupted")
+
+
+@pytest.mark.parametrize("name", ["out.ts", "out.s1p", "OUT.S1P"])
+def test_written_touchstone_loads_back_under_its_name(tmp_path, name):
+    # a .ts file must carry version 2 keywords: only they tell a reader the port count
+    sw = load(write_rlc(tmp_path / "a.s1p", n=11))
+    out = write_touchstone(tmp_path / name, sw.network)
+    back = load(out)
+    assert np.allclose(back.gamma, sw.gamma, atol=1e-11) and back.z0_ohm == sw.z0_ohm
+    assert back.warnings == []
+
+
+def test_written_two_and_three_port_load_back(tmp_path):
+    import skrf
+
+    rng = np.random.default_rng(5)
+    for n in (2, 3):
+        s = rng.uniform(-0.4, 0.4, (4, n, n)) + 1j * rng.uniform(-0.4, 0.4, (4, n, n))
+        net = skrf.Network(frequency=skrf.Frequency.from_f([1e9, 2e9, 3e9, 4e9], unit="Hz"), s=s, z0=50)
+        for name in (f"x.s{n}p", f"x{n}.ts"):
+            back = load(write_touchstone(tmp_path / name, net))
+            assert np.allclose(back.network.s, s, atol=1e-11)
