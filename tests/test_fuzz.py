@@ -13,8 +13,10 @@ which takes the 'long' profile of tests/conftest.py (10,000 examples per test).
 
 from __future__ import annotations
 
+import atexit
 import cmath
 import math
+import shutil
 import tempfile
 from pathlib import Path
 
@@ -28,6 +30,7 @@ from matchtool.sweep import load
 N_EXAMPLES = max(1000, settings.default.max_examples)
 FUZZ = settings(max_examples=N_EXAMPLES, deadline=None, suppress_health_check=list(HealthCheck))
 TMP = Path(tempfile.mkdtemp(prefix="matchtool-fuzz-"))
+atexit.register(shutil.rmtree, TMP, True)
 
 UNITS = ["Hz", "kHz", "MHz", "GHz", "hz", "KHZ", "mhz", "THz"]
 PARAMS = ["S", "Y", "Z", "H", "G", "s", "z", "T"]
