@@ -4,7 +4,7 @@ The text is read and checked here, line by line where it matters, and the number
 scikit-rf (``skrf.Network``, ``skrf.network.z2s`` and friends) as arrays. A path is never passed
 to ``skrf.Network(path)``, which would first try to unpickle the file.
 
-Loading policy (see DEVELOPERS.md): harmless layout variation is accepted; anything that would
+Loading policy (docs/input-policy.md): harmless layout variation is accepted; anything that would
 force a guess that changes a number is refused with a one-line :class:`TouchstoneError` naming
 the file and line; a few usable oddities load with a warning.
 
