@@ -36,10 +36,47 @@ def check_output(path: str | Path, force: bool = False) -> Path:
 def atomic_write(path: str | Path, data: str | bytes, force: bool = False) -> Path:
     """Write ``data`` (text as UTF-8, or bytes) to ``path`` atomically; return the path.
 
-    The old file, if any, stays intact unless the whole new content was written.
+    The old file, if any, stays intact unless the whole new content was written. Without
+    ``force`` the final step is a hard link, which fails if the target appeared meanwhile, so a
+    file is never replaced without ``force`` even by a race.
     """
     p = check_output(path, force)
-    payload = data.encode("utf-8") if isinstance(data, str) else data
+    tmp = _stage(p, data)
+    try:
+        _commit(p, tmp, force)
+    except BaseException:
+        _remove(tmp)
+        raise
+    return p
+
+
+def atomic_write_many(items: Iterable[tuple[str | Path, str | bytes]], force: bool = False) -> list[Path]:
+    """Write several outputs as one transaction as far as the file system allows.
+
+    All targets are checked first (a refusal writes nothing), then every content is written to
+    its temporary file; only when all of them are on disk are they renamed into place. A failure
+    while writing (disk full, Ctrl-C) therefore leaves every target as it was.
+    """
+    items = list(items)
+    paths = [check_output(path, force) for path, _ in items]
+    if len({os.path.abspath(p) for p in paths}) != len(paths):
+        raise OutputError("the same output file is named twice", path=paths[0])
+    staged: list[str] = []
+    try:
+        for p, (_, data) in zip(paths, items, strict=True):
+            staged.append(_stage(p, data))
+        for p, tmp in zip(paths, staged, strict=True):
+            _commit(p, tmp, force)
+    except BaseException:
+        for tmp in staged:
+            _remove(tmp)
+        raise
+    return paths
+
+
+def _stage(p: Path, data: str | bytes) -> str:
+    """Write ``data`` to a new temporary file beside ``p``, flushed to disk; return its name."""
+    payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
     parent = p.parent if str(p.parent) else Path(".")
     try:
         fd, tmp = tempfile.mkstemp(dir=parent, prefix=f".{p.name}.", suffix=".part")
@@ -50,27 +87,48 @@ def atomic_write(path: str | Path, data: str | bytes, force: bool = False) -> Pa
             fh.write(payload)
             fh.flush()
             os.fsync(fh.fileno())
-        if p.exists() and not force:  # appeared while we were writing
-            raise OutputError("exists already; not replaced", path=p, expected="--force to replace it")
-        os.replace(tmp, p)
-    except OutputError:
-        _remove(tmp)
-        raise
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; outputs get the usual mode
     except BaseException as exc:
         _remove(tmp)
         if isinstance(exc, OSError):
             raise OutputError(f"cannot write: {exc.strerror or exc}", path=p) from exc
         raise
-    return p
+    return tmp
 
 
-def atomic_write_many(items: Iterable[tuple[str | Path, str | bytes]], force: bool = False) -> list[Path]:
-    """Write several outputs as one transaction: all are checked first, then each is written
-    atomically. A refusal found in the check writes nothing at all."""
-    items = list(items)
-    for path, _ in items:
-        check_output(path, force)
-    return [atomic_write(path, data, force) for path, data in items]
+def _commit(p: Path, tmp: str, force: bool) -> None:
+    """Move the staged ``tmp`` to ``p`` in one step (the temporary is gone afterwards)."""
+    try:
+        if force:
+            os.replace(tmp, p)
+            return
+        try:
+            os.link(tmp, p)  # fails with FileExistsError if p appeared meanwhile
+        except FileExistsError:
+            raise OutputError("exists already; not replaced", path=p, expected="--force to replace it") from None
+        except OSError:  # no hard links here (some network or FAT file systems)
+            if p.exists():
+                raise OutputError("exists already; not replaced", path=p,
+                                  expected="--force to replace it") from None
+            os.replace(tmp, p)
+            return
+        _remove(tmp)
+    except OSError as exc:
+        if isinstance(exc, OutputError):
+            raise
+        raise OutputError(f"cannot write: {exc.strerror or exc}", path=p) from exc
+
+
+def _umask() -> int:
+    """The process umask, read without changing it (Linux /proc), else the common 022."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    return 0o022
 
 
 def _remove(tmp: str) -> None:

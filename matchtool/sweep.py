@@ -4,7 +4,7 @@ The text is read and checked here, line by line where it matters, and the number
 scikit-rf (``skrf.Network``, ``skrf.network.z2s`` and friends) as arrays. A path is never passed
 to ``skrf.Network(path)``, which would first try to unpickle the file.
 
-Loading policy (see DEVELOPERS.md): harmless layout variation is accepted; anything that would
+Loading policy (docs/input-policy.md): harmless layout variation is accepted; anything that would
 force a guess that changes a number is refused with a one-line :class:`TouchstoneError` naming
 the file and line; a few usable oddities load with a warning.
 
@@ -17,6 +17,7 @@ from __future__ import annotations
 import math
 import os
 import re
+import stat
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -38,11 +39,13 @@ _KEYWORDS = {
     "begin information", "end information", "network data", "noise data", "end",
 }
 _COMMENT = re.compile(r"![^\n]*")
-_CONTROL = re.compile(r"^[ \t\f\v]*([#\[][^\n]*)", re.M)
-_NOT_NUMERIC = re.compile(r"[^0-9eE+\-.\s]")
+_NOT_NUMERIC = re.compile(r"[^0-9eE+\-. \t\n\v\f]")
 _NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
 _EXT_PORTS = re.compile(r"\.s(\d+)p$", re.I)
 _BINARY = re.compile(rb"[\x00-\x08\x0e-\x1f\x7f]")
+_BINARY_BYTES = bytes(b for b in range(256) if _BINARY.match(bytes([b])))
+_KEEP_BINARY = bytes(b for b in range(256) if b not in _BINARY_BYTES)  # delete these, binary remains
+_DATA_BYTES = b"0123456789eE+-. \t\n\v\f"
 
 
 @dataclass(frozen=True, eq=False)
@@ -101,11 +104,15 @@ def _max_bytes(max_bytes: int | None) -> int:
     if max_bytes is not None:
         return int(max_bytes)
     env = os.environ.get("MATCHTOOL_MAX_INPUT_MB")
-    if env:
+    if env is not None and env.strip():
         try:
-            return int(float(env) * 1024 * 1024)
+            mb = float(env)
         except ValueError:
-            raise UsageError(f"MATCHTOOL_MAX_INPUT_MB={env!r} is not a number") from None
+            mb = math.nan
+        if not (math.isfinite(mb) and mb > 0):
+            raise UsageError(f"MATCHTOOL_MAX_INPUT_MB={_show(env)} is not a positive number of megabytes",
+                             expected="e.g. MATCHTOOL_MAX_INPUT_MB=2000")
+        return int(mb * 1024 * 1024)
     return DEFAULT_MAX_BYTES
 
 
@@ -123,19 +130,34 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
         raise TouchstoneError("no such file", path=path) from None
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
-    if p.is_dir():
+    except ValueError:  # a NUL byte in the name
+        raise TouchstoneError("the file name holds a NUL byte", path=repr(str(path))) from None
+    if stat.S_ISDIR(st.st_mode):
         raise TouchstoneError("is a directory", path=path, expected="a Touchstone file")
+    if not stat.S_ISREG(st.st_mode):  # a FIFO or device would block or never end
+        raise TouchstoneError("not a regular file", path=path, expected="a Touchstone file")
     if st.st_size > limit:
         raise TouchstoneError(
-            f"file is {st.st_size / 1e6:.1f} MB, over the input limit of {limit / 1e6:.1f} MB",
+            f"file is {st.st_size / 2**20:.1f} MB, over the input limit of {limit / 2**20:.1f} MB",
             path=path, expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
     try:
         with open(p, "rb") as fh:
-            raw = fh.read(limit + 1)
+            # read(limit + 1) would allocate the whole limit up front: read the size stat() gave
+            raw = fh.read(st.st_size + 1)
+            more, total = [], len(raw)
+            while total <= limit:  # the file grew after stat(): read on in small pieces
+                piece = fh.read(1 << 20)
+                if not piece:
+                    break
+                more.append(piece)
+                total += len(piece)
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
-    if len(raw) > limit:
-        raise TouchstoneError(f"file is over the input limit of {limit / 1e6:.1f} MB", path=path)
+    if total > limit:
+        raise TouchstoneError(f"file is over the input limit of {limit / 2**20:.1f} MB", path=path,
+                              expected="a smaller file, or raise MATCHTOOL_MAX_INPUT_MB")
+    if more:
+        raw = b"".join([raw, *more])
     return decode_text(raw, path)
 
 
@@ -143,7 +165,9 @@ def decode_text(raw: bytes, path: str | Path) -> str:
     """Decode bytes of a text input file; refuse binary content."""
     if raw.startswith(b"\xff\xfe") or raw.startswith(b"\xfe\xff"):
         raise TouchstoneError("file is UTF-16 text", path=path, expected="ASCII or UTF-8 text")
-    m = _BINARY.search(raw)
+    if raw.endswith(b"\x1a"):  # a DOS end-of-file mark (Ctrl-Z) written by old instruments
+        raw = raw[:-1]
+    m = _BINARY.search(raw) if raw.translate(None, _KEEP_BINARY) else None
     if m:
         line = raw.count(b"\n", 0, m.start()) + 1
         raise TouchstoneError(f"binary content (byte 0x{raw[m.start()]:02x})", path=path, line=line,
@@ -187,15 +211,15 @@ def _option_line(text: str, path: str, line: int) -> tuple[float, str, str, floa
         t = tokens[i].lower()
         if t in _UNITS:
             if unit is not None:
-                raise TouchstoneError(f"option line gives the frequency unit twice ({tokens[i]!r})", path, line)
+                raise TouchstoneError(f"option line gives the frequency unit twice ({_show(tokens[i])})", path, line)
             unit = t
         elif t in _PARAMS:
             if param is not None:
-                raise TouchstoneError(f"option line gives the parameter twice ({tokens[i]!r})", path, line)
+                raise TouchstoneError(f"option line gives the parameter twice ({_show(tokens[i])})", path, line)
             param = t
         elif t in _FORMATS:
             if fmt is not None:
-                raise TouchstoneError(f"option line gives the format twice ({tokens[i]!r})", path, line)
+                raise TouchstoneError(f"option line gives the format twice ({_show(tokens[i])})", path, line)
             fmt = t
         elif t == "r":
             if r is not None:
@@ -207,54 +231,112 @@ def _option_line(text: str, path: str, line: int) -> tuple[float, str, str, floa
             i += 1
         else:
             raise TouchstoneError(
-                f"unknown option-line token {tokens[i]!r}", path, line,
+                f"unknown option-line token {_show(tokens[i])}", path, line,
                 expected="a unit (Hz kHz MHz GHz), a parameter (S Y Z H G), a format (RI MA DB) or R <ohms>")
         i += 1
     return (_UNITS[unit or "ghz"], (param or "s").upper(), (fmt or "ma").upper(), 50.0 if r is None else r)
 
 
+def _show(token: str, limit: int = 40, quote: bool = True) -> str:
+    """A file's text for an error message: quoted, at most ``limit`` characters (one line)."""
+    t = token if len(token) <= limit else token[:limit] + "..."
+    return repr(t) if quote else t
+
+
 def _positive(token: str, path: str, line: int, what: str) -> float:
     if not _NUMBER.fullmatch(token):
-        raise TouchstoneError(f"{what} {token!r} is not a number", path, line)
+        raise TouchstoneError(f"{what} {_show(token)} is not a number", path, line)
     value = float(token)
     if not (math.isfinite(value) and value > 0):
-        raise TouchstoneError(f"{what} is {token}", path, line, expected="a positive number of ohms")
+        raise TouchstoneError(f"{what} is {_show(token)}", path, line, expected="a positive number of ohms")
     return value
 
 
 def _bad_token(chunk: str, first_line: int, path: str, what: str) -> TouchstoneError:
     """Find the first token of ``chunk`` that is not a plain decimal number and describe it."""
     for k, text in enumerate(chunk.split("\n")):
-        for tok in text.split():
+        for tok in re.split(r"[ \t\v\f]+", text):
+            if not tok:
+                continue
             if not _NUMBER.fullmatch(tok):
                 low = tok.lower()
                 if low.lstrip("+-") in ("nan", "inf", "infinity"):
-                    return TouchstoneError(f"non-finite value {tok!r} in {what}", path, first_line + k,
+                    return TouchstoneError(f"non-finite value {_show(tok)} in {what}", path, first_line + k,
                                            expected="finite numbers")
                 if low.startswith("["):
-                    return TouchstoneError(f"keyword {tok!r} out of place", path, first_line + k)
-                return TouchstoneError(f"expected a number in {what}, found {tok[:40]!r}", path, first_line + k)
+                    return TouchstoneError(f"keyword {_show(tok)} out of place", path, first_line + k)
+                return TouchstoneError(f"expected a number in {what}, found {_show(tok)}", path, first_line + k)
+    m = _NOT_NUMERIC.search(chunk)
+    if m:
+        return TouchstoneError(f"unexpected character {m.group()!r} in {what}", path,
+                               first_line + chunk.count("\n", 0, m.start()))
     return TouchstoneError(f"unreadable numbers in {what}", path, first_line)
 
 
 def _numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndarray, np.ndarray]:
-    """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised)."""
-    if _NOT_NUMERIC.search(chunk):
+    """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised).
+
+    Every token must be a plain finite decimal number; anything else raises TouchstoneError with
+    the line of the first bad token. Memory stays a few bytes per character of the chunk.
+    """
+    try:
+        data = chunk.encode("ascii")
+    except UnicodeEncodeError:
+        raise _bad_token(chunk, first_line, path, what) from None
+    if data.translate(None, _DATA_BYTES):  # something other than digits, signs, '.', 'e' and blanks
         raise _bad_token(chunk, first_line, path, what)
-    raw = np.frombuffer(chunk.encode("ascii"), dtype=np.uint8)
+    raw = np.frombuffer(data, dtype=np.uint8)
+    newline_at = np.flatnonzero(raw == 10)
     if raw.size == 0:
         return np.empty(0), np.zeros(1, dtype=np.int64)
-    space = (raw == 32) | (raw == 9) | (raw == 11) | (raw == 12)
-    newline = raw == 10
-    filled = ~(space | newline)
+    filled = raw > 32  # only digits, signs, '.', 'e'/'E' and blanks are left at this point
     start = filled.copy()
     start[1:] &= ~filled[:-1]
-    line_of = np.cumsum(newline)
-    counts = np.bincount(line_of[start], minlength=int(line_of[-1]) + 1)
-    values = np.fromstring(chunk, dtype=float, sep=" ") if counts.sum() else np.empty(0)
+    del filled
+    token_at = np.flatnonzero(start)
+    del start
+    counts = np.bincount(np.searchsorted(newline_at, token_at), minlength=newline_at.size + 1)
+    del token_at
+    try:
+        values = np.fromstring(chunk, dtype=float, sep=" ") if counts.sum() else np.empty(0)
+    except ValueError:  # numpy 2 refuses a token it cannot read to its end ('1.2.3', '1e', '1-2')
+        raise _bad_token(chunk, first_line, path, what) from None
     if values.size != counts.sum():
         raise _bad_token(chunk, first_line, path, what)
+    if not np.isfinite(values).all():  # '1e999' reads as inf
+        k = int(np.argmin(np.isfinite(values)))
+        line = first_line + int(np.searchsorted(np.cumsum(counts), k, side="right"))
+        raise TouchstoneError(f"number out of range in {what}", path, line,
+                              expected="finite numbers (magnitude below 1e308)")
     return values, counts
+
+
+def _controls(body: str):
+    """Yield (line start, line end, stripped text) of every line that begins (after blanks) with
+    '#' or '['. Uses str.find, which is far faster than a regex scan of a large file."""
+    found = []
+    for ch in "#[":
+        k = body.find(ch)
+        while k >= 0:
+            found.append(k)
+            k = body.find(ch, k + 1)
+    found.sort()
+    last_end = -1
+    prev = -1
+    for k in found:
+        if k < last_end:  # inside a control line already yielded
+            continue
+        if prev >= 0 and body.find("\n", prev, k) < 0:
+            prev = k
+            continue  # same line as an earlier '#'/'[' that is not at its start (keeps this linear)
+        prev = k
+        start = body.rfind("\n", 0, k) + 1
+        if body[start:k].strip(" \t\f\v"):
+            continue  # not at the start of its line: the data checks report it
+        end = body.find("\n", k)
+        end = len(body) if end < 0 else end
+        last_end = end
+        yield start, end, body[k:end].strip()
 
 
 @dataclass
@@ -262,6 +344,7 @@ class _Chunk:
     text: str
     line: int  # 1-based line number of the chunk's first line
     section: str  # "network", "noise", "reference"
+    more: list[str] = field(default_factory=list)  # text after ignored option lines, joined later
 
 
 def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None = None) -> Touchstone:
@@ -280,13 +363,21 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     chunks: list[_Chunk] = []
     section: str | None = None  # v1: "network" after the option line; v2: by keyword
     in_info = False
+    info_line = 0
     ended = False
     prev_end = 0
 
     def region(start: int, end: int) -> None:
         seg = body[start:end]
+        if in_info:
+            return
+        if repeats["merge"] and chunks and chunks[-1].section == section:
+            # only ignored option lines since the last chunk: continue it (an ignored line stays
+            # as an empty line, so line numbers hold) instead of starting a chunk per line
+            chunks[-1].more.append(seg)
+            return
         stripped = seg.lstrip()
-        if not stripped or in_info:
+        if not stripped:
             return
         first = lines.at(start) + seg[: len(seg) - len(stripped)].count("\n")
         if ended:
@@ -299,16 +390,19 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             raise TouchstoneError("data before [Network Data]", path, first)
         chunks.append(_Chunk(seg, lines.at(start), section))
 
-    for m in _CONTROL.finditer(body):
-        region(prev_end, m.start())
-        prev_end = m.end()
-        ln = lines.at(m.start())
-        ctrl = m.group(1).strip()
+    repeats = {"merge": False, "count": 0, "first": 0}
+    for c_start, c_end, ctrl in _controls(body):
+        region(prev_end, c_start)
+        prev_end = c_end
+        ln = lines.at(c_start)
+        repeats["merge"] = False
         if ctrl.startswith("#"):
             if in_info:
                 continue
             if option is not None:
-                warnings.append(f"{path} line {ln}: a second option line is ignored (only the first counts)")
+                repeats["count"] += 1
+                repeats["first"] = repeats["first"] or ln
+                repeats["merge"] = True
                 continue
             if chunks:
                 raise TouchstoneError("data before the option line", path, chunks[0].line)
@@ -318,7 +412,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             continue
         close = ctrl.find("]")
         if close < 0:
-            raise TouchstoneError(f"unclosed keyword {ctrl[:40]!r}", path, ln)
+            raise TouchstoneError(f"unclosed keyword {_show(ctrl)}", path, ln)
         name = " ".join(ctrl[1:close].lower().split())
         arg = ctrl[close + 1:].strip()
         if in_info:
@@ -326,20 +420,21 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
                 in_info = False
             continue
         if name not in _KEYWORDS:
-            raise TouchstoneError(f"unknown keyword [{ctrl[1:close]}]", path, ln)
+            raise TouchstoneError(f"unknown keyword [{_show(ctrl[1:close], quote=False)}]", path, ln)
         if ended:
             raise TouchstoneError("text after [End]", path, ln)
         if name == "version":
             if kw or option is not None:
                 raise TouchstoneError("[Version] must come first", path, ln)
             if arg not in ("2.0", "2.1"):
-                raise TouchstoneError(f"unsupported [Version] {arg!r}", path, ln, expected="2.0 or 2.1")
+                raise TouchstoneError(f"unsupported [Version] {_show(arg)}", path, ln, expected="2.0 or 2.1")
             version = arg
         elif version == "1":
-            raise TouchstoneError(f"keyword [{ctrl[1:close]}] in a version 1 file", path, ln,
+            raise TouchstoneError(f"keyword [{_show(ctrl[1:close], quote=False)}] in a version 1 file", path, ln,
                                   expected="[Version] 2.0 as the first line of a file that uses keywords")
         elif name == "begin information":
             in_info = True
+            info_line = ln
             continue
         elif name == "network data":
             if option is None:
@@ -358,11 +453,21 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             raise TouchstoneError("mixed-mode data is not supported", path, ln,
                                   expected="single-ended S-parameters")
         if name in kw and name not in ("end",):
-            raise TouchstoneError(f"keyword [{ctrl[1:close]}] given twice", path, ln)
+            raise TouchstoneError(f"keyword [{_show(ctrl[1:close], quote=False)}] given twice", path, ln)
         kw[name] = (arg, ln)
         if name not in ("reference", "network data", "noise data", "end", "version"):
             section = None if version != "1" else section
     region(prev_end, len(body))
+    for c in chunks:
+        if c.more:
+            c.text = "".join([c.text, *c.more])
+            c.more = []
+    if repeats["count"]:
+        further = f" ({repeats['count'] - 1} more after it)" if repeats["count"] > 1 else ""
+        warnings.append(f"{path} line {repeats['first']}: a second option line is ignored{further} "
+                        "(only the first counts)")
+    if in_info:
+        raise TouchstoneError("[Begin Information] without [End Information]", path, info_line)
 
     if option is None:
         raise TouchstoneError("no option line", path,
@@ -374,7 +479,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     if "number of ports" in kw:
         arg, ln = kw["number of ports"]
         if not re.fullmatch(r"\d+", arg) or int(arg) < 1:
-            raise TouchstoneError(f"[Number of Ports] {arg!r} is not a positive whole number", path, ln)
+            raise TouchstoneError(f"[Number of Ports] {_show(arg)} is not a positive whole number", path, ln)
         n_kw = int(arg)
     elif version != "1":
         raise TouchstoneError("version 2 file without [Number of Ports]", path)
@@ -382,9 +487,14 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
         raise TouchstoneError(f"[Number of Ports] is {n_kw} but the file name says {nports} ports", path,
                               kw["number of ports"][1])
     n = n_kw or nports
+    if n == 0:
+        raise TouchstoneError("the file name says 0 ports", path, expected="a .sNp name with N of 1 or more")
     if n is None:
         raise TouchstoneError("cannot tell the port count", path,
                               expected="a .sNp file name (e.g. .s1p) or a version 2 [Number of Ports]")
+    if n * (n + 1) > len(text):  # even one record in Lower/Upper form needs 1 + N(N+1) numbers
+        raise TouchstoneError(f"a {n}-port record needs at least {n * (n + 1) + 1} numbers; the file is shorter",
+                              path, kw["number of ports"][1] if "number of ports" in kw else None)
     if param in ("H", "G") and n != 2:
         raise TouchstoneError(f"{param}-parameters need a 2-port, this file has {n} ports", path)
 
@@ -407,7 +517,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     # layout of one record
     fmt_arg = kw.get("matrix format", ("full", 0))[0].lower()
     if fmt_arg not in ("full", "lower", "upper"):
-        raise TouchstoneError(f"unknown [Matrix Format] {fmt_arg!r}", path, kw["matrix format"][1],
+        raise TouchstoneError(f"unknown [Matrix Format] {_show(fmt_arg)}", path, kw["matrix format"][1],
                               expected="Full, Lower or Upper")
     npairs = n * n if fmt_arg == "full" else n * (n + 1) // 2
     per = 1 + 2 * npairs
@@ -418,7 +528,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
                                   expected="[Two-Port Data Order] 12_21 or 21_12")
         order = kw["two-port data order"][0].replace(" ", "")
         if order not in ("12_21", "21_12"):
-            raise TouchstoneError(f"[Two-Port Data Order] {order!r}", path, kw["two-port data order"][1],
+            raise TouchstoneError(f"[Two-Port Data Order] {_show(order)}", path, kw["two-port data order"][1],
                                   expected="12_21 or 21_12")
 
     net_chunks = [c for c in chunks if c.section == "network"]
@@ -435,27 +545,39 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
 
     f_file = records[:, 0]
     _check_frequencies(f_file, rec_lines, path)
-    f_hz = f_file * unit
+    with np.errstate(over="ignore"):
+        f_hz = f_file * unit
+    if not np.isfinite(f_hz).all():
+        k = int(np.argmin(np.isfinite(f_hz)))
+        raise TouchstoneError(f"frequency {f_file[k]:g} is too large in this unit", path, int(rec_lines[k]))
+    same = np.flatnonzero(np.diff(f_hz) <= 0)
+    if same.size:  # two neighbouring floats can round to one value in Hz
+        k = int(same[0]) + 1
+        raise TouchstoneError(f"frequency {float(f_file[k])!r} is not distinct from the previous one "
+                              f"({float(f_file[k - 1])!r}) once converted to Hz", path, int(rec_lines[k]),
+                              expected="strictly increasing frequencies")
     pairs = records[:, 1:].reshape(len(records), npairs, 2)
     a, b = pairs[..., 0], pairs[..., 1]
-    if fmt == "RI":
-        vals = a + 1j * b
-    elif fmt == "MA":
-        vals = a * np.exp(1j * np.deg2rad(b))
-    else:
-        vals = 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
+    with np.errstate(all="ignore"):  # an overflow (DB 1e308) is reported below, by line
+        if fmt == "RI":
+            vals = a + 1j * b
+        elif fmt == "MA":
+            vals = a * np.exp(1j * np.deg2rad(b))
+        else:
+            vals = 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
     mat = _to_matrix(vals, n, fmt_arg, order)
     s = _to_s(mat, param, z0, r_ohm, version, path)
     bad = ~np.isfinite(s).all(axis=(1, 2))
     if bad.any():
         i = int(np.argmax(bad))
-        raise TouchstoneError(f"{param}-parameters at {f_hz[i]:g} Hz have no finite S-parameter equivalent",
-                              path, int(rec_lines[i]))
+        what = "values out of range" if param == "S" else f"{param}-parameters with no finite S-parameter equivalent"
+        raise TouchstoneError(f"{what} at {f_hz[i]:g} Hz", path, int(rec_lines[i]))
 
     if "number of frequencies" in kw:
         arg, ln = kw["number of frequencies"]
         if not re.fullmatch(r"\d+", arg) or int(arg) != len(f_hz):
-            raise TouchstoneError(f"[Number of Frequencies] is {arg} but the file holds {len(f_hz)}", path, ln)
+            raise TouchstoneError(f"[Number of Frequencies] is {_show(arg, quote=False)} but the file holds "
+                                  f"{len(f_hz)}", path, ln)
     elif version != "1":
         warnings.append(f"{path}: version 2 file without [Number of Frequencies]")
     if version != "1" and not ended:
@@ -463,7 +585,7 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     if "number of noise frequencies" in kw:
         arg, ln = kw["number of noise frequencies"]
         if not re.fullmatch(r"\d+", arg) or int(arg) != noise_rows:
-            raise TouchstoneError(f"[Number of Noise Frequencies] is {arg} but the file holds {noise_rows}",
+            raise TouchstoneError(f"[Number of Noise Frequencies] is {_show(arg, quote=False)} but the file holds {noise_rows}",
                                   path, ln)
     if len(f_hz) == 1:
         warnings.append(f"{path}: a single frequency point; bands and interpolation need more")
@@ -499,15 +621,13 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
                 rows = np.flatnonzero(counts)
                 row_f = values[starts[rows]] if values.size else np.empty(0)
                 full = counts[rows] == per
-                noise_at = None
-                prev = last_f
-                for k in range(rows.size):
-                    if row_f[k] <= prev:
-                        noise_at = k
-                        break
-                    if not full[k]:
-                        break
-                    prev = row_f[k]
+                # first row whose frequency is not above the one before (vectorised; a short or
+                # long row before it ends the search and is reported by _check_rows below)
+                prev_f = np.concatenate(([last_f], row_f[:-1]))
+                falls = row_f <= prev_f
+                stop = np.flatnonzero(falls | ~full)
+                noise_at = int(stop[0]) if stop.size and falls[stop[0]] else None
+                prev = float(prev_f[noise_at]) if noise_at is not None else last_f
                 if noise_at is not None:
                     after = rows[noise_at:]
                     if np.all(counts[after] == 5):
@@ -541,21 +661,20 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
             noise_rows += int(np.count_nonzero(counts))
         else:
             # N >= 3: a record may wrap over several lines; no line may hold parts of two records
-            have = 0
-            first = None
-            for k in np.flatnonzero(counts):
-                if have == 0:
-                    first = int(line_no[k])
-                have += int(counts[k])
-                if have > per:
-                    raise TouchstoneError(
-                        f"a {n}-port record needs {per} numbers; line ends {have - per} past the record",
-                        path, int(line_no[k]))
-                if have == per:
-                    lines_out.append(np.array([first]))
-                    have = 0
-            if have:
-                raise TouchstoneError(f"incomplete {n}-port record ({have} of {per} numbers)", path, first)
+            nz = np.flatnonzero(counts)
+            cum = np.cumsum(counts[nz])
+            before = cum - counts[nz]  # numbers of this chunk before each line
+            straddle = np.flatnonzero(before // per != (cum - 1) // per)
+            if straddle.size:
+                k = int(straddle[0])
+                past = int(cum[k] - (before[k] // per + 1) * per)
+                raise TouchstoneError(f"a {n}-port record needs {per} numbers; line ends {past} past the record",
+                                      path, int(line_no[nz[k]]))
+            heads = nz[before % per == 0]  # lines that begin a record
+            if cum.size and cum[-1] % per:
+                raise TouchstoneError(f"incomplete {n}-port record ({int(cum[-1] % per)} of {per} numbers)", path,
+                                      int(line_no[heads[-1]]))
+            lines_out.append(line_no[heads])
             recs.append(values.reshape(-1, per))
     records = np.concatenate(recs) if recs else np.empty((0, per))
     if records.shape[0] == 0:
@@ -592,9 +711,26 @@ def _to_matrix(vals: np.ndarray, n: int, layout: str, order: str | None) -> np.n
 
 
 def _to_s(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str, path: str) -> np.ndarray:
-    """Convert file parameters to S at ``z0``. Version 1 Z/Y/H/G data are normalised to R."""
+    """Convert file parameters to S at ``z0``. Version 1 Z/Y/H/G data are normalised to R.
+
+    A frequency whose matrix has no S equivalent (e.g. Z = -R, where Z + R is singular) comes back
+    as NaN, so that the caller can name its line.
+    """
     if param == "S":
         return mat
+    try:
+        return _convert(mat, param, z0, r_ohm, version)
+    except np.linalg.LinAlgError:  # find the singular frequencies one by one (rare path)
+        out = np.empty_like(mat, dtype=complex)
+        for k in range(len(mat)):
+            try:
+                out[k] = _convert(mat[k:k + 1], param, z0, r_ohm, version)[0]
+            except np.linalg.LinAlgError:
+                out[k] = np.nan
+        return out
+
+
+def _convert(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str) -> np.ndarray:
     v1 = version == "1"
     with np.errstate(all="ignore"):
         if param == "Z":
@@ -627,11 +763,20 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
     s = np.asarray(s, dtype=complex)
     if s.ndim == 1:
         s = s.reshape(-1, 1, 1)
+    if f_hz.ndim != 1 or f_hz.size == 0 or s.ndim != 3 or s.shape[0] != f_hz.size or s.shape[1] != s.shape[2]:
+        raise UsageError(f"arrays of shapes {f_hz.shape} and {s.shape} do not describe a sweep", path=path,
+                         expected="f_hz (n,) and s (n,) or (n, N, N)")
+    if not (np.isfinite(f_hz).all() and np.isfinite(s).all()):
+        raise UsageError("non-finite frequency or S-parameter", path=path, expected="finite numbers")
+    if np.any(f_hz < 0) or np.any(np.diff(f_hz) <= 0):
+        raise UsageError("frequencies are negative or do not strictly increase", path=path)
     n = s.shape[1]
     warnings = list(warnings or [])
     if isinstance(port, bool) or not isinstance(port, int | np.integer) or not 1 <= port <= n:
         raise UsageError(f"port {port} does not exist", path=path, expected=f"a port from 1 to {n}")
     z0_file = np.broadcast_to(np.asarray(z0_file_ohm, dtype=float), (n,)).copy()
+    if not (np.isfinite(z0_file).all() and np.all(z0_file > 0)):
+        raise UsageError("reference impedance must be positive and finite", path=path)
     if z0_ohm is not None:
         if not (math.isfinite(z0_ohm) and z0_ohm > 0):
             raise UsageError(f"--z0 {z0_ohm:g} ohm", expected="a positive, finite impedance")
@@ -639,7 +784,9 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
             s = skrf.network.renormalize_s(s, z0_file, np.full(n, float(z0_ohm)))
         z0_file = np.full(n, float(z0_ohm))
     freq = skrf.Frequency.from_f(f_hz, unit="Hz")
-    net = skrf.Network(frequency=freq, s=s, z0=z0_file, name=Path(path).stem)
+    # a (nports,) z0 would be read by scikit-rf as one value per frequency when nfreq == nports
+    z0_full = np.broadcast_to(z0_file, (len(f_hz), n)).copy()
+    net = skrf.Network(frequency=freq, s=s, z0=z0_full, name=Path(path).stem)
     g = np.abs(s[:, port - 1, port - 1])
     over = g > 1.0
     if over.any():
@@ -671,10 +818,13 @@ def gamma_at_many(f_hz: np.ndarray, gamma: np.ndarray, f_query_hz: np.ndarray, p
     return np.interp(q, f_hz, gamma.real) + 1j * np.interp(q, f_hz, gamma.imag)
 
 
-def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float, comments: list[str] = ()) -> str:
+def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float, comments: list[str] = (),
+                    version2: bool = False) -> str:
     """Touchstone text (RI, Hz) for ``s`` of shape (n, N, N) at reference ``z0_ohm``.
 
-    Version 1 when all ports share one reference impedance, version 2.0 with [Reference] otherwise.
+    Version 1 when all ports share one reference impedance (and ``version2`` is false), version
+    2.0 with [Number of Ports] and [Reference] otherwise (a ``.ts`` name needs version 2: only
+    the keywords tell the port count).
     """
     s = np.asarray(s, dtype=complex)
     if s.ndim == 1:
@@ -682,7 +832,7 @@ def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float,
     m, n, _ = s.shape
     z0 = np.broadcast_to(np.asarray(z0_ohm, dtype=float), (n,))
     out = [f"! {c}" for c in comments]
-    one_ref = bool(np.all(z0 == z0[0]))
+    one_ref = bool(np.all(z0 == z0[0])) and not version2
     if one_ref:
         out.append(f"# Hz S RI R {z0[0]:.12g}")
     else:
@@ -725,4 +875,5 @@ def write_touchstone(path: str | Path, network: skrf.Network, force: bool = Fals
     if want is not None and want != n:
         raise UsageError(f"a {n}-port network cannot be written as .s{want}p", path=p, expected=f".s{n}p")
     z0 = np.asarray(network.z0)[0].real
-    return atomic_write(p, touchstone_text(network.f, network.s, z0, comments), force=force)
+    text = touchstone_text(network.f, network.s, z0, comments, version2=p.suffix.lower() == ".ts")
+    return atomic_write(p, text, force=force)
