@@ -82,8 +82,10 @@ def main(argv: list[str] | None = None) -> int:
     args = [a for a in args if a != "--debug"]
     try:
         app = build_app(_command_named(args))
-        rv = app(args=args, prog_name="matchtool", standalone_mode=False)
-        return int(rv or 0)
+        rv = int(app(args=args, prog_name="matchtool", standalone_mode=False) or 0)
+        if rv == ExitStatus.INTERRUPTED:  # typer turns Ctrl-C inside a command into a plain 130
+            print("error: interrupted; no output file was left half-written", file=sys.stderr)
+        return rv
     except MatchtoolError as exc:
         if debug:
             raise
