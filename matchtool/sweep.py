@@ -813,7 +813,12 @@ def gamma_at_many(f_hz: np.ndarray, gamma: np.ndarray, f_query_hz: np.ndarray, p
     out = (q < lo) | (q > hi) | ~np.isfinite(q)
     if out.any():
         bad = float(q[np.argmax(out)])
-        raise OutOfRangeError(f"{bad / 1e6:.6g} MHz is outside the sweep ({lo / 1e6:.6g} to {hi / 1e6:.6g} MHz)",
+        hint = ""
+        for unit, scale in (("MHz", 1e6), ("GHz", 1e9), ("kHz", 1e3)):
+            if 0 < bad < 1e6 and lo <= bad * scale <= hi:  # a bare number is Hz: '915' is 915 Hz
+                hint = f" (a bare number is Hz: did you mean {bad:g}{unit}?)"
+                break
+        raise OutOfRangeError(f"{bad / 1e6:.6g} MHz is outside the sweep ({lo / 1e6:.6g} to {hi / 1e6:.6g} MHz){hint}",
                               path=path or None, expected="a frequency inside the sweep (never extrapolated)")
     return np.interp(q, f_hz, gamma.real) + 1j * np.interp(q, f_hz, gamma.imag)
 

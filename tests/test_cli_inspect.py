@@ -74,3 +74,9 @@ def test_terminal_table(cli, tmp_path):
 def test_debug_shows_traceback(cli_subprocess, tmp_path):
     r = cli_subprocess("inspect", tmp_path / "nope.s1p", "--debug")
     assert r.code != 0 and "Traceback" in r.err
+
+
+def test_bare_number_outside_sweep_hints_at_the_unit(cli, tmp_path):
+    p = write_rlc(tmp_path / "u.s1p")
+    r = cli("inspect", p, "--at", "915")
+    assert r.code == 2 and "did you mean 915MHz" in r.err and len(r.err_lines) == 1
