@@ -26,6 +26,7 @@ import skrf
 
 from .errors import OutOfRangeError, TouchstoneError, UsageError
 from .outputs import atomic_write
+from .units import format_frequency
 
 DEFAULT_MAX_BYTES = 500 * 1024 * 1024
 """Files larger than this are refused (override with ``max_bytes`` or MATCHTOOL_MAX_INPUT_MB)."""
@@ -791,9 +792,12 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
     over = g > 1.0
     if over.any():
         k = int(np.argmax(g))
+        sign = ("; most points are above 0 dB: does the file hold return loss (positive) where S11 in dB "
+                "(negative) belongs?") if over.mean() > 0.5 else ""
         warnings.append(
-            f"{path}: {int(over.sum())} point(s) with |S{port}{port}| > 1 (up to {g[k]:.4f} at {f_hz[k]:g} Hz): "
-            "a passive antenna cannot reflect more than it receives; check the calibration or de-embedding")
+            f"{path}: {int(over.sum())} point(s) with |S{port}{port}| > 1 (up to {g[k]:.4f} at "
+            f"{format_frequency(float(f_hz[k]))}): a passive antenna cannot reflect more than it receives; "
+            f"check the calibration or de-embedding{sign}")
     return Sweep(network=net, port=int(port), path=str(path), z0_ohm=float(z0_file[port - 1]),
                  warnings=warnings, version=version)
 

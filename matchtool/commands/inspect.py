@@ -57,6 +57,11 @@ def summary_doc(s: SweepSummary) -> dict[str, Any]:
     }
 
 
+def _delivered(fraction: float) -> str:
+    """Delivered power as a percentage; |Gamma| > 1 (a negative fraction) is not physical."""
+    return f"{100 * fraction:.1f} %" if fraction >= 0 else "none (|Gamma| > 1, not physical)"
+
+
 def render_summary(s: SweepSummary) -> None:
     """Terminal view of a SweepSummary."""
     from rich.table import Table
@@ -66,7 +71,7 @@ def render_summary(s: SweepSummary) -> None:
             f"{ff(s.f_start_hz)} to {ff(s.f_stop_hz)}")
     b = s.best
     c.print(f"Best match (smallest |Gamma| sample): {ff(b.f_hz)}  return loss {fmt(b.return_loss_db)} dB "
-            f"(S11 {fmt(b.s11_db)} dB)  VSWR {fmt(b.vswr)}  delivered {fmt(100 * b.delivered_fraction, 1)} %")
+            f"(S11 {fmt(b.s11_db)} dB)  VSWR {fmt(b.vswr)}  delivered {_delivered(b.delivered_fraction)}")
     thr = s.threshold_return_loss_db
     title = f"Bands with return loss >= {thr:.2f} dB (S11 <= {-thr:.2f} dB)"
     if not s.bands:
@@ -90,7 +95,7 @@ def render_summary(s: SweepSummary) -> None:
         for p in s.at:
             z = p.z_ohm
             t.add_row(ff(p.f_hz), f"{p.gamma_mag:.4f}", fmt(p.s11_db), fmt(p.return_loss_db), fmt(p.vswr),
-                      fmt(p.mismatch_loss_db, 3), f"{100 * p.delivered_fraction:.1f} %",
+                      fmt(p.mismatch_loss_db, 3), _delivered(p.delivered_fraction),
                       f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f}")
         c.print(t)
 
