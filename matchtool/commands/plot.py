@@ -10,7 +10,7 @@ from ..outputs import atomic_write, check_output
 from ..summary import threshold_from_options
 from ..sweep import load
 from .common import ForceOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, warn
-from .compare import BandOpt, SpecOpt, parse_band_options, spec_bands
+from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, spec_bands
 
 EPILOG = """Examples:
 
@@ -60,8 +60,9 @@ def register(app: typer.Typer) -> None:
         check_output(out, force)
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
         bands = parse_band_options(band, thr)
-        if spec is not None:
-            bands += spec_bands(spec)
+        the_spec, port, z0 = read_spec(spec, port, z0)
+        if the_spec is not None:
+            bands += spec_bands(the_spec)
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         labels = plots.legend_labels([s.path for s in loaded])
         traces = [plots.trace_from_sweep(s, thr, lab) for s, lab in zip(loaded, labels, strict=True)]

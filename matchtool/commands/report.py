@@ -30,7 +30,7 @@ from ..summary import SweepSummary, summarize, threshold_from_options
 from ..sweep import Sweep, load
 from ..units import format_frequency as ff
 from .common import ForceOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, fmt, warn
-from .compare import BandOpt, SpecOpt, parse_band_options, spec_bands
+from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, spec_bands
 from .plot import KindOpt
 
 EPILOG = """Examples:
@@ -269,8 +269,9 @@ def register(app: typer.Typer) -> None:
         check_output(out, force)
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
         bands = parse_band_options(band, thr)
-        if spec is not None:
-            bands += spec_bands(spec)
+        the_spec, port, z0 = read_spec(spec, port, z0)
+        if the_spec is not None:
+            bands += spec_bands(the_spec)
         inputs = [hash_file(p) for p in sweeps]
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         labels = plots.legend_labels([s.path for s in loaded])
