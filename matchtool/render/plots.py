@@ -106,6 +106,14 @@ def trace_from_sweep(sweep: Sweep, threshold_return_loss_db: float, label: str |
                  best=best_index(g))
 
 
+def trace_from_arrays(label: str, f_hz: np.ndarray, gamma: np.ndarray, z0_ohm: float,
+                      threshold_return_loss_db: float) -> Trace:
+    """A Trace from plain arrays (Hz, complex Gamma at ``z0_ohm``), e.g. a sweep seen through a network."""
+    f, g = np.asarray(f_hz, dtype=float), np.asarray(gamma, dtype=complex)
+    return Trace(label=label, f_hz=f, gamma=g, z0_ohm=float(z0_ohm),
+                 threshold_bands=find_bands(f, rf.return_loss_db(g), threshold_return_loss_db), best=best_index(g))
+
+
 def legend_labels(paths: Sequence[str]) -> list[str]:
     """Legend labels from file names: the base name, or the whole path where base names collide."""
     from pathlib import Path
