@@ -101,6 +101,11 @@ def network_text(elements) -> str:
     return ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}" for e in elements)
 
 
+def q_text(q: float) -> str:
+    """A part Q for people: ``40``, or ``ideal`` for a lossless part (infinite Q)."""
+    return "ideal" if math.isinf(q) else f"{q:g}"
+
+
 def _q(value: float | None, option: str) -> float:
     if value is None:
         return math.inf
@@ -154,7 +159,8 @@ def match_traces(pm: ProposedMatch, threshold_return_loss_db: float, label: str 
 def match_title(pm: ProposedMatch, label: str | None = None) -> str:
     """Title naming the network: parts from the radio side, target, worst return loss before -> after."""
     r, c = pm.result, pm.candidate
-    return (f"Proposed match for {label or pm.sweep.name} {pm.target_text}, radio side first: {pm.network_text}\n"
+    return (f"Proposed match for {label or pm.sweep.name} {pm.target_text}\n"
+            f"radio side first: {pm.network_text}\n"
             f"worst return loss over the target {r.before_worst_return_loss_db:.2f} dB -> "
             f"{c.worst_return_loss_db:.2f} dB (network #{pm.pick} of {len(r.candidates)}, {r.series} values)")
 

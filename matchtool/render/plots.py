@@ -220,12 +220,20 @@ def _legend_below(ax: Axes, gap: float = 0.13) -> None:
 
 
 def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -> None:
+    """Shade each band and name it at the top of the axes; a band whose span overlaps an earlier
+    band's gets its name one line lower, so nested bands (a band and its guard band) stay legible."""
+    rows: list[list[tuple[float, float]]] = []
     for b in bands:
         ax.axvspan(b.f_low_hz / scale, b.f_high_hz / scale, facecolor=BAND_FILL, edgecolor="none", zorder=0,
                    gid=f"{kind}:band:{b.name}")
+        row = next((k for k, taken in enumerate(rows)
+                    if all(b.f_high_hz < lo or b.f_low_hz > hi for lo, hi in taken)), len(rows))
+        if row == len(rows):
+            rows.append([])
+        rows[row].append((b.f_low_hz, b.f_high_hz))
         ax.annotate(b.name, xy=((b.f_low_hz + b.f_high_hz) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
-                    xytext=(0, -2), textcoords="offset points", ha="center", va="top", fontsize=7.5,
-                    color="#333333")
+                    xytext=(0, -2 - 10 * row), textcoords="offset points", ha="center", va="top", fontsize=7.5,
+                    color="#333333", gid=f"{kind}:bandlabel:{b.name}")
 
 
 def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float, text: str) -> None:
