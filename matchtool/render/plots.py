@@ -278,6 +278,8 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
         ax.plot(t.f_hz / scale, y, color=look["color"], linestyle=look["linestyle"], marker=look["marker"],
                 markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=_best_text(t, scale, unit),
                 gid=f"{kind}:trace:{t.label}")
+        _mark_unbounded(ax, kind, t, t.f_hz / scale, np.isposinf(t.return_loss_db), sign * top, look,
+                        "|Γ| = 0 (return loss infinite)")
         yb = float(np.clip(t.return_loss_db[t.best], bottom, 0.97 * top)) * sign
         ax.plot([t.f_hz[t.best] / scale], [yb], linestyle="none", marker="v" if sign > 0 else "^", markersize=8,
                 markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"{kind}:best:{t.label}")
@@ -300,6 +302,22 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     _legend_below(ax)
 
 
+def _mark_unbounded(ax: Axes, kind: str, t: Trace, x: np.ndarray, unbounded: np.ndarray, y_top: float,
+                    look: dict[str, Any], what: str) -> None:
+    """Samples whose value is infinite cannot be drawn; mark them on the top edge of the axes (a
+    thick segment in the trace's colour over each run, with up-pointing markers) and say so in the
+    legend, so the gap in the curve reads as 'off the scale', not as missing data."""
+    idx = np.flatnonzero(unbounded)
+    if idx.size == 0:
+        return
+    xs = np.where(unbounded, x, np.nan)  # NaN breaks the segment between runs
+    ax.plot(xs, np.full(x.size, y_top), color=look["color"], linewidth=4.0, solid_capstyle="butt", clip_on=False,
+            zorder=6, gid=f"{kind}:unbounded:{t.label}")
+    ax.plot(x[idx], np.full(idx.size, y_top), linestyle="none", marker="^", markersize=6,
+            markerfacecolor=look["color"], markeredgecolor="black", clip_on=False, zorder=7,
+            markevery=max(1, idx.size // 6), label=f"{t.label}: {what} at {idx.size} sample(s), marked at the top")
+
+
 def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float,
               bands: Sequence[BandMask] = ()) -> None:
     """VSWR against frequency (infinite VSWR drawn at the top of the axis), threshold and masks."""
@@ -320,6 +338,8 @@ def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float
                 markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=t.label, gid=f"vswr:trace:{t.label}")
         ax.plot([t.f_hz[t.best] / scale], [min(float(t.vswr[t.best]), top)], linestyle="none", marker="^", markersize=8,
                 markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"vswr:best:{t.label}")
+        _mark_unbounded(ax, "vswr", t, t.f_hz / scale, ~np.isfinite(t.vswr), top, look,
+                        "|Γ| >= 1 (VSWR infinite)")
     ax.set_ylim(1.0, top)
     _xlim(ax, traces, scale)
     ax.set_xlabel(f"Frequency ({unit})")
@@ -422,8 +442,11 @@ def figure(traces: Sequence[Trace], kinds: Sequence[str], threshold_return_loss_
     with rc_context(_style()):
         fig = Figure(figsize=(7.2 * cols, 5.0 * rows), layout="constrained")
         FigureCanvasAgg(fig)
+        grid = fig.add_gridspec(rows, cols)
         for k, kind in enumerate(kinds):
-            ax = fig.add_subplot(rows, cols, k + 1)
+            r, c = divmod(k, cols)
+            # an odd panel count: the last panel takes its whole row (no empty cell beside it)
+            ax = fig.add_subplot(grid[r, :] if (k == n - 1 and n % cols) else grid[r, c])
             ax.set_gid(f"panel:{kind}")
             if kind in ("return-loss", "s11-db"):
                 draw_db(ax, traces, threshold_return_loss_db, bands, kind)
