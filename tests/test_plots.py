@@ -326,3 +326,20 @@ def test_infinite_vswr_is_marked_at_the_axis_top_not_left_out():
     # a passive sweep gets no such mark
     fig = plots.figure([rlc_trace()], ["vswr"], 10.0)
     assert not [a for a in fig.axes[0].get_children() if (a.get_gid() or "").startswith("vswr:unbounded")]
+
+
+def test_band_outside_the_sweep_keeps_the_layout_and_labels_in_view():
+    import warnings
+
+    t = rlc_trace()  # 800 to 1030 MHz
+    bands = [plots.BandMask("far", 2.4e9, 2.5e9, 10.0), plots.BandMask("edge", 780e6, 820e6, 10.0)]
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # matplotlib warns when the layout collapses
+        fig = plots.figure([t], ["return-loss", "vswr"], 10.0, bands)
+        plots.figure_bytes(fig, "png")
+    ax = fig.axes[0]
+    assert not [a for a in ax.get_children() if a.get_gid() == "return-loss:bandlabel:far"]
+    edge = by_gid(fig, "return-loss:bandlabel:edge")
+    x_mhz = edge.xy[0]
+    assert 800.0 <= x_mhz <= 820.0  # over the visible part of the band, not at its centre 800 MHz
+    assert x_mhz == pytest.approx(810.0)

@@ -185,7 +185,8 @@ def requirement_cells(q) -> tuple[str, str, str, str, str]:
     """Table cells of one spec requirement: verdict, worst (in the limit key's unit), where, limit, margin."""
     verdict = "pass" if q.passed else "FAIL"
     if q.worst is None:
-        return verdict, "n/a", "n/a", "n/a" if q.limit is None else f"{q.limit:g}", q.reason or "not evaluated"
+        # not evaluated (e.g. the band is not covered): the reason is in the warnings and the JSON
+        return verdict, "not evaluated", "n/a", "n/a" if q.limit is None else f"{q.limit:g}", "n/a"
     if q.key == "resonance":
         return (verdict, f"{q.worst / 1e6:.3f} MHz", f"{q.worst_f_hz / 1e6:.3f} MHz",
                 f"{q.f_low_hz / 1e6:.6g}-{q.f_high_hz / 1e6:.6g} MHz", f"{q.margin_hz / 1e6:+.3f} MHz")

@@ -200,6 +200,10 @@ def spec_section(ctx: ReportContext) -> h.Section | None:
                      [False, False, False, True, True, True, True], caption="Spec verdicts", css_class="spec"),
              "<h3>Best revision per requirement</h3>",
              h.bullet_list(v.sentence(_names(ctx)) for v in c.spec_verdicts)]
+    reasons = [f"{lab}: {q.name}: {q.reason}" for lab, r in zip(ctx.labels, c.rows, strict=True)
+               for q in r.spec.requirements if q.reason]
+    if reasons:
+        parts.insert(2, h.bullet_list(reasons, "note warn"))
     return h.Section("spec", "Spec verdicts", "\n".join(parts))
 
 

@@ -219,7 +219,13 @@ def _legend_below(ax: Axes, gap: float = 0.13) -> None:
     ax.legend(loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
 
 
-def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -> None:
+def _span(traces: Sequence[Trace]) -> tuple[float, float]:
+    """Lowest and highest frequency of all traces (Hz)."""
+    return min(float(t.f_hz[0]) for t in traces), max(float(t.f_hz[-1]) for t in traces)
+
+
+def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float,
+                 span_hz: tuple[float, float] | None = None) -> None:
     """Shade each band and name it at the top of the axes; a band whose span overlaps an earlier
     band's gets its name one line lower, so nested bands (a band and its guard band) stay legible."""
     rows: list[list[tuple[float, float]]] = []
@@ -231,9 +237,15 @@ def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -
         if row == len(rows):
             rows.append([])
         rows[row].append((b.f_low_hz, b.f_high_hz))
-        ax.annotate(b.name, xy=((b.f_low_hz + b.f_high_hz) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
-                    xytext=(0, -2 - 10 * row), textcoords="offset points", ha="center", va="top", fontsize=7.5,
-                    color="#333333", gid=f"{kind}:bandlabel:{b.name}")
+        # the name sits over the part of the band that is on the axis (a band reaching past the
+        # sweep keeps its label in view; one wholly outside is drawn but its label is not)
+        lo, hi = (max(b.f_low_hz, span_hz[0]), min(b.f_high_hz, span_hz[1])) if span_hz else (b.f_low_hz, b.f_high_hz)
+        if hi < lo:
+            continue
+        ann = ax.annotate(b.name, xy=((lo + hi) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
+                          xytext=(0, -2 - 10 * row), textcoords="offset points", ha="center", va="top", fontsize=7.5,
+                          color="#333333", gid=f"{kind}:bandlabel:{b.name}")
+        ann.set_in_layout(False)
 
 
 def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float, text: str) -> None:
@@ -245,9 +257,10 @@ def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: f
     ax.plot(x, [limit, limit], color=MASK_COLOR, linewidth=2.4, solid_capstyle="butt", zorder=4,
             gid=f"{kind}:mask:{b.name}")
     above = floor < limit
-    ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
-                ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6,
-                bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+    ann = ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
+                      ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6, annotation_clip=True,
+                      bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+    ann.set_in_layout(False)
 
 
 def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, bands: Sequence[BandMask] = (),
@@ -262,7 +275,7 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     top = float(min(RL_CAP_DB, max(threshold_return_loss_db + 10.0, np.max(finite) + 3.0)))
     lowest = float(np.min(finite))
     bottom = 0.0 if lowest >= 0 else lowest - 1.0  # below 0 only for |Gamma| > 1 (not passive)
-    _shade_bands(ax, kind, bands, scale)
+    _shade_bands(ax, kind, bands, scale, _span(traces))
     for b in bands:
         if b.limit_return_loss_db is not None:
             lim = b.limit_return_loss_db
@@ -325,7 +338,7 @@ def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float
     thr_v = float(rf.vswr(rf.gamma_mag_from_return_loss(threshold_return_loss_db)))
     finite = np.concatenate([t.vswr[np.isfinite(t.vswr)] for t in traces] + [np.array([1.0])])
     top = float(min(10.0, max(2.0 * thr_v, np.max(finite) * 1.05)))
-    _shade_bands(ax, "vswr", bands, scale)
+    _shade_bands(ax, "vswr", bands, scale, _span(traces))
     for b in bands:
         if b.limit_return_loss_db is not None:
             lim = float(rf.vswr(rf.gamma_mag_from_return_loss(b.limit_return_loss_db)))
@@ -399,7 +412,7 @@ def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] 
     """Series resistance R (solid) and reactance X (dashed) in ohms against frequency, with the
     reference impedance and X = 0 drawn as guides."""
     scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
-    _shade_bands(ax, "impedance", bands, scale)
+    _shade_bands(ax, "impedance", bands, scale, _span(traces))
     ax.axhline(traces[0].z0_ohm, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.0,
                gid="impedance:z0", label=f"R = Z0 = {traces[0].z0_ohm:g} ohm")
     ax.axhline(0.0, color="#888888", linewidth=0.8, gid="impedance:zero")
