@@ -244,7 +244,8 @@ def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float,
             continue
         ann = ax.annotate(b.name, xy=((lo + hi) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
                           xytext=(0, -2 - 10 * row), textcoords="offset points", ha="center", va="top", fontsize=7.5,
-                          color="#333333", gid=f"{kind}:bandlabel:{b.name}")
+                          color="#333333", gid=f"{kind}:bandlabel:{b.name}", zorder=7,
+                          bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
         ann.set_in_layout(False)
 
 
@@ -392,7 +393,7 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
             marks = [(b.name, f) for b in bands for f in (b.f_low_hz, b.f_high_hz)]
         else:
             marks = [(f"band{k + 1}", f) for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
-        for name in dict.fromkeys(m[0] for m in marks):
+        for k_band, name in enumerate(dict.fromkeys(m[0] for m in marks)):
             pts = [(f, _gamma_at(t, f)) for n, f in marks if n == name]
             pts = [(f, g) for f, g in pts if g is not None]
             if not pts:
@@ -402,8 +403,11 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
                     zorder=6, gid=f"smith:bandedge:{name}:{t.label}")
             if i == 0:
                 for f, g in pts:
-                    ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(5, 4), textcoords="offset points",
-                                fontsize=7, color="#222222")
+                    # alternate bands label on opposite sides, so nested bands' edges do not overprint
+                    left = k_band % 2 == 1
+                    ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(-5, -4) if left else (5, 4),
+                                textcoords="offset points", ha="right" if left else "left",
+                                va="top" if left else "bottom", fontsize=7, color="#222222")
     ax.set_title(f"Smith chart (impedance, Z0 = {traces[0].z0_ohm:g} ohm); markers: band edges in {unit}")
     _legend_below(ax, 0.06)
 
