@@ -123,6 +123,18 @@ def test_cautions_and_traceability_of_every_input(cli, bench):
         assert must in text, must
     hashed = [row[0] for row in tables(text)["hash"][1:]]
     assert {"ant_r1.s1p", "spec_915.toml", "link_915.toml"} <= {p.split("/")[-1] for p in hashed}
+    assert len({p.split("/")[-1] for p in hashed}) == len(hashed)  # r2, r3 named by the budget too: once each
+
+
+def test_budget_sweeps_are_hashed(cli, bench):
+    import hashlib
+
+    out = bench / "b.html"
+    r = cli("report", bench / "ant_r1.s1p", "--budget", bench / "link_915.toml", "--kind", "vswr", "--out", out)
+    assert r.code == 0, r.err
+    rows = {row[0].split("/")[-1]: row[2] for row in tables(out.read_text())["hash"][1:]}
+    for name in ("ant_r3.s1p", "ant_r2.s1p"):  # tx_sweep and rx_sweep of link_915.toml
+        assert rows[name] == hashlib.sha256((bench / name).read_bytes()).hexdigest()
 
 
 def test_passing_inputs_exit_0_and_match_at(cli, bench):

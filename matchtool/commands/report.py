@@ -449,7 +449,7 @@ def register(app: typer.Typer) -> None:
     ) -> int:
         """One self-contained HTML page: summary, spec verdicts, inspect metrics, comparison, plots, proposed
         match, link budget, input hashes."""
-        from ..budget import budget as compute_link_budget
+        from ..budget import compute_budget, read_budget_file
         from ..render import plots
 
         if Path(out).suffix.lower() not in (".html", ".htm"):
@@ -467,16 +467,25 @@ def register(app: typer.Typer) -> None:
         if the_spec is not None:
             extra = [(n, lo, hi, None) for n, lo, hi, _ in spec_bands(the_spec)]
             bands += spec_bands(the_spec)
-        others = [p for p in ([spec] if spec else []) + ([the_spec.golden.path] if the_spec and the_spec.golden else [])
-                  + ([budget_file] if budget_file else [])]
-        inputs = [hash_file(p) for p in list(sweeps) + others]
+        others = ([spec] if spec else []) + ([the_spec.golden.path] if the_spec and the_spec.golden else [])
+        budget_in = None
+        if budget_file is not None:
+            budget_in = read_budget_file(budget_file)
+            others.append(budget_file)
+            for side in (budget_in.tx, budget_in.rx):  # the sweeps the budget file names (as budget resolves them)
+                if side.sweep_path is not None:
+                    sp = Path(side.sweep_path)
+                    others.append(str(sp if sp.is_absolute() else Path(budget_in.path).parent / sp))
+        names = list(sweeps) + others
+        resolved = [str(Path(p).resolve()) for p in names]
+        inputs = [hash_file(p) for k, p in enumerate(names) if resolved[k] not in resolved[:k]]
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         labels = plots.legend_labels([s.path for s in loaded])
         pm = None
         if match_band is not None or match_at is not None:
             pm = propose_match(loaded[0], match_at, match_band, thr, series, q_inductor, q_capacitor, c_range,
                                l_range, pick, option_names=("--match-at", "--match-band"))
-        link = None if budget_file is None else compute_link_budget(budget_file)
+        link = None if budget_in is None else compute_budget(budget_in)
         options = [("threshold", f"return loss >= {thr:.2f} dB"), ("port", str(port)),
                    ("z0", "from each file" if z0 is None else f"{z0:g} ohm")]
         options += [(f"band {n}", f"{ff(lo)} to {ff(hi)}") for n, lo, hi, _ in bands]
