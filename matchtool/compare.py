@@ -80,7 +80,8 @@ def band_worst(f_hz: np.ndarray, gamma: np.ndarray, bands: Iterable[BandSpec]) -
     ``f_hz`` strictly increasing (Hz), ``gamma`` the complex reflection coefficient at each sample.
     Each band is ``(name, f_low_hz, f_high_hz, limit_return_loss_db or None)``. The band edges are
     included, interpolated linearly in complex Gamma. A band not wholly inside the sweep is
-    reported as not covered (never extrapolated).
+    reported as not covered (never extrapolated); as in ``matchtool check``, an edge within
+    1e-9 (relative) of the sweep's end counts as inside (the rounding of a file's frequency unit).
     """
     f = np.asarray(f_hz, dtype=float)
     g = np.asarray(gamma, dtype=complex)
@@ -90,12 +91,14 @@ def band_worst(f_hz: np.ndarray, gamma: np.ndarray, bands: Iterable[BandSpec]) -
         if not hi > lo:
             raise UsageError(f"band {name!r} has its high edge at or below its low edge", expected="LOW < HIGH")
         lim = None if limit is None else float(limit)
-        if lo < f[0] or hi > f[-1]:
+        tol = 1e-9 * max(abs(float(f[-1])), 1.0)  # a file's frequency unit rounding (as matchtool.spec)
+        if lo < f[0] - tol or hi > f[-1] + tol:
             out.append(BandWorst(name, lo, hi, lim, covered=False,
                                  reason=f"the sweep ({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz) does not cover "
                                         f"{lo / 1e6:.6g} to {hi / 1e6:.6g} MHz"))
             continue
-        fb, gb = band_samples(f, g, lo, hi)
+        fb, gb = band_samples(f, g, max(lo, f[0]), min(hi, f[-1]))
+        fb[0], fb[-1] = lo, hi  # the band's own edges (they differ from the sweep's by rounding only)
         mag = np.abs(gb)
         k = int(np.argmax(mag))
         out.append(BandWorst(name, lo, hi, lim, covered=True, samples=int(((f >= lo) & (f <= hi)).sum()),

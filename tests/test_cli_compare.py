@@ -223,3 +223,30 @@ def test_spec_table_shows_verdict_lines(cli, tmp_path):
     assert r.code == 1
     for must in ("ism: best is ant_r3.s1p", "resonance: best is ant_r3.s1p", "FAIL", "Verdict: FAIL"):
         assert must in r.out, must
+
+
+def test_band_edge_a_rounding_below_the_first_sample_is_covered_as_check_says(cli, tmp_path):
+    # A band edge a fraction of a hertz outside the sweep (the rounding of a file's frequency unit:
+    # 0.902 GHz may read back a hair off 902 MHz) is inside for check, and so it must be for the
+    # per-band values of compare (one rule for both).
+    import numpy as np
+    from helpers import gamma_of, s1p_text, series_rlc_z
+
+    f = np.linspace(0.902e9, 0.928e9, 27)
+    p = tmp_path / "ghz.s1p"
+    p.write_text(s1p_text(f, gamma_of(series_rlc_z(f, 50.0, 40e-9, 915e6)), unit="GHz"))
+    lo = 902e6 - 0.05  # Hz
+    spec = tmp_path / "s.toml"
+    spec.write_text(f'[[band]]\nname = "ism"\nf_low = {lo!r}\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
+    chk = cli("check", p, "--spec", spec, "--json").json()["files"][0]["requirements"][0]
+    doc = cli("compare", p, "--spec", spec, "--band", f"x={lo!r}:928MHz", "--json").json()
+    row = doc["rows"][0]
+    assert chk["reason"] is None and row["requirements"][0]["worst"] == chk["worst"]
+    assert len(row["bands"]) == 2
+    for b in row["bands"]:
+        assert b["covered"] is True and b["f_low_hz"] == lo and b["f_high_hz"] == 928e6
+        assert math.isclose(b["worst_return_loss_db"], chk["worst_return_loss_db"], rel_tol=1e-12)
+    # a whole hertz outside is outside for both
+    spec.write_text('[[band]]\nname = "ism"\nf_low = 901999990.0\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
+    assert cli("check", p, "--spec", spec, "--json").json()["files"][0]["requirements"][0]["reason"]
+    assert cli("compare", p, "--spec", spec, "--json").json()["rows"][0]["bands"][0]["covered"] is False
