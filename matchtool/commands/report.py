@@ -36,7 +36,6 @@ from .common import ForceOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, f
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, requirement_cells, spec_bands
 from .plot import (
     CRangeOpt,
-    KindOpt,
     LRangeOpt,
     PickOpt,
     ProposedMatch,
@@ -426,7 +425,9 @@ def register(app: typer.Typer) -> None:
                                          show_default=False)],
         band: BandOpt = None,
         spec: SpecOpt = None,
-        kind: KindOpt = None,
+        kind: Annotated[list[str] | None, typer.Option(
+            "--kind", metavar="KIND", help="Plots to include: return-loss, s11-db, vswr, smith, impedance; repeat "
+            "or comma-separate [default: return-loss,vswr,smith,impedance].")] = None,
         title: Annotated[str | None, typer.Option("--title", metavar="TEXT", help="Page title.")] = None,
         match_band: Annotated[str | None, typer.Option(
             "--match-band", metavar="LOW:HIGH", help="Propose a match for the first SWEEP over this band.")] = None,
