@@ -135,3 +135,32 @@ def test_worst_case_bounds_every_sample_and_grows_with_the_band(pts, a, b, c):
     if inner.covered and inner.f_high_hz <= hi:
         assert rl_outer <= inner.worst_return_loss_db + 1e-9
     assert lo <= outer.worst_f_hz <= hi
+
+
+def test_spec_rows_are_the_spec_evaluation_and_best_is_the_largest_margin():
+    from matchtool.spec import evaluate, parse_spec
+
+    spec = parse_spec('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmax_vswr = 2\n'
+                      '[[band]]\nname = "far"\nf_low = "1005 MHz"\nf_high = "1020 MHz"\nmin_return_loss_db = 1\n'
+                      '[resonance]\nf_low = "910 MHz"\nf_high = "920 MHz"\n', "s.toml")
+    f_short = np.linspace(800e6, 1000e6, 401)  # does not reach the "far" band
+    sweeps = [rlc_sweep("a", 870e6, l_h=100e-9), rlc_sweep("b", 915e6), rlc_sweep("c", 915e6), rlc_sweep("d", 915e6, f=f_short)]
+    c = compare(sweeps, 10.0, spec=spec)
+    for sw, row in zip(sweeps, c.rows, strict=True):
+        assert row.spec == evaluate(sw, spec)
+    ism, far, res = c.spec_verdicts
+    # b and c are the same antenna: a tie, the first one wins; d matches them in-band too
+    assert ism.best_file == "b" and ism.passing_files == ["b", "c", "d"] and ism.failing_files == ["a"]
+    assert res.key == "resonance" and res.best_file == "b" and res.failing_files == ["a"]
+    # the sweep that does not cover a band fails it and does not compete for best
+    assert far.unevaluated_files == ["d"] and "d" in far.failing_files and far.best_file != "d"
+    assert c.spec_failed
+    # deltas against the baseline: margin minus the baseline's margin
+    assert c.rows[1].delta_margin[0] == pytest.approx(c.rows[1].spec.requirements[0].margin_db
+                                                      - c.rows[0].spec.requirements[0].margin_db)
+    assert c.rows[3].delta_margin[1] is None
+
+
+def test_without_spec_there_are_no_spec_results():
+    c = compare([rlc_sweep("a", 900e6)], 10.0, [("ism", 902e6, 928e6, 10.0)])
+    assert c.spec_path is None and c.spec_verdicts == [] and not c.spec_failed and c.rows[0].spec is None

@@ -287,3 +287,59 @@ def test_plotted_return_loss_agrees_with_scikit_rf(tmp_path):
     np.testing.assert_allclose(by_gid(fig, "return-loss:trace:u.s1p").get_ydata(), -s_db, rtol=1e-12)
     np.testing.assert_allclose(by_gid(fig, "s11-db:trace:u.s1p").get_ydata(), s_db, rtol=1e-12)
     np.testing.assert_allclose(by_gid(fig, "return-loss:trace:u.s1p").get_xdata(), sw.network.frequency.f / 1e6)
+
+
+def test_three_panels_leave_no_empty_grid_cell():
+    t = rlc_trace()
+    fig = plots.figure([t], ["return-loss", "vswr", "smith"], 10.0)
+    panels = [ax for ax in fig.axes if (ax.get_gid() or "").startswith("panel:")]
+    assert len(panels) == 3
+    last = panels[2].get_subplotspec()
+    assert list(last.colspan) == [0, 1] and list(last.rowspan) == [1]  # the whole bottom row
+    # four panels still fill the 2 x 2 grid one cell each
+    fig4 = plots.figure([t], ["return-loss", "vswr", "smith", "impedance"], 10.0)
+    spans = [len(ax.get_subplotspec().colspan) for ax in fig4.axes if (ax.get_gid() or "").startswith("panel:")]
+    assert spans == [1, 1, 1, 1]
+
+
+def test_infinite_vswr_is_marked_at_the_axis_top_not_left_out():
+    # VSWR = (1 + |G|) / (1 - |G|) has no finite value for |G| >= 1 (Pozar, Microwave Engineering,
+    # 4th ed., eq. 2.40): those samples are marked on the top edge and named in the legend.
+    f = np.linspace(800e6, 1000e6, 201)
+    mag = np.clip(np.abs(f - 900e6) / 60e6, 0.02, 1.05)
+    g = mag * np.exp(0.3j)
+    t = plots.trace_from_sweep(sweep_from_arrays(f, g, 50.0, path="/x/edge.s1p"), 10.0)
+    fig = plots.figure([t], ["vswr"], 10.0)
+    ax = fig.axes[0]
+    mark = by_gid(fig, "vswr:unbounded:edge.s1p")
+    x, y = np.asarray(mark.get_xdata(), dtype=float), np.asarray(mark.get_ydata(), dtype=float)
+    off = np.abs(g) >= 1.0
+    assert off.any() and not off.all()
+    np.testing.assert_array_equal(np.isfinite(x), off)  # exactly the samples with |G| >= 1
+    np.testing.assert_allclose(x[off], f[off] / 1e6)
+    assert np.all(y == ax.get_ylim()[1]) and mark.get_clip_on() is False
+    # the curve itself keeps the computed values (finite everywhere else)
+    trace = np.asarray(by_gid(fig, "vswr:trace:edge.s1p").get_ydata(), dtype=float)
+    np.testing.assert_allclose(trace[~off], rf.vswr(g[~off]))
+    labels = [tx.get_text() for tx in ax.get_legend().get_texts()]
+    assert any("VSWR infinite" in s and f"{int(off.sum())} sample" in s for s in labels)
+    # a passive sweep gets no such mark
+    fig = plots.figure([rlc_trace()], ["vswr"], 10.0)
+    assert not [a for a in fig.axes[0].get_children() if (a.get_gid() or "").startswith("vswr:unbounded")]
+
+
+def test_band_outside_the_sweep_keeps_the_layout_and_labels_in_view():
+    import warnings
+
+    t = rlc_trace()  # 800 to 1030 MHz
+    bands = [plots.BandMask("far", 2.4e9, 2.5e9, 10.0), plots.BandMask("edge", 780e6, 820e6, 10.0)]
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # matplotlib warns when the layout collapses
+        fig = plots.figure([t], ["return-loss", "vswr"], 10.0, bands)
+        plots.figure_bytes(fig, "png")
+    ax = fig.axes[0]
+    assert not [a for a in ax.get_children() if a.get_gid() == "return-loss:bandlabel:far"]
+    edge = by_gid(fig, "return-loss:bandlabel:edge")
+    x_mhz = edge.xy[0]
+    assert 800.0 <= x_mhz <= 820.0  # over the visible part of the band, not at its centre 800 MHz
+    assert x_mhz == pytest.approx(810.0)

@@ -2,9 +2,11 @@
 
 The page is built from sections (see :mod:`matchtool.render.html`). Each entry of
 :data:`SECTION_BUILDERS` takes the :class:`ReportContext` and returns a Section, or None when it
-has nothing to say. Spec verdicts (``--spec``), a proposed match with its schematic (``--match``)
-and a link budget (``--budget``) join as further builders with the section ids ``spec``, ``match``
-and ``budget``, which :data:`matchtool.render.html.SECTION_ORDER` already places.
+has nothing to say: summary and cautions, spec verdicts (``--spec``, evaluated by
+:func:`matchtool.spec.evaluate`, the same results as ``matchtool check``), inspect metrics, the
+comparison, plots, a proposed match (``--match-band`` / ``--match-at``, designed by
+:mod:`matchtool.matching` as ``matchtool match`` does) with its text schematic and a before/after
+picture, the link budget (``--budget``, :func:`matchtool.budget.budget`) and traceability.
 """
 
 from __future__ import annotations
@@ -22,16 +24,29 @@ import typer
 
 from .. import __version__
 from .. import reflection as rf
+from ..budget import BudgetResult
 from ..compare import BandSpec, Comparison, compare
-from ..errors import InputError, UsageError
+from ..errors import ExitStatus, InputError, UsageError
 from ..outputs import atomic_write, check_output
 from ..render import html as h
 from ..summary import SweepSummary, summarize, threshold_from_options
 from ..sweep import Sweep, load
 from ..units import format_frequency as ff
 from .common import ForceOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, fmt, warn
-from .compare import BandOpt, SpecOpt, parse_band_options, spec_bands
-from .plot import KindOpt
+from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, requirement_cells, spec_bands
+from .plot import (
+    CRangeOpt,
+    LRangeOpt,
+    PickOpt,
+    ProposedMatch,
+    QCapacitorOpt,
+    QInductorOpt,
+    SeriesOpt,
+    match_title,
+    match_traces,
+    propose_match,
+    q_text,
+)
 
 EPILOG = """Examples:
 
@@ -39,12 +54,29 @@ EPILOG = """Examples:
 
   matchtool report unit7.s1p --max-vswr 2 --kind return-loss,smith --title "Unit 7, build 3" --out u7.html
 
+  matchtool report ant_r1.s1p ant_r2.s1p ant_r3.s1p --spec spec_915.toml --budget link_915.toml \
+      --match-band 902MHz:928MHz --q-inductor 40 --out bench.html
+
+--spec adds the verdicts of 'matchtool check' for every file; --match-band or --match-at adds a
+proposed L-network for the first SWEEP (options as for 'matchtool match') with its schematic and a
+before/after picture; --budget adds the link budget of 'matchtool budget'. Exit status 1 when a
+spec requirement fails or the budget does not keep its required margin (the page is still written).
+
 The page needs no other file and no network: styles and pictures (SVG) are inside it. It carries
 the date, the tool version and the SHA-256 of every input file, so it can go into a build record.
 """
 
-SAFETY = ("matchtool computes; it does not certify. Transmitting into a badly matched antenna (high VSWR) "
-          "can damage an amplifier; EIRP, band and RF-exposure limits are set by local regulation.")
+CAUTIONS = (
+    "A high VSWR at transmit power can damage a transmitter's power amplifier: check a match at low "
+    "power (or on the network analyser) before driving it.",
+    "RF exposure: keep people away from a transmitting antenna as your exposure rules require; "
+    "a better match radiates more of the power.",
+    "EIRP, band edges and power limits are set by local regulation; the bands and limits in this "
+    "report are the user's inputs, not legal limits.",
+    "matchtool computes; it does not certify. Every number here comes from the measured files "
+    "and the stated models.",
+)
+SAFETY = " ".join(CAUTIONS)
 
 
 @dataclass(frozen=True)
@@ -70,6 +102,10 @@ class ReportContext:
     inputs: list[InputFile]
     generated: datetime
     options: list[tuple[str, str]]
+    n_band_tables: int | None = None
+    """How many of the comparison's bands get a table (the ad-hoc ones; spec bands have their own section)."""
+    match: ProposedMatch | None = None
+    budget: BudgetResult | None = None
 
 
 def hash_file(path: str) -> InputFile:
@@ -120,10 +156,54 @@ def summary_section(ctx: ReportContext) -> h.Section:
             h.bullet_list(lines)]
     if c.verdicts:
         body.append("<h3>Bands</h3>" + h.bullet_list(v.sentence(_names(ctx)) for v in c.verdicts))
+    if c.spec_path is not None:
+        failed = [lab for lab, r in zip(ctx.labels, c.rows, strict=True) if not r.spec.passed]
+        body.append(h.paragraph(f"Spec {c.spec_path}: " + (f"FAIL ({', '.join(failed)})" if failed else
+                                                           "every file passes every requirement"),
+                                "fail" if failed else "pass"))
+    if ctx.match is not None:
+        pm = ctx.match
+        body.append(h.paragraph(f"Proposed match for {ctx.labels[0]} {pm.target_text}: {pm.network_text} "
+                                f"(worst return loss {pm.result.before_worst_return_loss_db:.2f} dB -> "
+                                f"{pm.candidate.worst_return_loss_db:.2f} dB)."))
+    if ctx.budget is not None:
+        b = ctx.budget
+        w = b.worst
+        body.append(h.paragraph(f"Link budget {b.path}: margin {w.margin_db:.2f} dB at {ff(w.f_hz)} (required "
+                                f"{b.required_margin_db:g} dB: {'met' if b.closes else 'NOT MET'}).",
+                                "pass" if b.closes else "fail"))
     if c.warnings:
         body.append("<h3>Warnings</h3>" + h.bullet_list(c.warnings, "note warn"))
-    body.append(h.paragraph(SAFETY, "note"))
+    body.append('<div class="note caution"><strong>Cautions</strong>' + h.bullet_list(CAUTIONS) + "</div>")
     return h.Section("summary", "Summary", "\n".join(body))
+
+
+def _verdict_cell(passed: bool) -> h.Raw:
+    return h.Raw('<span class="pass">pass</span>' if passed else '<span class="fail">FAIL</span>')
+
+
+def spec_section(ctx: ReportContext) -> h.Section | None:
+    """Every file against every requirement: the results of ``matchtool check`` (matchtool.spec.evaluate)."""
+    c = ctx.comparison
+    if c.spec_path is None:
+        return None
+    rows = []
+    for lab, r in zip(ctx.labels, c.rows, strict=True):
+        for k, q in enumerate(r.spec.requirements):
+            verdict, worst, where, limit, margin = requirement_cells(q)
+            rows.append([lab if k == 0 else "", q.name, _verdict_cell(q.passed), worst, where, limit, margin])
+    parts = [h.paragraph(f"Spec file {c.spec_path}, evaluated exactly as 'matchtool check' does. Limit and worst "
+                         "are in the units of the limit key; the margin is positive when passing, in dB of "
+                         "return loss for the reflection limits (a VSWR or S11 limit is converted to it)."),
+             h.table(["file", "requirement", "verdict", "worst", "at", "limit", "margin"], rows,
+                     [False, False, False, True, True, True, True], caption="Spec verdicts", css_class="spec"),
+             "<h3>Best revision per requirement</h3>",
+             h.bullet_list(v.sentence(_names(ctx)) for v in c.spec_verdicts)]
+    reasons = [f"{lab}: {q.name}: {q.reason}" for lab, r in zip(ctx.labels, c.rows, strict=True)
+               for q in r.spec.requirements if q.reason]
+    if reasons:
+        parts.insert(2, h.bullet_list(reasons, "note warn"))
+    return h.Section("spec", "Spec verdicts", "\n".join(parts))
 
 
 def sweeps_section(ctx: ReportContext) -> h.Section:
@@ -156,7 +236,7 @@ def sweeps_section(ctx: ReportContext) -> h.Section:
 
 def compare_section(ctx: ReportContext) -> h.Section | None:
     c = ctx.comparison
-    if len(c.rows) < 2 and not c.verdicts:
+    if len(c.rows) < 2 and not c.verdicts[:ctx.n_band_tables]:
         return None
     rows = []
     for lab, r in zip(ctx.labels, c.rows, strict=True):
@@ -168,7 +248,8 @@ def compare_section(ctx: ReportContext) -> h.Section | None:
     parts = [h.table(["file", "best match", "RL dB", "threshold band", "width", "d best MHz", "d width MHz"], rows,
                      [False, True, True, False, True, True, True],
                      caption=f"Against {ctx.labels[0]} (d = this file minus the baseline)")]
-    for k, v in enumerate(c.verdicts):
+    shown = c.verdicts if ctx.n_band_tables is None else c.verdicts[:ctx.n_band_tables]
+    for k, v in enumerate(shown):
         brows = []
         for lab, r in zip(ctx.labels, c.rows, strict=True):
             w, d = r.bands[k], r.delta_worst_return_loss_db[k]
@@ -211,6 +292,100 @@ def plots_section(ctx: ReportContext) -> h.Section:
     return h.Section("plots", "Plots", "\n".join(parts))
 
 
+def match_section(ctx: ReportContext) -> h.Section | None:
+    """The proposed network: ranked candidates, the chosen one's schematic, before/after pictures."""
+    from ..render import plots
+    from .match import schematic
+
+    pm = ctx.match
+    if pm is None:
+        return None
+    r = pm.result
+    thr = ctx.threshold_return_loss_db
+    cands = [[f"#{i}" + (" (shown)" if i == pm.pick else ""), c.topology, _parts(c.elements),
+              fmt(c.worst_return_loss_db), fmt(c.return_loss_at_f0_db), fmt(c.network_loss_db, 3),
+              f"{100 * c.worst_delivered_fraction:.1f} %", "passes DC" if c.passes_dc else "blocks DC", c.filter]
+             for i, c in enumerate(r.candidates, start=1)]
+    q = r.q
+    parts = [h.paragraph(f"For {ctx.labels[0]} {pm.target_text}, matched to {r.z0_ohm:g} ohm, {r.series} part values, "
+                         f"part Q: L {q_text(q.inductor)}, C {q_text(q.capacitor)} (constant-Q model); "
+                         f"designed as 'matchtool match' does. Worst return loss over the target: "
+                         f"{r.before_worst_return_loss_db:.2f} dB measured, {pm.candidate.worst_return_loss_db:.2f} dB "
+                         f"with network #{pm.pick}."),
+             h.table(["#", "topology", "parts, radio side first", "worst RL dB", "RL at f0 dB", "part loss dB",
+                      "worst delivered", "DC", "filter"], cands,
+                     [False, False, False, True, True, True, True, False, False],
+                     caption=f"Candidates, ranked by {r.rank_by}", css_class="candidates"),
+             f"<h3>Network #{pm.pick} (solder from the radio side)</h3>",
+             f'<pre class="schematic">{h.esc(schematic(pm.candidate.elements, r.z0_ohm))}</pre>']
+    traces = match_traces(pm, thr, ctx.labels[0])
+    masks = [plots.BandMask(n, lo, hi, lim) for n, lo, hi, lim in ctx.bands]
+    if r.f_low_hz is not None and not any(b.f_low_hz == r.f_low_hz and b.f_high_hz == r.f_high_hz for b in masks):
+        masks.append(plots.BandMask("match target", r.f_low_hz, r.f_high_hz, None))
+    for k, kind in enumerate(("return-loss", "smith")):
+        fig = plots.figure(traces, [kind], thr, masks, match_title(pm, ctx.labels[0]) if k == 0 else None)
+        parts.append(h.figure_svg(plots.figure_bytes(fig, "svg").decode("utf-8"), f"match{k + 1}",
+                                  f"Before/after: {ctx.labels[0]} measured and with network #{pm.pick} "
+                                  f"({pm.network_text}). " + _CAPTIONS[kind]))
+    if r.warnings:
+        parts.append(h.bullet_list(r.warnings, "note warn"))
+    parts.append(h.paragraph("Build the network and measure it before driving it with a transmitter: part "
+                             "parasitics and the board move the match, and a high VSWR at power can damage the "
+                             "amplifier.", "note warn"))
+    return h.Section("match", "Proposed match", "\n".join(parts))
+
+
+def _parts(elements) -> str:
+    from .plot import network_text
+
+    return network_text(elements)
+
+
+def _range(x: float) -> str:
+    import math
+
+    if math.isinf(x):
+        return "unbounded"
+    return f"{x / 1000:.2f} km" if x >= 10_000 else f"{x:.1f} m"
+
+
+def budget_section(ctx: ReportContext) -> h.Section | None:
+    """The link budget of ``matchtool budget`` at its worst frequency, and per frequency for a band."""
+    b = ctx.budget
+    if b is None:
+        return None
+    w = b.worst
+    where = f"at {ff(w.f_hz)}" if b.band is None else f"at {ff(w.f_hz)}, the worst frequency of the band"
+    parts = [h.paragraph(f"Budget file {b.path}, {where}; distance {_range(b.distance_m)}, path loss model: "
+                         f"{b.path_loss_model}. Rows are signed contributions in dB to the received power."),
+             h.table(["item", "dB", "running total dBm"], [[r.name, fmt(r.value_db, 3), fmt(r.total_dbm, 2)]
+                                                          for r in w.rows],
+                     [False, True, True], caption="Link budget", css_class="budget")]
+    eirp = f"{fmt(w.eirp_dbm)} dBm"
+    if b.eirp_limit_dbm is not None:
+        eirp += f" (your limit {b.eirp_limit_dbm:g} dBm: {'EXCEEDED' if b.eirp_over_limit else 'met'})"
+    items = [("EIRP", eirp), ("received power", f"{fmt(w.received_power_dbm)} dBm"),
+             ("sensitivity", f"{fmt(b.rx_sensitivity_dbm)} dBm"),
+             ("margin", f"{fmt(w.margin_db)} dB (required {b.required_margin_db:g} dB: "
+                        f"{'met' if b.closes else 'NOT MET'})"),
+             (f"free-space range at {b.required_margin_db:g} dB margin", _range(w.max_range_m)),
+             ("mismatch (tx + rx)", f"{fmt(w.tx.mismatch_loss_db, 3)} + {fmt(w.rx.mismatch_loss_db, 3)} dB, costs "
+                                    f"{_range(w.mismatch_range_cost_m)} of range")]
+    parts.append(h.definition_list(items))
+    if b.band is not None:
+        parts.append(h.table(["frequency", "tx mismatch dB", "rx mismatch dB", "EIRP dBm", "received dBm", "margin dB",
+                              "range"],
+                             [[ff(p.f_hz), fmt(p.tx.mismatch_loss_db, 3), fmt(p.rx.mismatch_loss_db, 3),
+                               fmt(p.eirp_dbm), fmt(p.received_power_dbm), fmt(p.margin_db),
+                               _range(p.max_range_model_m)] for p in b.points],
+                             [True] * 7, caption="Per frequency"))
+    if b.warnings:
+        parts.append(h.bullet_list(b.warnings, "note warn"))
+    parts.append(h.paragraph("A free-space estimate, not a coverage prediction. EIRP and RF exposure limits are set "
+                             "by local regulation; the EIRP limit above is the user's number.", "note warn"))
+    return h.Section("budget", "Link budget", "\n".join(parts))
+
+
 def traceability_section(ctx: ReportContext) -> h.Section:
     import numpy
     import skrf
@@ -229,9 +404,9 @@ def traceability_section(ctx: ReportContext) -> h.Section:
     return h.Section("traceability", "Traceability", "\n".join(parts))
 
 
-# Integration round: spec_section (id "spec"), match_section ("match"), budget_section ("budget").
 SECTION_BUILDERS: list[Callable[[ReportContext], h.Section | None]] = [
-    summary_section, sweeps_section, compare_section, plots_section, traceability_section]
+    summary_section, spec_section, sweeps_section, compare_section, plots_section, match_section, budget_section,
+    traceability_section]
 
 
 def build_page(ctx: ReportContext, title: str) -> h.Page:
@@ -250,8 +425,22 @@ def register(app: typer.Typer) -> None:
                                          show_default=False)],
         band: BandOpt = None,
         spec: SpecOpt = None,
-        kind: KindOpt = None,
+        kind: Annotated[list[str] | None, typer.Option(
+            "--kind", metavar="KIND", help="Plots to include: return-loss, s11-db, vswr, smith, impedance; repeat "
+            "or comma-separate [default: return-loss,vswr,smith,impedance].")] = None,
         title: Annotated[str | None, typer.Option("--title", metavar="TEXT", help="Page title.")] = None,
+        match_band: Annotated[str | None, typer.Option(
+            "--match-band", metavar="LOW:HIGH", help="Propose a match for the first SWEEP over this band.")] = None,
+        match_at: Annotated[str | None, typer.Option(
+            "--match-at", metavar="FREQ", help="Propose a match for the first SWEEP at this frequency.")] = None,
+        series: SeriesOpt = "E24",
+        q_inductor: QInductorOpt = None,
+        q_capacitor: QCapacitorOpt = None,
+        c_range: CRangeOpt = None,
+        l_range: LRangeOpt = None,
+        pick: PickOpt = 1,
+        budget_file: Annotated[str | None, typer.Option(
+            "--budget", metavar="FILE.toml", help="Link budget file (as for 'matchtool budget') to include.")] = None,
         port: PortOpt = 1,
         z0: Z0Opt = None,
         min_return_loss: MinRLOpt = None,
@@ -259,31 +448,69 @@ def register(app: typer.Typer) -> None:
         max_s11_db: MaxS11Opt = None,
         force: ForceOpt = False,
     ) -> int:
-        """One self-contained HTML page: summary, inspect metrics, comparison, plots, input hashes."""
+        """One self-contained HTML page: summary, spec verdicts, inspect metrics, comparison, plots, proposed
+        match, link budget, input hashes."""
+        from ..budget import compute_budget, read_budget_file
         from ..render import plots
 
         if Path(out).suffix.lower() not in (".html", ".htm"):
             raise UsageError(f"unknown report extension {Path(out).suffix or '(none)'!r}", path=out,
                              expected="a file name ending in .html")
+        if match_band is not None and match_at is not None:
+            raise UsageError("give one of --match-band LOW:HIGH or --match-at FREQ, not both")
         kinds = plots.parse_kinds(kind or ["return-loss,vswr,smith,impedance"])
         check_output(out, force)
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
         bands = parse_band_options(band, thr)
-        if spec is not None:
-            bands += spec_bands(spec)
-        inputs = [hash_file(p) for p in sweeps]
+        n_adhoc = len(bands)
+        the_spec, port, z0 = read_spec(spec, port, z0)
+        extra: list[BandSpec] = []
+        if the_spec is not None:
+            extra = [(n, lo, hi, None) for n, lo, hi, _ in spec_bands(the_spec)]
+            bands += spec_bands(the_spec)
+        others = ([spec] if spec else []) + ([the_spec.golden.path] if the_spec and the_spec.golden else [])
+        budget_in = None
+        if budget_file is not None:
+            budget_in = read_budget_file(budget_file)
+            others.append(budget_file)
+            for side in (budget_in.tx, budget_in.rx):  # the sweeps the budget file names (as budget resolves them)
+                if side.sweep_path is not None:
+                    sp = Path(side.sweep_path)
+                    others.append(str(sp if sp.is_absolute() else Path(budget_in.path).parent / sp))
+        names = list(sweeps) + others
+        resolved = [str(Path(p).resolve()) for p in names]
+        inputs = [hash_file(p) for k, p in enumerate(names) if resolved[k] not in resolved[:k]]
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         labels = plots.legend_labels([s.path for s in loaded])
+        pm = None
+        if match_band is not None or match_at is not None:
+            pm = propose_match(loaded[0], match_at, match_band, thr, series, q_inductor, q_capacitor, c_range,
+                               l_range, pick, option_names=("--match-at", "--match-band"))
+        link = None if budget_in is None else compute_budget(budget_in)
         options = [("threshold", f"return loss >= {thr:.2f} dB"), ("port", str(port)),
                    ("z0", "from each file" if z0 is None else f"{z0:g} ohm")]
         options += [(f"band {n}", f"{ff(lo)} to {ff(hi)}") for n, lo, hi, _ in bands]
+        if spec is not None:
+            options.append(("spec", spec))
+        if pm is not None:
+            options.append(("match", f"{labels[0]} {pm.target_text}, {series}, Q(L) {q_text(pm.result.q.inductor)}, "
+                                     f"Q(C) {q_text(pm.result.q.capacitor)}, network #{pick}"))
+        if budget_file is not None:
+            options.append(("budget", budget_file))
+        c = compare(loaded, thr, bands[:n_adhoc] + extra, spec=the_spec)
+        if the_spec is not None:
+            c.warnings[:0] = [w for w in the_spec.warnings if w not in c.warnings]
+        if pm is not None:
+            c.warnings.extend(w for w in pm.result.warnings if w not in c.warnings)
+        if link is not None:
+            c.warnings.extend(w for w in link.warnings if w not in c.warnings)
         ctx = ReportContext(sweeps=loaded, labels=labels, summaries=[summarize(s, thr) for s in loaded],
-                            comparison=compare(loaded, thr, bands), threshold_return_loss_db=thr, bands=bands,
-                            kinds=kinds, inputs=inputs, generated=report_time(), options=options)
+                            comparison=c, threshold_return_loss_db=thr, bands=bands,
+                            kinds=kinds, inputs=inputs, generated=report_time(), options=options,
+                            n_band_tables=n_adhoc, match=pm, budget=link)
         page = build_page(ctx, title or f"Antenna match report: {', '.join(labels)}")
         atomic_write(out, h.render_page(page), force=force)
         warn(ctx.comparison.warnings)
-        # Exit 1 when a spec band failed for some file (the page is still written); --band limits inform.
-        first_spec = len(band or [])
-        failed = any(w.passed is False for r in ctx.comparison.rows for w in r.bands[first_spec:])
-        return 1 if (spec is not None and failed) else 0
+        # Exit 1 when a spec requirement failed or the budget misses its margin (the page is still
+        # written); --band limits inform. Unreadable inputs raised before anything was written (2).
+        return ExitStatus.FAIL if (c.spec_failed or (link is not None and not link.closes)) else ExitStatus.OK

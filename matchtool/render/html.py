@@ -37,8 +37,14 @@ class Page:
     sections: list[Section] = field(default_factory=list)
 
 
+class Raw(str):
+    """An HTML fragment built by this program (already escaped) that :func:`table` puts into a cell as is."""
+
+
 def esc(text: object) -> str:
-    """Escape any value for HTML text or a quoted attribute."""
+    """Escape any value for HTML text or a quoted attribute (a :class:`Raw` fragment stays as is)."""
+    if isinstance(text, Raw):
+        return str(text)
     return html.escape(str(text), quote=True)
 
 
@@ -133,6 +139,9 @@ figcaption { font-size: .85rem; color: #444; margin-top: .3rem; }
 .warn { border-left-color: var(--bad); }
 .hash { font-family: ui-monospace, "DejaVu Sans Mono", monospace; font-size: .8rem; }
 .pass { color: var(--good); font-weight: 600; } .fail { color: var(--bad); font-weight: 600; }
+.caution { border-left-color: var(--bad); } .caution ul { margin: .3rem 0 0; padding-left: 1.2rem; }
+pre.schematic { font-family: ui-monospace, "DejaVu Sans Mono", monospace; font-size: .9rem; background: var(--soft);
+                padding: .7rem 1rem; overflow-x: auto; line-height: 1.25; }
 @media print { body { max-width: none; padding: 0; font-size: 11pt; } nav { display: none; } }
 """
 

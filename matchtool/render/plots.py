@@ -106,6 +106,14 @@ def trace_from_sweep(sweep: Sweep, threshold_return_loss_db: float, label: str |
                  best=best_index(g))
 
 
+def trace_from_arrays(label: str, f_hz: np.ndarray, gamma: np.ndarray, z0_ohm: float,
+                      threshold_return_loss_db: float) -> Trace:
+    """A Trace from plain arrays (Hz, complex Gamma at ``z0_ohm``), e.g. a sweep seen through a network."""
+    f, g = np.asarray(f_hz, dtype=float), np.asarray(gamma, dtype=complex)
+    return Trace(label=label, f_hz=f, gamma=g, z0_ohm=float(z0_ohm),
+                 threshold_bands=find_bands(f, rf.return_loss_db(g), threshold_return_loss_db), best=best_index(g))
+
+
 def legend_labels(paths: Sequence[str]) -> list[str]:
     """Legend labels from file names: the base name, or the whole path where base names collide."""
     from pathlib import Path
@@ -211,13 +219,34 @@ def _legend_below(ax: Axes, gap: float = 0.13) -> None:
     ax.legend(loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
 
 
-def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float) -> None:
+def _span(traces: Sequence[Trace]) -> tuple[float, float]:
+    """Lowest and highest frequency of all traces (Hz)."""
+    return min(float(t.f_hz[0]) for t in traces), max(float(t.f_hz[-1]) for t in traces)
+
+
+def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float,
+                 span_hz: tuple[float, float] | None = None) -> None:
+    """Shade each band and name it at the top of the axes; a band whose span overlaps an earlier
+    band's gets its name one line lower, so nested bands (a band and its guard band) stay legible."""
+    rows: list[list[tuple[float, float]]] = []
     for b in bands:
         ax.axvspan(b.f_low_hz / scale, b.f_high_hz / scale, facecolor=BAND_FILL, edgecolor="none", zorder=0,
                    gid=f"{kind}:band:{b.name}")
-        ax.annotate(b.name, xy=((b.f_low_hz + b.f_high_hz) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
-                    xytext=(0, -2), textcoords="offset points", ha="center", va="top", fontsize=7.5,
-                    color="#333333")
+        row = next((k for k, taken in enumerate(rows)
+                    if all(b.f_high_hz < lo or b.f_low_hz > hi for lo, hi in taken)), len(rows))
+        if row == len(rows):
+            rows.append([])
+        rows[row].append((b.f_low_hz, b.f_high_hz))
+        # the name sits over the part of the band that is on the axis (a band reaching past the
+        # sweep keeps its label in view; one wholly outside is drawn but its label is not)
+        lo, hi = (max(b.f_low_hz, span_hz[0]), min(b.f_high_hz, span_hz[1])) if span_hz else (b.f_low_hz, b.f_high_hz)
+        if hi < lo:
+            continue
+        ann = ax.annotate(b.name, xy=((lo + hi) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
+                          xytext=(0, -2 - 10 * row), textcoords="offset points", ha="center", va="top", fontsize=7.5,
+                          color="#333333", gid=f"{kind}:bandlabel:{b.name}", zorder=7,
+                          bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+        ann.set_in_layout(False)
 
 
 def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float, text: str) -> None:
@@ -229,9 +258,10 @@ def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: f
     ax.plot(x, [limit, limit], color=MASK_COLOR, linewidth=2.4, solid_capstyle="butt", zorder=4,
             gid=f"{kind}:mask:{b.name}")
     above = floor < limit
-    ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
-                ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6,
-                bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+    ann = ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
+                      ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6, annotation_clip=True,
+                      bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+    ann.set_in_layout(False)
 
 
 def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, bands: Sequence[BandMask] = (),
@@ -246,7 +276,7 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     top = float(min(RL_CAP_DB, max(threshold_return_loss_db + 10.0, np.max(finite) + 3.0)))
     lowest = float(np.min(finite))
     bottom = 0.0 if lowest >= 0 else lowest - 1.0  # below 0 only for |Gamma| > 1 (not passive)
-    _shade_bands(ax, kind, bands, scale)
+    _shade_bands(ax, kind, bands, scale, _span(traces))
     for b in bands:
         if b.limit_return_loss_db is not None:
             lim = b.limit_return_loss_db
@@ -262,6 +292,8 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
         ax.plot(t.f_hz / scale, y, color=look["color"], linestyle=look["linestyle"], marker=look["marker"],
                 markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=_best_text(t, scale, unit),
                 gid=f"{kind}:trace:{t.label}")
+        _mark_unbounded(ax, kind, t, t.f_hz / scale, np.isposinf(t.return_loss_db), sign * top, look,
+                        "|Γ| = 0 (return loss infinite)")
         yb = float(np.clip(t.return_loss_db[t.best], bottom, 0.97 * top)) * sign
         ax.plot([t.f_hz[t.best] / scale], [yb], linestyle="none", marker="v" if sign > 0 else "^", markersize=8,
                 markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"{kind}:best:{t.label}")
@@ -284,6 +316,22 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     _legend_below(ax)
 
 
+def _mark_unbounded(ax: Axes, kind: str, t: Trace, x: np.ndarray, unbounded: np.ndarray, y_top: float,
+                    look: dict[str, Any], what: str) -> None:
+    """Samples whose value is infinite cannot be drawn; mark them on the top edge of the axes (a
+    thick segment in the trace's colour over each run, with up-pointing markers) and say so in the
+    legend, so the gap in the curve reads as 'off the scale', not as missing data."""
+    idx = np.flatnonzero(unbounded)
+    if idx.size == 0:
+        return
+    xs = np.where(unbounded, x, np.nan)  # NaN breaks the segment between runs
+    ax.plot(xs, np.full(x.size, y_top), color=look["color"], linewidth=4.0, solid_capstyle="butt", clip_on=False,
+            zorder=6, gid=f"{kind}:unbounded:{t.label}")
+    ax.plot(x[idx], np.full(idx.size, y_top), linestyle="none", marker="^", markersize=6,
+            markerfacecolor=look["color"], markeredgecolor="black", clip_on=False, zorder=7,
+            markevery=max(1, idx.size // 6), label=f"{t.label}: {what} at {idx.size} sample(s), marked at the top")
+
+
 def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float,
               bands: Sequence[BandMask] = ()) -> None:
     """VSWR against frequency (infinite VSWR drawn at the top of the axis), threshold and masks."""
@@ -291,7 +339,7 @@ def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float
     thr_v = float(rf.vswr(rf.gamma_mag_from_return_loss(threshold_return_loss_db)))
     finite = np.concatenate([t.vswr[np.isfinite(t.vswr)] for t in traces] + [np.array([1.0])])
     top = float(min(10.0, max(2.0 * thr_v, np.max(finite) * 1.05)))
-    _shade_bands(ax, "vswr", bands, scale)
+    _shade_bands(ax, "vswr", bands, scale, _span(traces))
     for b in bands:
         if b.limit_return_loss_db is not None:
             lim = float(rf.vswr(rf.gamma_mag_from_return_loss(b.limit_return_loss_db)))
@@ -304,6 +352,8 @@ def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float
                 markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=t.label, gid=f"vswr:trace:{t.label}")
         ax.plot([t.f_hz[t.best] / scale], [min(float(t.vswr[t.best]), top)], linestyle="none", marker="^", markersize=8,
                 markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"vswr:best:{t.label}")
+        _mark_unbounded(ax, "vswr", t, t.f_hz / scale, ~np.isfinite(t.vswr), top, look,
+                        "|Γ| >= 1 (VSWR infinite)")
     ax.set_ylim(1.0, top)
     _xlim(ax, traces, scale)
     ax.set_xlabel(f"Frequency ({unit})")
@@ -343,7 +393,7 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
             marks = [(b.name, f) for b in bands for f in (b.f_low_hz, b.f_high_hz)]
         else:
             marks = [(f"band{k + 1}", f) for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
-        for name in dict.fromkeys(m[0] for m in marks):
+        for k_band, name in enumerate(dict.fromkeys(m[0] for m in marks)):
             pts = [(f, _gamma_at(t, f)) for n, f in marks if n == name]
             pts = [(f, g) for f, g in pts if g is not None]
             if not pts:
@@ -353,8 +403,11 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
                     zorder=6, gid=f"smith:bandedge:{name}:{t.label}")
             if i == 0:
                 for f, g in pts:
-                    ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(5, 4), textcoords="offset points",
-                                fontsize=7, color="#222222")
+                    # alternate bands label on opposite sides, so nested bands' edges do not overprint
+                    left = k_band % 2 == 1
+                    ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(-5, -4) if left else (5, 4),
+                                textcoords="offset points", ha="right" if left else "left",
+                                va="top" if left else "bottom", fontsize=7, color="#222222")
     ax.set_title(f"Smith chart (impedance, Z0 = {traces[0].z0_ohm:g} ohm); markers: band edges in {unit}")
     _legend_below(ax, 0.06)
 
@@ -363,7 +416,7 @@ def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] 
     """Series resistance R (solid) and reactance X (dashed) in ohms against frequency, with the
     reference impedance and X = 0 drawn as guides."""
     scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
-    _shade_bands(ax, "impedance", bands, scale)
+    _shade_bands(ax, "impedance", bands, scale, _span(traces))
     ax.axhline(traces[0].z0_ohm, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.0,
                gid="impedance:z0", label=f"R = Z0 = {traces[0].z0_ohm:g} ohm")
     ax.axhline(0.0, color="#888888", linewidth=0.8, gid="impedance:zero")
@@ -406,8 +459,11 @@ def figure(traces: Sequence[Trace], kinds: Sequence[str], threshold_return_loss_
     with rc_context(_style()):
         fig = Figure(figsize=(7.2 * cols, 5.0 * rows), layout="constrained")
         FigureCanvasAgg(fig)
+        grid = fig.add_gridspec(rows, cols)
         for k, kind in enumerate(kinds):
-            ax = fig.add_subplot(rows, cols, k + 1)
+            r, c = divmod(k, cols)
+            # an odd panel count: the last panel takes its whole row (no empty cell beside it)
+            ax = fig.add_subplot(grid[r, :] if (k == n - 1 and n % cols) else grid[r, c])
             ax.set_gid(f"panel:{kind}")
             if kind in ("return-loss", "s11-db"):
                 draw_db(ax, traces, threshold_return_loss_db, bands, kind)

@@ -1,0 +1,92 @@
+"""`matchtool plot --match`: the before/after view draws exactly what `matchtool match` designs."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from helpers import ROOT
+
+from matchtool import matching as mt
+from matchtool import reflection as rf
+from matchtool.commands.plot import match_traces, propose_match
+from matchtool.render import plots
+from matchtool.sweep import load
+
+R1 = str(ROOT / "sample_sweeps" / "ant_r1.s1p")
+
+
+def by_gid(fig, gid):
+    found = [a for ax in fig.axes for a in ax.get_children() if a.get_gid() == gid]
+    assert found, f"no artist with gid {gid!r}"
+    return found[0]
+
+
+def _elements(doc_candidate):
+    return tuple(mt.Element(e["kind"], e["connection"], e["value"]) for e in doc_candidate["elements"])
+
+
+@pytest.mark.parametrize("target,pick", [(("--band", "902MHz:928MHz"), 1), (("--at", "915MHz"), 2)])
+def test_matched_curve_is_matchings_evaluation_of_matchs_network(cli, target, pick):
+    opts = [*target, "--q-inductor", "40", "--q-capacitor", "300", "--series", "E12"]
+    doc = cli("match", R1, *opts, "--json").json()
+    elements = _elements(doc["candidates"][pick - 1])
+    sw = load(R1)
+    at = target[1] if target[0] == "--at" else None
+    band = target[1] if target[0] == "--band" else None
+    pm = propose_match(sw, at, band, 10.0, "E12", 40, 300, pick=pick)
+    assert pm.candidate.elements == elements  # the same network as `matchtool match` ranks there
+    q = mt.PartQ(40.0, 300.0)
+    expected = mt.evaluate(sw.f_hz, sw.gamma, sw.z0_ohm, [(e.kind, e.connection) for e in elements],
+                           [e.value for e in elements], q).gamma_in
+    traces = match_traces(pm, 10.0, "ant_r1.s1p")
+    fig = plots.figure(traces, ["return-loss", "smith"], 10.0)
+    before = by_gid(fig, f"return-loss:trace:{traces[0].label}")
+    after = by_gid(fig, f"return-loss:trace:{traces[1].label}")
+    np.testing.assert_allclose(before.get_ydata(), rf.return_loss_db(sw.gamma))
+    np.testing.assert_allclose(after.get_ydata(), rf.return_loss_db(expected), rtol=1e-12)
+    smith = by_gid(fig, f"smith:trace:{traces[1].label}")
+    np.testing.assert_allclose(smith.get_xdata(), expected.real)
+    np.testing.assert_allclose(smith.get_ydata(), expected.imag)
+    # the legend names the network, in match's own part notation
+    assert pm.network_text in traces[1].label
+    assert doc["candidates"][pick - 1]["worst_return_loss_db"] == pytest.approx(pm.candidate.worst_return_loss_db)
+
+
+def test_exact_l_network_at_one_frequency_is_a_perfect_match_there():
+    # A lossless L-section with exact values transforms the load to Z0 at the design frequency
+    # (Pozar, Microwave Engineering, 4th ed., sec. 5.1): the matched return loss there is very high.
+    sw = load(R1)
+    pm = propose_match(sw, 915e6, None, 10.0, "exact")
+    g = complex(np.interp(915e6, sw.f_hz, pm.gamma_after.real) + 1j * np.interp(915e6, sw.f_hz, pm.gamma_after.imag))
+    assert 915e6 in sw.f_hz  # on a sample: no interpolation error
+    assert float(rf.return_loss_db(abs(g))) > 40.0
+
+
+def test_plot_match_cli_writes_svg_naming_the_network(cli, tmp_path):
+    out = tmp_path / "m.svg"
+    r = cli("plot", R1, "--match", "--band", "ism=902MHz:928MHz", "--q-inductor", "40", "--out", out)
+    assert r.code == 0, r.err
+    svg = out.read_text()
+    doc = cli("match", R1, "--band", "902MHz:928MHz", "--q-inductor", "40", "--json").json()
+    best = _elements(doc["candidates"][0])
+    from matchtool.commands.plot import network_text
+
+    assert network_text(best) in svg and "ant_r1.s1p measured" in svg and "Proposed match" in svg
+    assert "Smith chart" in svg and "Return loss" in svg  # default kinds with --match
+
+
+def test_plot_match_usage_errors_are_one_line_exit_2(cli, tmp_path):
+    out = tmp_path / "m.png"
+    cases = [
+        (("plot", R1, R1, "--match", "--band", "902MHz:928MHz", "--out", out), "one SWEEP"),
+        (("plot", R1, "--match", "--out", out), "--at FREQ"),
+        (("plot", R1, "--match", "--band", "902MHz:928MHz", "--band", "b=880MHz:890MHz", "--out", out), "--at FREQ"),
+        (("plot", R1, "--at", "915MHz", "--out", out), "--match"),
+        (("plot", R1, "--match", "--at", "915MHz", "--pick", "99", "--out", out), "--pick"),
+        (("plot", R1, "--match", "--at", "5GHz", "--out", out), "ant_r1.s1p"),
+        (("plot", R1, "--match", "--at", "915MHz", "--q-inductor", "-3", "--out", out), "--q-inductor"),
+    ]
+    for args, must in cases:
+        r = cli(*args)
+        assert r.code == 2 and len(r.err_lines) == 1 and must in r.err, (args, r.err)
+        assert not out.exists()

@@ -1,0 +1,172 @@
+"""`matchtool report` with --spec, --match-band/--match-at and --budget: the page shows the same
+results as `check`, `match` and `budget` for the same inputs, and stays self-contained."""
+
+from __future__ import annotations
+
+import html
+import shutil
+from html.parser import HTMLParser
+
+import pytest
+from helpers import ROOT
+from test_report import assert_self_contained
+
+from matchtool import matching as mt
+from matchtool.commands.match import schematic
+
+SAMPLES = ROOT / "sample_sweeps"
+
+
+class Tables(HTMLParser):
+    """Rows of every table, keyed by the table's class, as lists of cell texts."""
+
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.tables: dict[str, list[list[str]]] = {}
+        self.cls = None
+        self.row: list[str] | None = None
+        self.cell: list[str] | None = None
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        if tag == "table":
+            self.cls = a.get("class", "")
+            self.tables.setdefault(self.cls, [])
+        elif tag == "tr":
+            self.row = []
+        elif tag in ("td", "th"):
+            self.cell = []
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self.cell is not None:
+            self.row.append("".join(self.cell).strip())
+            self.cell = None
+        elif tag == "tr" and self.row is not None:
+            self.tables[self.cls].append(self.row)
+            self.row = None
+
+    def handle_data(self, data):
+        if self.cell is not None:
+            self.cell.append(data)
+
+
+def tables(text: str) -> dict[str, list[list[str]]]:
+    p = Tables()
+    p.feed(text)
+    return p.tables
+
+
+@pytest.fixture()
+def bench(tmp_path):
+    """The sample revisions, spec and budget copied into a temporary directory."""
+    for name in ("ant_r1.s1p", "ant_r2.s1p", "ant_r3.s1p", "spec_915.toml", "link_915.toml"):
+        shutil.copy(SAMPLES / name, tmp_path / name)
+    return tmp_path
+
+
+def _full_report(cli, d, *extra):
+    files = [str(d / f"ant_r{k}.s1p") for k in (1, 2, 3)]
+    out = d / "bench.html"
+    r = cli("report", *files, "--spec", d / "spec_915.toml", "--budget", d / "link_915.toml", "--match-band",
+            "902MHz:928MHz", "--q-inductor", "40", "--kind", "return-loss", "--out", out, *extra)
+    return r, out, files
+
+
+def test_spec_verdicts_are_checks_results(cli, bench):
+    r, out, files = _full_report(cli, bench)
+    chk = cli("check", *files, "--spec", bench / "spec_915.toml", "--json")
+    assert r.code == chk.code == 1, r.err  # r1 and r2 fail: exit 1, page still written
+    text = out.read_text()
+    assert_self_contained(text)
+    rows = tables(text)["spec"][1:]  # without the header
+    expected = []
+    for u in chk.json()["files"]:
+        for k, q in enumerate(u["requirements"]):
+            margin = (f"{q['margin_db']:+.2f} dB" if q["margin_db"] is not None
+                      else f"{q['margin_hz'] / 1e6:+.3f} MHz")
+            where = f"{q['worst_f_hz'] / 1e6:.3f} MHz"
+            expected.append([u["file"].split("/")[-1] if k == 0 else "", q["name"], "pass" if q["pass"] else "FAIL",
+                             where, margin])
+    assert [[c[0], c[1], c[2], c[4], c[6]] for c in rows] == expected
+    # worst in the units of the limit key: the VSWR row shows a ratio, the return-loss row dB
+    guard = [c for c in rows if c[1] == "ism guard"]
+    assert all(c[3].endswith("ratio") for c in guard) and all(c[5] == "3.000" for c in guard)
+
+
+def test_match_section_holds_matchs_schematic_and_before_after_picture(cli, bench):
+    r, out, files = _full_report(cli, bench)
+    doc = cli("match", files[0], "--band", "902MHz:928MHz", "--q-inductor", "40", "--json").json()
+    best = doc["candidates"][0]
+    elements = tuple(mt.Element(e["kind"], e["connection"], e["value"]) for e in best["elements"])
+    text = out.read_text()
+    assert html.escape(schematic(elements, doc["z0_ohm"])) in text
+    match_html = text[text.index('<section id="match"'):text.index('<section id="budget"')]
+    assert match_html.count("<svg") == 2 and "ant_r1.s1p measured" in match_html
+    ranked = tables(text)["candidates"][1:]
+    assert ranked[0][3] == f"{best['worst_return_loss_db']:.2f}"
+    assert len(ranked) == len(doc["candidates"])
+
+
+def test_budget_rows_are_budgets(cli, bench):
+    r, out, _ = _full_report(cli, bench)
+    b = cli("budget", bench / "link_915.toml", "--json").json()
+    rows = tables(out.read_text())["budget"][1:]
+    assert [[c[0], c[1], c[2]] for c in rows] == [[x["name"], f"{x['value_db']:.3f}", f"{x['total_dbm']:.2f}"]
+                                                    for x in b["rows"]]
+    assert f"{b['margin_db']:.2f} dB" in out.read_text()
+
+
+def test_cautions_and_traceability_of_every_input(cli, bench):
+    r, out, _ = _full_report(cli, bench)
+    text = out.read_text()
+    for must in ("can damage a transmitter", "RF exposure", "set by local regulation", "does not certify"):
+        assert must in text, must
+    hashed = [row[0] for row in tables(text)["hash"][1:]]
+    assert {"ant_r1.s1p", "spec_915.toml", "link_915.toml"} <= {p.split("/")[-1] for p in hashed}
+    assert len({p.split("/")[-1] for p in hashed}) == len(hashed)  # r2, r3 named by the budget too: once each
+
+
+def test_budget_sweeps_are_hashed(cli, bench):
+    import hashlib
+
+    out = bench / "b.html"
+    r = cli("report", bench / "ant_r1.s1p", "--budget", bench / "link_915.toml", "--kind", "vswr", "--out", out)
+    assert r.code == 0, r.err
+    rows = {row[0].split("/")[-1]: row[2] for row in tables(out.read_text())["hash"][1:]}
+    for name in ("ant_r3.s1p", "ant_r2.s1p"):  # tx_sweep and rx_sweep of link_915.toml
+        assert rows[name] == hashlib.sha256((bench / name).read_bytes()).hexdigest()
+
+
+def test_passing_inputs_exit_0_and_match_at(cli, bench):
+    out = bench / "r3.html"
+    r = cli("report", bench / "ant_r3.s1p", "--spec", bench / "spec_915.toml", "--budget", bench / "link_915.toml",
+            "--match-at", "915MHz", "--series", "exact", "--out", out)
+    assert r.code == 0, r.err
+    assert "Proposed match for ant_r3.s1p at 915 MHz" in out.read_text()
+
+
+def test_budget_that_misses_its_margin_exits_1(cli, bench):
+    text = (bench / "link_915.toml").read_text().replace("distance_m = 1000", "distance_m = 1e9")
+    (bench / "far.toml").write_text(text)
+    out = bench / "far.html"
+    r = cli("report", bench / "ant_r3.s1p", "--budget", bench / "far.toml", "--out", out)
+    assert r.code == 1 and "NOT MET" in out.read_text()
+
+
+def test_refusals_write_nothing(cli, bench):
+    out = bench / "x.html"
+    r3 = bench / "ant_r3.s1p"
+    cases = [
+        (("--match-band", "902MHz:928MHz", "--match-at", "915MHz"), "--match-at"),
+        (("--match-at", "5GHz"), "ant_r3.s1p"),
+        (("--match-at", "915MHz", "--pick", "50"), "--pick"),
+        (("--budget", bench / "missing.toml"), "missing.toml"),
+        (("--spec", bench / "spec_915.toml", "--port", "2"), "--port"),
+    ]
+    for extra, must in cases:
+        r = cli("report", r3, "--out", out, *extra)
+        assert r.code == 2 and len(r.err_lines) == 1 and must in r.err, (extra, r.err)
+        assert not out.exists()
+    out.write_text("keep")
+    r = cli("report", r3, "--out", out)
+    assert r.code == 2 and out.read_text() == "keep"
