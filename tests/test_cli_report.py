@@ -170,3 +170,16 @@ def test_refusals_write_nothing(cli, bench):
     out.write_text("keep")
     r = cli("report", r3, "--out", out)
     assert r.code == 2 and out.read_text() == "keep"
+
+
+def test_report_and_plot_say_what_they_wrote_and_take_json(cli, tmp_path):
+    from helpers import write_rlc
+
+    p = write_rlc(tmp_path / "u.s1p")
+    r = cli("report", p, "--out", tmp_path / "r.html")
+    assert r.code == 0 and r.out.strip() == f"wrote {tmp_path / 'r.html'} (no spec or budget to judge)"
+    r = cli("plot", p, "--out", tmp_path / "p.svg", "--json")
+    doc = r.json()
+    assert r.code == 0 and doc["out"] == str(tmp_path / "p.svg") and doc["kinds"] == ["return-loss"]
+    r = cli("report", p, "--out", tmp_path / "r2.html", "--json")
+    assert r.code == 0 and r.json()["pass"] is True and (tmp_path / "r2.html").exists()

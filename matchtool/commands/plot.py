@@ -20,7 +20,7 @@ from ..outputs import atomic_write, check_output
 from ..summary import threshold_from_options
 from ..sweep import Sweep, load
 from ..units import parse_band, parse_frequency
-from .common import ForceOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, warn
+from .common import ForceOpt, JsonOpt, emit_json, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, warn
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, spec_bands
 
 EPILOG = """Examples:
@@ -191,6 +191,7 @@ def register(app: typer.Typer) -> None:
         max_vswr: MaxVswrOpt = None,
         max_s11_db: MaxS11Opt = None,
         force: ForceOpt = False,
+        json_out: JsonOpt = False,
     ) -> int:
         """Draw sweeps (overlaid, legend from file names) with the threshold, bands and limit masks."""
         from ..render import plots  # no matplotlib yet: it is imported inside the drawing functions
@@ -227,5 +228,10 @@ def register(app: typer.Typer) -> None:
         masks = [plots.BandMask(n, lo, hi, lim) for n, lo, hi, lim in bands]
         fig = plots.figure(traces, kinds, thr, masks, title)
         atomic_write(out, plots.figure_bytes(fig, fmt), force=force)
-        warn(warnings)
+        if json_out:
+            emit_json({"out": str(out), "inputs": [str(x) for x in sweeps], "kinds": list(kinds),
+                       "warnings": list(warnings)})
+        else:
+            print(f"wrote {out}")
+            warn(warnings)
         return 0

@@ -32,7 +32,7 @@ from ..render import html as h
 from ..summary import SweepSummary, summarize, threshold_from_options
 from ..sweep import Sweep, load
 from ..units import format_frequency as ff
-from .common import ForceOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, fmt, warn
+from .common import ForceOpt, JsonOpt, emit_json, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, fmt, warn
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, requirement_cells, spec_bands
 from .plot import (
     CRangeOpt,
@@ -447,6 +447,7 @@ def register(app: typer.Typer) -> None:
         max_vswr: MaxVswrOpt = None,
         max_s11_db: MaxS11Opt = None,
         force: ForceOpt = False,
+        json_out: JsonOpt = False,
     ) -> int:
         """One self-contained HTML page: summary, spec verdicts, inspect metrics, comparison, plots, proposed
         match, link budget, input hashes."""
@@ -510,7 +511,14 @@ def register(app: typer.Typer) -> None:
                             n_band_tables=n_adhoc, match=pm, budget=link)
         page = build_page(ctx, title or f"Antenna match report: {', '.join(labels)}")
         atomic_write(out, h.render_page(page), force=force)
-        warn(ctx.comparison.warnings)
         # Exit 1 when a spec requirement failed or the budget misses its margin (the page is still
         # written); --band limits inform. Unreadable inputs raised before anything was written (2).
-        return ExitStatus.FAIL if (c.spec_failed or (link is not None and not link.closes)) else ExitStatus.OK
+        failed = bool(c.spec_failed or (link is not None and not link.closes))
+        verdict = "FAIL" if failed else ("pass" if (spec or budget_file) else "no spec or budget to judge")
+        if json_out:
+            emit_json({"out": str(out), "inputs": [str(x) for x in sweeps], "pass": not failed,
+                       "warnings": list(ctx.comparison.warnings)})
+        else:
+            print(f"wrote {out} ({verdict})")
+            warn(ctx.comparison.warnings)
+        return ExitStatus.FAIL if failed else ExitStatus.OK
