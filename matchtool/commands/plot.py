@@ -20,7 +20,7 @@ from ..outputs import atomic_write, check_output
 from ..summary import threshold_from_options
 from ..sweep import Sweep, load
 from ..units import parse_band, parse_frequency
-from .common import ForceOpt, JsonOpt, emit_json, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, warn
+from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, warn
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, spec_bands
 
 EPILOG = """Examples:

@@ -32,7 +32,7 @@ from ..render import html as h
 from ..summary import SweepSummary, summarize, threshold_from_options
 from ..sweep import Sweep, load
 from ..units import format_frequency as ff
-from .common import ForceOpt, JsonOpt, emit_json, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, fmt, warn
+from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, fmt, warn
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, requirement_cells, spec_bands
 from .plot import (
     CRangeOpt,
