@@ -74,6 +74,8 @@ _RES_KEYS = {"f_low", "f_high"}
 _GOLDEN_KEYS = {"file", "band", "max_deviation_db", "port", "rl_ceiling_db"}
 _CAP_DB = 400.0  # stands in for +inf return loss (a perfect sample), as in bands.py
 MIN_BAND_SAMPLES = 3
+MAX_SPEC_BYTES = 1_000_000
+"""A spec file larger than this is refused unread (a real spec is a few hundred bytes)."""
 
 
 # --------------------------------------------------------------------------------------------- model
@@ -314,6 +316,9 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
     path = str(path)
     try:
         doc = tomllib.loads(text)
+    except RecursionError:  # arrays or inline tables nested thousands deep
+        raise SpecError("not valid TOML: values nested too deeply", path=path,
+                        expected="a spec of plain keys, [[band]], [resonance] and [golden] tables") from None
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc)
         line = None
@@ -435,11 +440,14 @@ def load_spec(path: str | Path, port: int | None = None, z0_ohm: float | None = 
     if p.is_dir():
         raise SpecError("is a directory", path=path, expected="a TOML spec file")
     try:
-        raw = p.read_bytes()
+        with p.open("rb") as fh:
+            raw = fh.read(MAX_SPEC_BYTES + 1)
     except FileNotFoundError:
         raise SpecError("no such spec file", path=path) from None
     except OSError as exc:
         raise SpecError(f"cannot read: {exc.strerror or exc}", path=path) from None
+    if len(raw) > MAX_SPEC_BYTES:
+        raise SpecError(f"is larger than {MAX_SPEC_BYTES} bytes", path=path, expected="a small TOML spec file")
     text = _decode(raw, str(path))
     if not text.strip():
         raise SpecError("the spec file is empty (an empty spec would pass every unit)", path=path,
