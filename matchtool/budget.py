@@ -494,6 +494,9 @@ def read_budget_file(path: str | Path) -> BudgetInput:
         raise BudgetError("is not UTF-8 text", path=str(path), expected="a budget file (TOML)") from None
     try:
         data = tomllib.loads(text)
+    except RecursionError:  # arrays or inline tables nested thousands deep
+        raise BudgetError("is not valid TOML (values nested too deeply)", path=str(path),
+                          expected="a budget of plain keys and [tx_cable] / [rx_cable] tables") from None
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc)
         line = None
@@ -546,8 +549,14 @@ def compute_budget(inp: BudgetInput) -> BudgetResult:
     """Compute the link budget at every frequency of ``inp`` (vectorised over frequency).
 
     Sweeps are read relative to the budget file's folder. A frequency outside a sweep raises
-    BudgetError (never extrapolated).
+    BudgetError (never extrapolated). Absurd but finite inputs (a gain of 1e308 dBi) may give
+    infinite rows; numpy's overflow warnings are kept off stderr (the JSON writer reports them).
     """
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        return _compute_budget(inp)
+
+
+def _compute_budget(inp: BudgetInput) -> BudgetResult:
     warnings: list[str] = []
     base = Path(inp.path).parent
     f = np.asarray(inp.f_hz, dtype=float)
