@@ -570,12 +570,13 @@ class BandWorst:
                             self.one_way_loss_at_worst_radio_db)
 
 
-def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float) -> np.ndarray:
-    """The sweep's samples inside [f_low, f_high] plus both edges (OutOfRangeError outside)."""
+def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float, path: str | None = None) -> np.ndarray:
+    """The sweep's samples inside [f_low, f_high] plus both edges (OutOfRangeError outside, naming
+    the sweep file ``path`` when given)."""
     f = np.asarray(f_hz, dtype=float)
     if f_low_hz < f[0] or f_high_hz > f[-1]:
         raise OutOfRangeError(f"band {f_low_hz / 1e6:.6g} to {f_high_hz / 1e6:.6g} MHz is not inside the sweep "
-                              f"({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz)",
+                              f"({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz)", path=path,
                               expected="a band inside the sweep (never extrapolated)")
     inside = f[(f > f_low_hz) & (f < f_high_hz)]
     return np.unique(np.concatenate(([f_low_hz], inside, [f_high_hz])))

@@ -14,6 +14,7 @@ from ..outputs import atomic_write_many, check_output
 from ..spec import RequirementResult, Spec, UnitResult, load_spec
 from ..units import format_frequency as ff
 from .common import ForceOpt, JsonOpt, console, emit_json, fmt, warn
+from .match import stops_cleanly
 
 EPILOG = """Examples:
 
@@ -213,6 +214,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
 
 def register(app: typer.Typer) -> None:
     @app.command("check", epilog=EPILOG)
+    @stops_cleanly
     def check_cmd(
         sweeps: Annotated[list[str], typer.Argument(
             metavar="SWEEP...", help="Touchstone files, glob patterns ('lot7/**/*.s1p') or directories (searched "

@@ -22,6 +22,7 @@ from .common import (
     frequencies,
     warn,
 )
+from .match import stops_cleanly
 
 EPILOG = """Examples:
 
@@ -97,6 +98,7 @@ def render_summary(s: SweepSummary) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("inspect", epilog=EPILOG)
+    @stops_cleanly
     def inspect_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from pathlib import Path
@@ -42,6 +43,34 @@ EPILOG = """Examples:
 """
 
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
+
+
+def stops_cleanly(fn):
+    """Wrap a command so that Ctrl-C reaches the CLI's handler (one line, exit status 130).
+
+    typer turns KeyboardInterrupt into a silent ``Exit(130)``; re-raised as ``typer.Abort`` it is
+    reported by ``matchtool.cli.main``. Outputs are written atomically, so nothing is half-written.
+    """
+
+    @functools.wraps(fn)
+    def run(*args, **kwargs):
+        try:
+            return fn(*args, **kwargs)
+        except KeyboardInterrupt:
+            raise typer.Abort() from None
+
+    return run
+
+
+def same_file(a: str | Path, b: str | Path) -> bool:
+    """Whether two paths name the same file (after resolving links and ``..``; hard links too)."""
+    pa, pb = Path(a), Path(b)
+    try:
+        if pa.exists() and pb.exists():
+            return pa.samefile(pb)
+        return pa.resolve() == pb.resolve()
+    except OSError:
+        return False
 
 
 def parse_part_value(text: str, unit: str, option: str) -> float:
@@ -257,6 +286,7 @@ def render(r: mt.MatchResult) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("match", epilog=EPILOG)
+    @stops_cleanly
     def match_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
                                              show_default=False)],
@@ -322,6 +352,9 @@ def register(app: typer.Typer) -> None:
         for path in (write_network, write_matched):
             if path is not None:
                 check_output(path, force)
+                if same_file(path, sweep):
+                    raise UsageError("the output would overwrite the input sweep", path=path,
+                                     expected="an output file name that is not the input")
         if write_network is not None and not write_network.lower().endswith(".s2p"):
             raise UsageError("--write-network needs a .s2p file name", path=write_network)
         if write_matched is not None and not write_matched.lower().endswith(".s1p"):
