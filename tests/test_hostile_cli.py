@@ -165,6 +165,7 @@ def test_feedline_out_onto_the_cable_file_is_refused(cli, tmp_path):
 
 
 UNKNOWN_EXT = {
+    "check --junit": "out.csv", "check --csv": "out.xml",
     "match --write-network": "net.txt", "match --write-matched": "matched.s2p", "feedline --out": "moved.txt",
     "plot --out": "pic.bmp", "report --out": "page.txt",
 }

@@ -181,6 +181,10 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
         if str(Path(p).resolve()) in protected:
             raise UsageError("an output would overwrite one of the inputs", path=p,
                              expected="a report file name that is not a sweep or the spec")
+    for opt, p, ext, kind in (("--junit", junit, ".xml", "JUnit XML"), ("--csv", csv_path, ".csv", "CSV")):
+        if p and Path(p).suffix.lower() != ext:
+            raise UsageError(f"{opt} needs a {ext} file name for the {kind} report", path=p,
+                             expected=f"e.g. results{ext}")
     n_jobs = default_jobs() if jobs is None else jobs
     if sys.stderr.isatty() and len(inputs) >= PROGRESS_MIN:
         with _Progress(len(inputs)) as bar:
