@@ -534,6 +534,12 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
             raise BudgetError(exc.what, path=r_path, key=f"{s}_sweep",
                               expected=f"an operating frequency inside the sweep {full}") from None
         mag = np.abs(g)
+        if np.any(mag > 1.0):
+            k = int(np.argmax(mag))
+            raise BudgetError(f"the sweep {full} has |Gamma| = {mag[k]:.4f} > 1 at {f[k] / 1e6:.6g} MHz, where the "
+                              "mismatch loss is undefined (a passive antenna cannot reflect more than it receives)",
+                              path=r_path, key=f"{s}_sweep",
+                              expected="a sweep with |S11| <= 1 at the operating frequencies (check the calibration)")
         if np.any(mag >= 0.95):
             k = int(np.argmax(mag))
             warnings.append(f"{full}: |Gamma| = {mag[k]:.4f} (VSWR {float(vswr_of_gamma(mag[k])):.3g}) at {f[k] / 1e6:.6g} MHz; "

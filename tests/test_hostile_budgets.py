@@ -12,8 +12,9 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import pytest
-from helpers import write_rlc
+from helpers import s1p_text, write_rlc
 from test_hostile_specs import toml_text
 
 from matchtool import budget as bd
@@ -256,3 +257,25 @@ def test_extreme_but_valid_budgets_give_finite_json_and_no_stray_text(cli, workd
     json.loads(r.out)
     stray = [ln for ln in r.err_lines if not ln.startswith("warning: ")]
     assert stray == [], r.err  # numpy's RuntimeWarning lines must not reach the user
+
+
+def test_sweep_reflecting_more_than_it_receives_is_refused(cli, workdir):
+    # |Gamma| > 1 gives 1 - |Gamma|^2 < 0: the mismatch loss -10 log10(1 - |Gamma|^2) is undefined,
+    # so every row after it would be NaN; the budget is refused instead of printing a NaN verdict
+    f = np.linspace(900e6, 930e6, 31)
+    (workdir / "tx.s1p").write_text(s1p_text(f, 1.2 * np.exp(1j * np.linspace(0, 1, 31))))
+    p = workdir / "link.toml"
+    p.write_text(toml_text(valid_budget()))
+    line = _refused(cli, p, "tx_sweep")
+    assert "> 1" in line and str(workdir / "tx.s1p") in line
+
+
+def test_short_circuit_antenna_gives_no_link_not_an_error(cli, workdir):
+    # |Gamma| = 1: no power crosses (mismatch loss infinite); the link does not close (status 1)
+    f = np.linspace(900e6, 930e6, 31)
+    (workdir / "tx.s1p").write_text(s1p_text(f, -np.ones(31, dtype=complex)))
+    p = workdir / "link.toml"
+    p.write_text(toml_text(valid_budget()))
+    r = cli("budget", p, "--json")
+    assert r.code == 1, r.err
+    assert r.json()["received_power_dbm"] is None and "Infinity" not in r.out
