@@ -44,6 +44,7 @@ from __future__ import annotations
 
 import math
 import tomllib
+import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -264,6 +265,15 @@ def _bare_hz_warning(t: dict, path: str, prefix: str, warnings: list[str]) -> No
                             f"write \"{v:g} MHz\" if that was meant")
 
 
+def _control_free(name: str, path: str, key: str) -> None:
+    """Refuse a name holding a control character (NUL, ESC, ...): it would reach terminals, XML
+    and CSV reports, where it corrupts the output or cannot be written at all."""
+    bad = next((c for c in name if unicodedata.category(c) == "Cc"), None)
+    if bad is not None:
+        raise SpecError(f"name holds the control character U+{ord(bad):04X}", path=path, key=key,
+                        expected="printable text")
+
+
 def _band(t: Any, i: int, path: str, seen: set[str]) -> BandSpec:
     prefix = f"band[{i}]."
     if not isinstance(t, dict):
@@ -273,6 +283,7 @@ def _band(t: Any, i: int, path: str, seen: set[str]) -> BandSpec:
     if not isinstance(name, str) or not name.strip():
         raise SpecError("missing or empty band name", path=path, key=prefix + "name", expected="a string")
     name = name.strip()
+    _control_free(name, path, prefix + "name")
     if name in seen:
         raise SpecError(f"duplicate band name {name!r}", path=path, key=prefix + "name",
                         expected="a different name for each [[band]]")
@@ -333,6 +344,7 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
     name = doc.get("name", "")
     if not isinstance(name, str):
         raise SpecError(f"name is {name!r}", path=path, key="name", expected="a string")
+    _control_free(name, path, "name")
     if port is None:
         port_v = doc.get("port", 1)
         if isinstance(port_v, bool) or not isinstance(port_v, int) or port_v < 1:

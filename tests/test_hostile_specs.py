@@ -30,7 +30,8 @@ def _value(v) -> str:
     if isinstance(v, int | float):
         return repr(v)
     if isinstance(v, str):
-        return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
+        text = v.replace("\\", "\\\\").replace('"', '\\"')
+        return '"' + "".join(f"\\u{ord(c):04x}" if ord(c) < 32 or ord(c) == 127 else c for c in text) + '"'
     if isinstance(v, list):
         return "[" + ", ".join(_value(x) for x in v) + "]"
     if isinstance(v, dict):
@@ -155,8 +156,10 @@ def hostile_cases() -> list[tuple[str, str, str | None]]:
     d["band"][0]["name"] = "resonance"
     d["golden"]["band"] = "resonance"
     add("band named like the resonance requirement", d, "band[1].name")
-    for bad in ("", "  ", 3):
+    for bad in ("", "  ", 3, "ism\x00", "ism\x1b[31m", "i\x08sm", "ism\x7f"):
         add(f"band name {bad!r}", _set(valid_doc(), "band", "name", bad), "band[1].name")
+    for bad in ("suite\x00", "suite\x1b[2J", "a\nb"):
+        add(f"spec name {bad!r}", {**valid_doc(), "name": bad}, "name")
     # golden: missing keys, missing / directory / junk file, a band that does not exist
     for k in ("file", "band", "max_deviation_db"):
         d = valid_doc()
