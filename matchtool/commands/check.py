@@ -14,7 +14,7 @@ from ..outputs import atomic_write_many, check_output
 from ..spec import RequirementResult, Spec, UnitResult, load_spec
 from ..units import format_frequency as ff
 from .common import ForceOpt, JsonOpt, console, emit_json, fmt, warn
-from .match import stops_cleanly
+from .match import cli_guard
 
 EPILOG = """Examples:
 
@@ -218,7 +218,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
 
 def register(app: typer.Typer) -> None:
     @app.command("check", epilog=EPILOG)
-    @stops_cleanly
+    @cli_guard
     def check_cmd(
         sweeps: Annotated[list[str], typer.Argument(
             metavar="SWEEP...", help="Touchstone files, glob patterns ('lot7/**/*.s1p') or directories (searched "

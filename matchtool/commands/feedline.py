@@ -20,7 +20,7 @@ from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency, parse_length, parse_time
 from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, fmt, frequencies, warn
-from .match import same_file, stops_cleanly
+from .match import cli_guard, same_file
 
 EPILOG = """Examples:
 
@@ -170,7 +170,7 @@ def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWor
 
 def register(app: typer.Typer) -> None:
     @app.command("feedline", epilog=EPILOG)
-    @stops_cleanly
+    @cli_guard
     def feedline_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],

@@ -22,7 +22,7 @@ from .common import (
     frequencies,
     warn,
 )
-from .match import stops_cleanly
+from .match import cli_guard
 
 EPILOG = """Examples:
 
@@ -98,7 +98,7 @@ def render_summary(s: SweepSummary) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("inspect", epilog=EPILOG)
-    @stops_cleanly
+    @cli_guard
     def inspect_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],

@@ -45,8 +45,11 @@ EPILOG = """Examples:
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
 
 
-def stops_cleanly(fn):
-    """Wrap a command so that Ctrl-C reaches the CLI's handler (one line, exit status 130).
+def cli_guard(fn):
+    """Wrap a command so that Ctrl-C reaches the CLI's handler (one line, exit status 130), and
+    numpy's floating-point RuntimeWarnings (overflow for absurd but finite options such as
+    ``--delay 1e300s``) never reach stderr as loose text: the results carry inf / NaN, which the
+    tables show as 'inf' / 'n/a' and the JSON writer turns into null with a named warning.
 
     typer turns KeyboardInterrupt into a silent ``Exit(130)``; re-raised as ``typer.Abort`` it is
     reported by ``matchtool.cli.main``. Outputs are written atomically, so nothing is half-written.
@@ -54,8 +57,14 @@ def stops_cleanly(fn):
 
     @functools.wraps(fn)
     def run(*args, **kwargs):
+        import warnings
+
+        import numpy as np
+
         try:
-            return fn(*args, **kwargs)
+            with np.errstate(all="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)  # numpy's "All-NaN slice" and the like
+                return fn(*args, **kwargs)
         except KeyboardInterrupt:
             raise typer.Abort() from None
 
@@ -286,7 +295,7 @@ def render(r: mt.MatchResult) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("match", epilog=EPILOG)
-    @stops_cleanly
+    @cli_guard
     def match_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
                                              show_default=False)],
