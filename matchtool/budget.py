@@ -157,6 +157,8 @@ class BudgetInput:
     path_loss_exponent: float | None = None
     reference_distance_m: float | None = None
     eirp_limit_dbm: float | None = None
+    warnings: tuple[str, ...] = ()
+    """Warnings found while reading the file (they name it)."""
 
 
 # ----------------------------------------------------------------------------------------------
@@ -427,6 +429,20 @@ def _side(r: _Reader, s: str) -> Side:
                 port=port, vswr=vswr)
 
 
+def _bare_hz_warnings(data: dict[str, Any], path: str) -> list[str]:
+    """A bare number under 100 kHz where an RF frequency belongs is almost always MHz meant."""
+    found: list[tuple[str, Any]] = []
+    for k in ("f_hz", "f_low", "f_high"):
+        v = data.get(k)
+        found += [(f"{k}[{i}]", x) for i, x in enumerate(v)] if isinstance(v, list) else [(k, v)]
+    for s in ("tx", "rx"):
+        t = data.get(f"{s}_cable")
+        if isinstance(t, dict):
+            found.append((f"{s}_cable.loss_ref_hz", t.get("loss_ref_hz")))
+    return [f"{path}: {k} = {v!r} is read as {v:g} Hz (a bare number is Hz); write \"{v:g} MHz\" if that was meant"
+            for k, v in found if isinstance(v, int | float) and not isinstance(v, bool) and 0 < v < 1e5]
+
+
 def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
     """Validate a budget table (as read from TOML) into a :class:`BudgetInput`.
 
@@ -469,7 +485,8 @@ def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
     elif d0 is not None:
         raise r.err("reference_distance_m", "is given without path_loss_exponent", "path_loss_exponent with it")
     eirp_limit = r.number("eirp_limit_dbm")
-    return BudgetInput(path=path, f_hz=f_hz, band=band, distance_m=distance, tx_power_dbm=p_tx,
+    return BudgetInput(warnings=tuple(_bare_hz_warnings(data, path)),
+                       path=path, f_hz=f_hz, band=band, distance_m=distance, tx_power_dbm=p_tx,
                        rx_sensitivity_dbm=sens, tx=_side(r, "tx"), rx=_side(r, "rx"),
                        polarization_angle_deg=angle, polarization_loss_db=pol_db, fade_margin_db=fade,
                        path_loss_exponent=n, reference_distance_m=d0, eirp_limit_dbm=eirp_limit)
@@ -516,10 +533,14 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
          ) -> tuple[np.ndarray, np.ndarray, str]:
     """Return (|Gamma| array, mismatch loss dB array, source) for one end."""
     if side.sweep_path is not None:
+        from .spec import special_file_error
         from .sweep import gamma_at_many, load
 
         sp = Path(side.sweep_path)
         full = sp if sp.is_absolute() else base / sp
+        special = special_file_error(full)
+        if special is not None:
+            raise BudgetError(f"the sweep cannot be used: {special}", path=r_path, key=f"{s}_sweep")
         try:
             sw = load(full, port=side.port)
         except OSError as exc:
@@ -563,7 +584,7 @@ def compute_budget(inp: BudgetInput) -> BudgetResult:
 
 
 def _compute_budget(inp: BudgetInput) -> BudgetResult:
-    warnings: list[str] = []
+    warnings: list[str] = list(inp.warnings)
     base = Path(inp.path).parent
     f = np.asarray(inp.f_hz, dtype=float)
     lam = wavelength_m(f)

@@ -43,6 +43,7 @@ Evaluation rules (see docs/check.md):
 from __future__ import annotations
 
 import math
+import os
 import tomllib
 import unicodedata
 from dataclasses import dataclass, field
@@ -614,9 +615,26 @@ def _load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple
     return sw.f_hz, sw.gamma, list(sw.warnings)
 
 
+def special_file_error(path: str | Path) -> str | None:
+    """The one-line error for a path that exists but is neither a regular file nor a directory
+    (a FIFO, socket or device): reading one can block for ever, so it is never opened."""
+    import stat
+
+    try:
+        mode = os.stat(path).st_mode
+    except (OSError, ValueError):
+        return None  # missing or unreadable: the loader reports it
+    if stat.S_ISREG(mode) or stat.S_ISDIR(mode):
+        return None
+    return f"{path}: is not a regular file (a FIFO, socket or device); expected a Touchstone file"
+
+
 def check_file(path: str | Path, spec: Spec) -> UnitResult:
     """Load one file with the spec's port and impedance and evaluate it; a file that cannot be
     read gives a UnitResult with ``error`` set instead of raising."""
+    special = special_file_error(path)
+    if special is not None:
+        return UnitResult(file=str(path), passed=False, error=special)
     try:
         f_hz, gamma, warnings = _load_reflection(path, spec.port, spec.z0_ohm)
         return evaluate_arrays(f_hz, gamma, spec, file=str(path), warnings=warnings)

@@ -279,3 +279,17 @@ def test_short_circuit_antenna_gives_no_link_not_an_error(cli, workdir):
     r = cli("budget", p, "--json")
     assert r.code == 1, r.err
     assert r.json()["received_power_dbm"] is None and "Infinity" not in r.out
+
+
+@pytest.mark.parametrize(("change", "key"), [({"f_hz": 915}, "f_hz"), ({"f_hz": [915, 2.45e9]}, "f_hz[0]"),
+                                             ({"f_hz": _DROP, "f_low": 902, "f_high": 928}, "f_low"),
+                                             ({"tx_cable": {"length_m": 1, "loss_db_per_m": 0.3, "loss_ref_hz": 1}},
+                                              "tx_cable.loss_ref_hz")])
+def test_bare_number_frequency_below_100_khz_is_named_in_a_warning(cli, workdir, change, key):
+    # "f_hz = 915" is 915 Hz (bare numbers are SI); a budget at 915 Hz is nearly always 915 MHz meant,
+    # and it must not pass silently (the spec reader warns the same way)
+    p = workdir / "link.toml"
+    p.write_text(toml_text(_variant(tx_sweep=_DROP, rx_sweep=_DROP, **change)))
+    r = cli("budget", p, "--json")
+    assert r.code in (0, 1), r.err
+    assert any(w.startswith(f"{p}: {key} = ") and "read as" in w for w in r.json()["warnings"]), r.json()["warnings"]

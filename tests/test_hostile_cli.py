@@ -458,3 +458,63 @@ def test_missing_inputs_for_every_command(cli, work):
 def test_empty_sweep_path_is_named_in_the_error(cli, work):
     line = one_error(cli("inspect", ""))
     assert "''" in line or "empty" in line, line
+
+
+ABSURD = {
+    "delay 1e300 s": ("feedline", SAMPLES / "ant_r2.s1p", "--toward", "radio", "--delay", "1e300s", "--json"),
+    "loss reference 1e-300 Hz": ("feedline", SAMPLES / "ant_r2.s1p", *FEED, "--loss-ref", "1e-300", "--json"),
+    "inductor Q 1e-300": ("match", SAMPLES / "ant_r2.s1p", "--at", "915MHz", "--q-inductor", "1e-300", "--json"),
+}
+
+
+@pytest.mark.parametrize("argv", list(ABSURD.values()), ids=list(ABSURD))
+def test_absurd_finite_options_leave_no_numpy_warning_text(cli, argv):
+    # numpy's "RuntimeWarning: overflow encountered ..." plus a source line is not a message for the user
+    import warnings
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")  # on the command line each one is printed to stderr
+        r = cli(*argv)
+    assert [str(w.message) for w in caught if issubclass(w.category, RuntimeWarning)] == []
+    assert "RuntimeWarning" not in r.err, r.err
+    assert [ln for ln in r.err_lines if not ln.startswith(("warning: ", "error: "))] == [], r.err
+    if r.code in (0, 1):
+        assert "Infinity" not in r.out and "NaN" not in r.out
+        json.loads(r.out)
+
+
+@pytest.fixture
+def deadline():
+    """Fail instead of hanging: SIGALRM after 30 s (a FIFO opened for reading blocks for ever)."""
+    import signal
+
+    def boom(*_):
+        raise TimeoutError("the command hung")
+
+    old = signal.signal(signal.SIGALRM, boom)
+    signal.alarm(30)
+    yield
+    signal.alarm(0)
+    signal.signal(signal.SIGALRM, old)
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+def test_fifo_in_a_lot_is_a_per_file_error_not_a_hang(cli, work, deadline):
+    lot = work / "lot"
+    lot.mkdir()
+    (lot / "a.s1p").write_bytes((work / "a.s1p").read_bytes())
+    os.mkfifo(lot / "pipe.s1p")
+    r = cli("check", lot, "--spec", work / "spec.toml", "--json")
+    assert r.code == 2
+    files = {Path(f["file"]).name: f for f in r.json()["files"]}
+    assert files["a.s1p"]["error"] is None and "not a regular file" in files["pipe.s1p"]["error"]
+    line = one_error(cli("check", lot / "pipe.s1p", "--spec", work / "spec.toml"), code=2)
+    assert "pipe.s1p" in line
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+def test_fifo_as_a_budget_sweep_is_refused_not_read(cli, work, deadline):
+    os.mkfifo(work / "pipe.s1p")
+    (work / "link.toml").write_text((work / "link.toml").read_text().replace("a.s1p", "pipe.s1p"))
+    line = one_error(cli("budget", work / "link.toml"))
+    assert "tx_sweep" in line and "not a regular file" in line
