@@ -14,7 +14,7 @@ from ..outputs import atomic_write_many, check_output
 from ..spec import RequirementResult, Spec, UnitResult, load_spec
 from ..units import format_frequency as ff
 from .common import ForceOpt, JsonOpt, console, emit_json, fmt, warn
-from .match import cli_guard
+from .match import cli_guard, refuse_special_output
 
 EPILOG = """Examples:
 
@@ -171,6 +171,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     if len({str(Path(p).resolve()) for p in targets}) < len(targets):
         raise UsageError("--junit and --csv name the same file", expected="two different output files")
     for p in targets:
+        refuse_special_output(p)
         check_output(p, force)
     spec = load_spec(spec_path)
     inputs = expand_inputs(sweeps)

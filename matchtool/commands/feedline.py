@@ -20,7 +20,7 @@ from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency, parse_length, parse_time
 from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, fmt, frequencies, warn
-from .match import cli_guard, same_file
+from .match import cli_guard, refuse_special_output, same_file
 
 EPILOG = """Examples:
 
@@ -222,6 +222,7 @@ def register(app: typer.Typer) -> None:
         if z0 is not None and not (math.isfinite(z0) and z0 > 0):
             raise UsageError(f"--z0 {z0:g} ohm", expected="a positive, finite impedance")
         if out is not None:
+            refuse_special_output(out)
             check_output(out, force)
             for name, inp in (("sweep", sweep), ("--cable file", cable)):
                 if inp is not None and same_file(out, inp):

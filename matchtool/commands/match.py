@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import functools
 import math
+import os
 import re
 from pathlib import Path
 from typing import Annotated, Any
@@ -11,7 +12,7 @@ from typing import Annotated, Any
 import typer
 
 from .. import matching as mt
-from ..errors import UsageError
+from ..errors import OutputError, UsageError
 from ..outputs import atomic_write_many, check_output
 from ..summary import threshold_from_options
 from ..sweep import load, touchstone_text
@@ -69,6 +70,20 @@ def cli_guard(fn):
             raise typer.Abort() from None
 
     return run
+
+
+def refuse_special_output(path: str | Path) -> None:
+    """Refuse an output path that exists but is not a regular file (a FIFO, device, socket, or a
+    link to one, e.g. ``/dev/stdout``): the atomic rename would replace the node itself."""
+    import stat
+
+    try:
+        mode = os.stat(path).st_mode
+    except (OSError, ValueError):
+        return
+    if not stat.S_ISREG(mode) and not stat.S_ISDIR(mode):  # a directory is refused by check_output
+        raise OutputError("is not a regular file (a FIFO, device or socket); not replaced", path=path,
+                          expected="a plain file name for the output")
 
 
 def same_file(a: str | Path, b: str | Path) -> bool:
@@ -360,6 +375,7 @@ def register(app: typer.Typer) -> None:
             raise UsageError("--write-network and --write-matched name the same file", path=write_network)
         for path in (write_network, write_matched):
             if path is not None:
+                refuse_special_output(path)
                 check_output(path, force)
                 if same_file(path, sweep):
                     raise UsageError("the output would overwrite the input sweep", path=path,
