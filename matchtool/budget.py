@@ -496,7 +496,8 @@ def read_budget_file(path: str | Path) -> BudgetInput:
     """Read and validate a budget TOML file (see :func:`parse_budget`)."""
     p = Path(path)
     try:
-        raw = p.read_bytes()[: MAX_FILE_BYTES + 1]
+        with p.open("rb") as fh:  # never more than the limit into memory
+            raw = fh.read(MAX_FILE_BYTES + 1)
     except FileNotFoundError:
         raise BudgetError("no such file", path=str(path), expected="a budget file (TOML)") from None
     except IsADirectoryError:

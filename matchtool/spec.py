@@ -430,6 +430,12 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
     gpath = Path(g["file"])
     if not gpath.is_absolute():
         gpath = Path(path).parent / gpath
+    special = special_file_error(gpath)
+    if special is not None:
+        raise SpecError(f"golden file unusable: {special}", path=path, key="golden.file")
+    if gpath.is_dir():
+        raise SpecError(f"golden file {str(gpath)!r} is a directory", path=path, key="golden.file",
+                        expected="a Touchstone file")
     if not gpath.is_file():
         raise SpecError(f"golden file {str(gpath)!r} does not exist", path=path, key="golden.file")
     try:
@@ -615,18 +621,24 @@ def _load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple
     return sw.f_hz, sw.gamma, list(sw.warnings)
 
 
-def special_file_error(path: str | Path) -> str | None:
-    """The one-line error for a path that exists but is neither a regular file nor a directory
-    (a FIFO, socket or device): reading one can block for ever, so it is never opened."""
+SPECIAL_FILE = "is not a regular file (a FIFO, socket or device)"
+
+
+def is_special_file(path: str | Path) -> bool:
+    """Whether ``path`` exists but is neither a regular file nor a directory (a FIFO, socket or
+    device, or a link to one): reading one can block for ever or never end, so it is never opened."""
     import stat
 
     try:
         mode = os.stat(path).st_mode
     except (OSError, ValueError):
-        return None  # missing or unreadable: the loader reports it
-    if stat.S_ISREG(mode) or stat.S_ISDIR(mode):
-        return None
-    return f"{path}: is not a regular file (a FIFO, socket or device); expected a Touchstone file"
+        return False  # missing or unreadable: the reader reports it
+    return not (stat.S_ISREG(mode) or stat.S_ISDIR(mode))
+
+
+def special_file_error(path: str | Path) -> str | None:
+    """The one-line error for a sweep path that :func:`is_special_file`, else None."""
+    return f"{path}: {SPECIAL_FILE}; expected a Touchstone file" if is_special_file(path) else None
 
 
 def check_file(path: str | Path, spec: Spec) -> UnitResult:

@@ -518,3 +518,27 @@ def test_fifo_as_a_budget_sweep_is_refused_not_read(cli, work, deadline):
     (work / "link.toml").write_text((work / "link.toml").read_text().replace("a.s1p", "pipe.s1p"))
     line = one_error(cli("budget", work / "link.toml"))
     assert "tx_sweep" in line and "not a regular file" in line
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+@pytest.mark.parametrize("name", [pytest.param(n, marks=pytest.mark.xfail(
+    strict=True, reason="outputs.check_output / atomic_write replace a FIFO or device node with a regular file "
+                        "(as root, '--out /dev/stdout --force' would replace the /dev/stdout link)"))
+    if n.split()[0] in ("plot", "report") else n for n in WRITERS])
+def test_output_onto_a_fifo_is_refused_even_with_force(cli, work, deadline, name):
+    import stat
+
+    args, out = writers(work)[name]
+    fifo = out.with_name("pipe" + out.suffix)
+    os.mkfifo(fifo)
+    line = one_error(cli(*args, fifo, "--force"))
+    assert str(fifo) in line
+    assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
+    assert leftovers(work) == []
+
+
+@pytest.mark.skipif(not os.path.exists("/dev/zero"), reason="needs /dev/zero")
+def test_endless_spec_or_budget_is_refused_at_the_size_limit(cli, work, deadline):
+    # /dev/zero never ends: the readers must stop at their size limit, not read it whole
+    for argv in (("check", work / "a.s1p", "--spec", "/dev/zero"), ("budget", "/dev/zero")):
+        assert "larger than" in one_error(cli(*argv))

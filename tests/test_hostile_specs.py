@@ -309,3 +309,19 @@ def test_huge_spec_is_not_read_whole(workdir, monkeypatch):
     with pytest.raises(sp.SpecError, match="larger than"):
         sp.load_spec(p)
     assert p not in seen
+
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+def test_golden_file_that_is_a_fifo_is_named_and_never_opened(cli, workdir):
+    os.mkfifo(workdir / "pipe.s1p")  # opening it for reading would block for ever
+    spec = workdir / "spec.toml"
+    spec.write_text(toml_text(_set(valid_doc(), "golden", "file", "pipe.s1p")))
+    line = _check_refused(cli, workdir, spec, "golden.file")
+    assert "not a regular file" in line
+
+
+def test_golden_file_that_is_a_directory_says_so(cli, workdir):
+    spec = workdir / "spec.toml"
+    spec.write_text(toml_text(_set(valid_doc(), "golden", "file", ".")))
+    assert "is a directory" in _check_refused(cli, workdir, spec, "golden.file")
