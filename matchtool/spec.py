@@ -512,7 +512,7 @@ def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
                         f"(measure at least {MIN_BAND_SAMPLES} points in the band)")
     k = int(np.argmax(mag))
     worst_f = float(fb[k])
-    worst_rl = min(float(rf.return_loss_db(mag[k])), _CAP_DB)
+    worst_rl = min(float(rf.return_loss_db(mag[k])), _CAP_DB) + 0.0  # + 0.0: a short gives 0.0, not -0.0
     margin = worst_rl - b.min_return_loss_db
     if b.limit_key == "min_return_loss_db":
         worst = worst_rl
@@ -566,7 +566,7 @@ def evaluate_arrays(f_hz: np.ndarray, gamma: np.ndarray, spec: Spec, file: str =
     for b in spec.bands:
         reqs.extend(_band_results(b, f, gamma, file, warns))
     i = int(np.argmin(np.abs(gamma)))  # the sample with the smallest |Gamma| (contract's 'best')
-    best_f, best_rl = float(f[i]), float(rf.return_loss_db(gamma[i]))
+    best_f, best_rl = float(f[i]), float(rf.return_loss_db(gamma[i])) + 0.0  # 0.0, not -0.0, for a short
     if spec.resonance is not None:
         r = spec.resonance
         m_hz = min(best_f - r.f_low_hz, r.f_high_hz - best_f)

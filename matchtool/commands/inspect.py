@@ -38,7 +38,7 @@ def point_doc(p: PointMetrics) -> dict[str, Any]:
     """The contract's ``at`` entry for one frequency."""
     z = p.z_ohm
     return {"f_hz": p.f_hz, "gamma_re": p.gamma.real, "gamma_im": p.gamma.imag, "gamma_mag": p.gamma_mag,
-            "s11_db": p.s11_db, "return_loss_db": p.return_loss_db, "vswr": p.vswr,
+            "s11_db": p.s11_db + 0.0, "return_loss_db": p.return_loss_db + 0.0, "vswr": p.vswr,  # + 0.0: no -0.0
             "mismatch_loss_db": p.mismatch_loss_db, "delivered_fraction": p.delivered_fraction,
             "z_re_ohm": z.real, "z_im_ohm": z.imag}
 
@@ -66,7 +66,7 @@ def render_summary(s: SweepSummary) -> None:
     c.print(f"[bold]{s.path}[/bold]  port {s.port}, Z0 {s.z0_ohm:g} ohm, {s.points} points, "
             f"{ff(s.f_start_hz)} to {ff(s.f_stop_hz)}")
     b = s.best
-    c.print(f"Best match (smallest |Gamma| sample): {ff(b.f_hz)}  return loss {fmt(b.return_loss_db)} dB "
+    c.print(f"Best match (smallest |Gamma| sample): {ff(b.f_hz)}  return loss {fmt(b.return_loss_db + 0.0)} dB "
             f"(S11 {fmt(b.s11_db)} dB)  VSWR {fmt(b.vswr)}  delivered {fmt(100 * b.delivered_fraction, 1)} %")
     thr = s.threshold_return_loss_db
     title = f"Bands with return loss >= {thr:.2f} dB (S11 <= {-thr:.2f} dB)"
@@ -90,7 +90,7 @@ def render_summary(s: SweepSummary) -> None:
             t.add_column(col, justify="right")
         for p in s.at:
             z = p.z_ohm
-            t.add_row(ff(p.f_hz), f"{p.gamma_mag:.4f}", fmt(p.s11_db), fmt(p.return_loss_db), fmt(p.vswr),
+            t.add_row(ff(p.f_hz), f"{p.gamma_mag:.4f}", fmt(p.s11_db + 0.0), fmt(p.return_loss_db + 0.0), fmt(p.vswr),
                       fmt(p.mismatch_loss_db, 3), f"{100 * p.delivered_fraction:.1f} %",
                       f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f}")
         c.print(t)
