@@ -542,3 +542,31 @@ def test_endless_spec_or_budget_is_refused_at_the_size_limit(cli, work, deadline
     # /dev/zero never ends: the readers must stop at their size limit, not read it whole
     for argv in (("check", work / "a.s1p", "--spec", "/dev/zero"), ("budget", "/dev/zero")):
         assert "larger than" in one_error(cli(*argv))
+
+
+def test_short_circuit_reports_zero_return_loss_not_minus_zero(cli, tmp_path):
+    # |Gamma| = 1: RL = -20 log10(1) = 0 dB; IEEE arithmetic gives -0.0, which no report should show
+    p, _ = _awkward(tmp_path)["short circuit"]
+    (tmp_path / "spec.toml").write_text(SPEC)
+    r = cli("check", p, "--spec", tmp_path / "spec.toml", "--json", "--csv", tmp_path / "r.csv")
+    assert r.code == 1, r.err
+    req = r.json()["files"][0]["requirements"][0]
+    assert req["worst_return_loss_db"] == 0.0 and "-0.0" not in r.out
+    assert "-0.0" not in (tmp_path / "r.csv").read_text()
+    for argv in (("inspect", p, "--json", "--at", "915MHz"), ("inspect", p, "--at", "915MHz")):
+        r = cli(*argv)
+        assert r.code == 0 and "-0.0" not in r.out, r.out
+
+
+@pytest.mark.parametrize("how", [("--delay", "1ns"), ("--length", "1m", "--velocity-factor", "0.66",
+                                                       "--loss-db-per-m", "0")])
+def test_short_through_a_lossless_line_stays_physical(cli, tmp_path, how):
+    # a lossless line only rotates Gamma: |Gamma| = 1 stays 1 (Pozar 4th ed. eq. 2.42, Gamma(l) =
+    # Gamma_L e^{-2j beta l}); rounding to 1 + 1e-16 must not be reported as non-physical, and the
+    # return loss of 0 dB must not print as -0.0
+    p, _ = _awkward(tmp_path)["short circuit"]
+    r = cli("feedline", p, "--toward", "radio", *how, "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["nonphysical_points"] == 0 and "-0.0" not in r.out
+    assert not any("|Gamma| > 1" in w for w in doc["warnings"]), doc["warnings"]

@@ -20,7 +20,7 @@ from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency, parse_length, parse_time
 from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, fmt, frequencies, warn
-from .match import cli_guard, refuse_special_output, same_file
+from .match import cli_guard, no_negative_zero, refuse_special_output, same_file
 
 EPILOG = """Examples:
 
@@ -289,7 +289,7 @@ def register(app: typer.Typer) -> None:
             "warnings": warnings,
         }
         if json_out:
-            emit_json(doc)
+            emit_json(no_negative_zero(doc))
         else:
             render(doc, feed_at, worst)
             warn(warnings)

@@ -86,6 +86,18 @@ def refuse_special_output(path: str | Path) -> None:
                           expected="a plain file name for the output")
 
 
+def no_negative_zero(obj: Any) -> Any:
+    """``obj`` (nested dicts / lists) with every float -0.0 written as 0.0 (a return loss of -0.0 dB
+    is IEEE arithmetic for |Gamma| = 1, not a measurement)."""
+    if isinstance(obj, float):
+        return obj + 0.0
+    if isinstance(obj, dict):
+        return {k: no_negative_zero(v) for k, v in obj.items()}
+    if isinstance(obj, list | tuple):
+        return [no_negative_zero(v) for v in obj]
+    return obj
+
+
 def same_file(a: str | Path, b: str | Path) -> bool:
     """Whether two paths name the same file (after resolving links and ``..``; hard links too)."""
     pa, pb = Path(a), Path(b)
