@@ -23,6 +23,9 @@ from .spec import RequirementResult, Spec, UnitResult, check_file
 
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)$", re.I)
 IN_PROCESS_MAX = 64
+MAX_JOBS_PER_CORE = 4
+"""``--jobs`` above this many processes per usable core is lowered to it (``--jobs 100000`` on a lot
+of a thousand files would otherwise fork a thousand processes on a shared machine)."""
 """Lots of at most this many files run in-process whatever ``jobs`` says (a pool costs more)."""
 
 _GLOB_CHARS = re.compile(r"[*?\[]")
@@ -126,7 +129,8 @@ def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None
               progress: Callable[[int], None] | None = None, fast_malloc: bool = False) -> list[UnitResult]:
     """Evaluate every input against ``spec``; one UnitResult per input, in input order.
 
-    ``jobs`` None means :func:`default_jobs`; ``progress(n)`` is called after each ``n`` files;
+    ``jobs`` None means :func:`default_jobs` (at most :data:`MAX_JOBS_PER_CORE` per core are used);
+    ``progress(n)`` is called after each ``n`` files;
     ``fast_malloc`` calls :func:`tune_malloc` (in this process and the workers) for a large lot.
     Unreadable files give results with ``error`` set; they never stop the others. Ctrl-C stops the
     workers and propagates KeyboardInterrupt.
@@ -151,7 +155,7 @@ def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None
     from concurrent.futures import ProcessPoolExecutor
 
     ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
-    jobs = min(jobs, len(todo))
+    jobs = min(jobs, len(todo), MAX_JOBS_PER_CORE * default_jobs())
     chunk = max(1, min(64, math.ceil(len(todo) / (jobs * 8))))
     done = {}
     pool = ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker, initargs=(spec, tune))

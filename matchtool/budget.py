@@ -157,6 +157,8 @@ class BudgetInput:
     path_loss_exponent: float | None = None
     reference_distance_m: float | None = None
     eirp_limit_dbm: float | None = None
+    warnings: tuple[str, ...] = ()
+    """Warnings found while reading the file (they name it)."""
 
 
 # ----------------------------------------------------------------------------------------------
@@ -427,6 +429,20 @@ def _side(r: _Reader, s: str) -> Side:
                 port=port, vswr=vswr)
 
 
+def _bare_hz_warnings(data: dict[str, Any], path: str) -> list[str]:
+    """A bare number under 100 kHz where an RF frequency belongs is almost always MHz meant."""
+    found: list[tuple[str, Any]] = []
+    for k in ("f_hz", "f_low", "f_high"):
+        v = data.get(k)
+        found += [(f"{k}[{i}]", x) for i, x in enumerate(v)] if isinstance(v, list) else [(k, v)]
+    for s in ("tx", "rx"):
+        t = data.get(f"{s}_cable")
+        if isinstance(t, dict):
+            found.append((f"{s}_cable.loss_ref_hz", t.get("loss_ref_hz")))
+    return [f"{path}: {k} = {v!r} is read as {v:g} Hz (a bare number is Hz); write \"{v:g} MHz\" if that was meant"
+            for k, v in found if isinstance(v, int | float) and not isinstance(v, bool) and 0 < v < 1e5]
+
+
 def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
     """Validate a budget table (as read from TOML) into a :class:`BudgetInput`.
 
@@ -469,7 +485,8 @@ def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
     elif d0 is not None:
         raise r.err("reference_distance_m", "is given without path_loss_exponent", "path_loss_exponent with it")
     eirp_limit = r.number("eirp_limit_dbm")
-    return BudgetInput(path=path, f_hz=f_hz, band=band, distance_m=distance, tx_power_dbm=p_tx,
+    return BudgetInput(warnings=tuple(_bare_hz_warnings(data, path)),
+                       path=path, f_hz=f_hz, band=band, distance_m=distance, tx_power_dbm=p_tx,
                        rx_sensitivity_dbm=sens, tx=_side(r, "tx"), rx=_side(r, "rx"),
                        polarization_angle_deg=angle, polarization_loss_db=pol_db, fade_margin_db=fade,
                        path_loss_exponent=n, reference_distance_m=d0, eirp_limit_dbm=eirp_limit)
@@ -479,7 +496,8 @@ def read_budget_file(path: str | Path) -> BudgetInput:
     """Read and validate a budget TOML file (see :func:`parse_budget`)."""
     p = Path(path)
     try:
-        raw = p.read_bytes()[: MAX_FILE_BYTES + 1]
+        with p.open("rb") as fh:  # never more than the limit into memory
+            raw = fh.read(MAX_FILE_BYTES + 1)
     except FileNotFoundError:
         raise BudgetError("no such file", path=str(path), expected="a budget file (TOML)") from None
     except IsADirectoryError:
@@ -494,6 +512,9 @@ def read_budget_file(path: str | Path) -> BudgetInput:
         raise BudgetError("is not UTF-8 text", path=str(path), expected="a budget file (TOML)") from None
     try:
         data = tomllib.loads(text)
+    except RecursionError:  # arrays or inline tables nested thousands deep
+        raise BudgetError("is not valid TOML (values nested too deeply)", path=str(path),
+                          expected="a budget of plain keys and [tx_cable] / [rx_cable] tables") from None
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc)
         line = None
@@ -513,10 +534,14 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
          ) -> tuple[np.ndarray, np.ndarray, str]:
     """Return (|Gamma| array, mismatch loss dB array, source) for one end."""
     if side.sweep_path is not None:
+        from .spec import special_file_error
         from .sweep import gamma_at_many, load
 
         sp = Path(side.sweep_path)
         full = sp if sp.is_absolute() else base / sp
+        special = special_file_error(full)
+        if special is not None:
+            raise BudgetError(f"the sweep cannot be used: {special}", path=r_path, key=f"{s}_sweep")
         try:
             sw = load(full, port=side.port)
         except OSError as exc:
@@ -531,6 +556,12 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
             raise BudgetError(exc.what, path=r_path, key=f"{s}_sweep",
                               expected=f"an operating frequency inside the sweep {full}") from None
         mag = np.abs(g)
+        if np.any(mag > 1.0):
+            k = int(np.argmax(mag))
+            raise BudgetError(f"the sweep {full} has |Gamma| = {mag[k]:.4f} > 1 at {f[k] / 1e6:.6g} MHz, where the "
+                              "mismatch loss is undefined (a passive antenna cannot reflect more than it receives)",
+                              path=r_path, key=f"{s}_sweep",
+                              expected="a sweep with |S11| <= 1 at the operating frequencies (check the calibration)")
         if np.any(mag >= 0.95):
             k = int(np.argmax(mag))
             warnings.append(f"{full}: |Gamma| = {mag[k]:.4f} (VSWR {float(vswr_of_gamma(mag[k])):.3g}) at {f[k] / 1e6:.6g} MHz; "
@@ -546,9 +577,15 @@ def compute_budget(inp: BudgetInput) -> BudgetResult:
     """Compute the link budget at every frequency of ``inp`` (vectorised over frequency).
 
     Sweeps are read relative to the budget file's folder. A frequency outside a sweep raises
-    BudgetError (never extrapolated).
+    BudgetError (never extrapolated). Absurd but finite inputs (a gain of 1e308 dBi) may give
+    infinite rows; numpy's overflow warnings are kept off stderr (the JSON writer reports them).
     """
-    warnings: list[str] = []
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        return _compute_budget(inp)
+
+
+def _compute_budget(inp: BudgetInput) -> BudgetResult:
+    warnings: list[str] = list(inp.warnings)
     base = Path(inp.path).parent
     f = np.asarray(inp.f_hz, dtype=float)
     lam = wavelength_m(f)

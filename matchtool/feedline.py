@@ -41,6 +41,10 @@ TWO_WAY_WARN_DB = 10.0
 Toward = Literal["radio", "antenna"]
 
 
+NONPHYSICAL_TOL = 1e-9
+"""|Gamma| up to 1 + this counts as 1 (floating-point rounding), not as non-physical."""
+
+
 def matched_loss_db(f_hz: np.ndarray | float, length_m: float, loss_db_per_m: float, loss_ref_hz: float = 1e9,
                     dielectric_loss_db_per_m: float = 0.0) -> np.ndarray:
     """One-way matched loss of a cable in dB at ``f_hz``.
@@ -436,8 +440,10 @@ class FeedPoints:
 
     @property
     def nonphysical(self) -> np.ndarray:
-        """True where either end has |Gamma| > 1 (a passive antenna cannot do that)."""
-        return (np.abs(self.gamma_radio) > 1.0) | (np.abs(self.gamma_antenna) > 1.0) | ~np.isfinite(self.gamma_antenna)
+        """True where either end has |Gamma| > 1 (a passive antenna cannot do that), beyond the
+        rounding of a lossless move (a short through a delay stays at |Gamma| = 1 within 1e-9)."""
+        lim = 1.0 + NONPHYSICAL_TOL
+        return (np.abs(self.gamma_radio) > lim) | (np.abs(self.gamma_antenna) > lim) | ~np.isfinite(self.gamma_antenna)
 
 
 def feed_points(f_hz: np.ndarray, gamma_in: np.ndarray, cable: Cable, toward: Toward, z0_ohm: float) -> FeedPoints:
@@ -570,12 +576,13 @@ class BandWorst:
                             self.one_way_loss_at_worst_radio_db)
 
 
-def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float) -> np.ndarray:
-    """The sweep's samples inside [f_low, f_high] plus both edges (OutOfRangeError outside)."""
+def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float, path: str | None = None) -> np.ndarray:
+    """The sweep's samples inside [f_low, f_high] plus both edges (OutOfRangeError outside, naming
+    the sweep file ``path`` when given)."""
     f = np.asarray(f_hz, dtype=float)
     if f_low_hz < f[0] or f_high_hz > f[-1]:
         raise OutOfRangeError(f"band {f_low_hz / 1e6:.6g} to {f_high_hz / 1e6:.6g} MHz is not inside the sweep "
-                              f"({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz)",
+                              f"({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz)", path=path,
                               expected="a band inside the sweep (never extrapolated)")
     inside = f[(f > f_low_hz) & (f < f_high_hz)]
     return np.unique(np.concatenate(([f_low_hz], inside, [f_high_hz])))
@@ -622,7 +629,7 @@ def masking_text(return_loss_radio_db: float, return_loss_antenna_db: float, one
     itself: 11.0 dB". When the difference of the two return losses is not twice the one-way loss
     (a cable mismatched to the system, or a measured cable that reflects), the rest is named."""
     def f(x: float) -> str:
-        return "inf" if math.isinf(x) else ("n/a" if math.isnan(x) else f"{x:.1f}")
+        return "inf" if math.isinf(x) else ("n/a" if math.isnan(x) else f"{round(x, 1) + 0.0:.1f}")  # no "-0.0"
 
     text = (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(one_way_loss_db)} dB "
             f"is the cable; the antenna itself: {f(return_loss_antenna_db)} dB")

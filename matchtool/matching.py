@@ -211,7 +211,10 @@ def passes_dc(elements: Sequence[Element]) -> bool:
 
 
 def filter_character(elements: Sequence[Element]) -> str:
-    """"low-pass" (series L / shunt C only), "high-pass" (series C / shunt L only), else "band-pass"."""
+    """"low-pass" (series L / shunt C only), "high-pass" (series C / shunt L only), "all-pass" (no
+    part: a direct connection), else "band-pass"."""
+    if not elements:
+        return "all-pass"
     low = [(e.kind == "inductor") == (e.connection == "series") for e in elements]
     if all(low):
         return "low-pass"
@@ -226,7 +229,7 @@ def filter_character(elements: Sequence[Element]) -> str:
 class LNetwork:
     """A network shape with exact values: ``topology`` and ``elements`` (radio side first)."""
 
-    topology: str  # "shunt-at-antenna", "series-at-antenna", "series", "shunt"
+    topology: str  # "shunt-at-antenna", "series-at-antenna", "series", "shunt", "direct" (no part)
     elements: tuple[Element, ...]
 
     @property
@@ -248,7 +251,8 @@ def synthesize_at(z_load_ohm: complex, f_hz: float, z0_ohm: float, single_part_r
       G_L <= 1/Z0 (always true for R_L > Z0; Pozar 4th ed. eqs. 5.3a-b).
     * "series-at-antenna": shunt part toward the radio, series part at the antenna; needs
       R_L <= Z0 (Pozar 4th ed. eqs. 5.6a-b).
-    Each gives two solutions, so 0 to 4 in all (0 when R_L <= 0). A solution whose part would have
+    Each gives two solutions, so 0 to 4 in all (0 when R_L <= 0); a load that is Z0 already gives
+    the single partless network ``LNetwork("direct", ())``. A solution whose part would have
     zero reactance degenerates to a single part ("series" or "shunt" topology). With
     ``single_part_rl_db`` set, a single series part that cancels X_L or a single shunt part that
     cancels B_L is added when it alone reaches that return loss at ``f_hz``.
@@ -258,6 +262,7 @@ def synthesize_at(z_load_ohm: complex, f_hz: float, z0_ohm: float, single_part_r
     if not (r > 0 and math.isfinite(r) and math.isfinite(x) and z0_ohm > 0 and f_hz > 0):
         return []
     out: list[LNetwork] = []
+    matched = False  # a solution needs no part at all: the load is Z0 already
     y = 1 / z
     g, b_l = y.real, y.imag
     tol = 1e-12
@@ -273,6 +278,8 @@ def synthesize_at(z_load_ohm: complex, f_hz: float, z0_ohm: float, single_part_r
             topo = "shunt-at-antenna" if len(parts) == 2 else (parts[0].connection if parts else "none")
             if parts:
                 out.append(LNetwork(topo, tuple(parts)))
+            else:
+                matched = True
     # series part at the antenna: Z' = R + jX', Re(1/Z') = 1/Z0
     disc = r * (z0_ohm - r)
     if disc >= -tol * r * z0_ohm:
@@ -285,6 +292,8 @@ def synthesize_at(z_load_ohm: complex, f_hz: float, z0_ohm: float, single_part_r
             topo = "series-at-antenna" if len(parts) == 2 else (parts[0].connection if parts else "none")
             if parts:
                 out.append(LNetwork(topo, tuple(parts)))
+            else:
+                matched = True
     if single_part_rl_db is not None:
         g_lim = 10 ** (-single_part_rl_db / 20)
         if abs((r - z0_ohm) / (r + z0_ohm)) <= g_lim:
@@ -302,6 +311,8 @@ def synthesize_at(z_load_ohm: complex, f_hz: float, z0_ohm: float, single_part_r
                                                    for a, b in zip(m.elements, n.elements, strict=True))
                    for m in uniq):
             uniq.append(n)
+    if matched and not uniq:
+        uniq.append(LNetwork("direct", ()))  # no part: connect the load straight to the radio
     return uniq
 
 
@@ -479,6 +490,8 @@ def _yield(net: LNetwork, fb: np.ndarray, gb: np.ndarray, z0: float, q: PartQ, y
     """Fraction of Monte Carlo builds whose worst return loss over (fb) meets ``threshold_db``."""
     rng = np.random.default_rng(ys.seed)
     g_lim2 = 10 ** (-threshold_db / 10)
+    if not net.elements:  # a direct connection has no part to vary: every build is the load itself
+        return 1.0 if float(np.max(np.abs(gb) ** 2)) <= g_lim2 else 0.0
     tols = [ys.tolerance_l if e.kind == "inductor" else ys.tolerance_c for e in net.elements]
     draws = [e.value * (1 + t * rng.uniform(-1, 1, size=(ys.trials, 1))) for e, t in zip(net.elements, tols, strict=True)]
     w = TWO_PI * fb

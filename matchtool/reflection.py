@@ -16,13 +16,13 @@ ArrayLike = np.ndarray | complex | float
 def return_loss_db(gamma: ArrayLike) -> np.ndarray:
     """Return loss in dB, positive for a passive load; +inf at a perfect match."""
     with np.errstate(divide="ignore"):
-        return -20.0 * np.log10(np.abs(gamma))
+        return -20.0 * np.log10(np.abs(gamma)) + 0.0  # + 0.0: |Gamma| = 1 gives 0.0, not -0.0
 
 
 def s11_db(gamma: ArrayLike) -> np.ndarray:
     """|S11| in dB (= -return loss): negative for a passive load."""
     with np.errstate(divide="ignore"):
-        return 20.0 * np.log10(np.abs(gamma))
+        return 20.0 * np.log10(np.abs(gamma)) + 0.0
 
 
 def vswr(gamma: ArrayLike) -> np.ndarray:

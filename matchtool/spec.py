@@ -43,7 +43,9 @@ Evaluation rules (see docs/check.md):
 from __future__ import annotations
 
 import math
+import os
 import tomllib
+import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -74,6 +76,8 @@ _RES_KEYS = {"f_low", "f_high"}
 _GOLDEN_KEYS = {"file", "band", "max_deviation_db", "port", "rl_ceiling_db"}
 _CAP_DB = 400.0  # stands in for +inf return loss (a perfect sample), as in bands.py
 MIN_BAND_SAMPLES = 3
+MAX_SPEC_BYTES = 1_000_000
+"""A spec file larger than this is refused unread (a real spec is a few hundred bytes)."""
 
 
 # --------------------------------------------------------------------------------------------- model
@@ -262,6 +266,15 @@ def _bare_hz_warning(t: dict, path: str, prefix: str, warnings: list[str]) -> No
                             f"write \"{v:g} MHz\" if that was meant")
 
 
+def _control_free(name: str, path: str, key: str) -> None:
+    """Refuse a name holding a control character (NUL, ESC, ...): it would reach terminals, XML
+    and CSV reports, where it corrupts the output or cannot be written at all."""
+    bad = next((c for c in name if unicodedata.category(c) == "Cc"), None)
+    if bad is not None:
+        raise SpecError(f"name holds the control character U+{ord(bad):04X}", path=path, key=key,
+                        expected="printable text")
+
+
 def _band(t: Any, i: int, path: str, seen: set[str]) -> BandSpec:
     prefix = f"band[{i}]."
     if not isinstance(t, dict):
@@ -271,6 +284,7 @@ def _band(t: Any, i: int, path: str, seen: set[str]) -> BandSpec:
     if not isinstance(name, str) or not name.strip():
         raise SpecError("missing or empty band name", path=path, key=prefix + "name", expected="a string")
     name = name.strip()
+    _control_free(name, path, prefix + "name")
     if name in seen:
         raise SpecError(f"duplicate band name {name!r}", path=path, key=prefix + "name",
                         expected="a different name for each [[band]]")
@@ -314,6 +328,9 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
     path = str(path)
     try:
         doc = tomllib.loads(text)
+    except RecursionError:  # arrays or inline tables nested thousands deep
+        raise SpecError("not valid TOML: values nested too deeply", path=path,
+                        expected="a spec of plain keys, [[band]], [resonance] and [golden] tables") from None
     except tomllib.TOMLDecodeError as exc:
         msg = str(exc)
         line = None
@@ -328,6 +345,7 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
     name = doc.get("name", "")
     if not isinstance(name, str):
         raise SpecError(f"name is {name!r}", path=path, key="name", expected="a string")
+    _control_free(name, path, "name")
     if port is None:
         port_v = doc.get("port", 1)
         if isinstance(port_v, bool) or not isinstance(port_v, int) or port_v < 1:
@@ -412,6 +430,12 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
     gpath = Path(g["file"])
     if not gpath.is_absolute():
         gpath = Path(path).parent / gpath
+    special = special_file_error(gpath)
+    if special is not None:
+        raise SpecError(f"golden file unusable: {special}", path=path, key="golden.file")
+    if gpath.is_dir():
+        raise SpecError(f"golden file {str(gpath)!r} is a directory", path=path, key="golden.file",
+                        expected="a Touchstone file")
     if not gpath.is_file():
         raise SpecError(f"golden file {str(gpath)!r} does not exist", path=path, key="golden.file")
     try:
@@ -435,11 +459,14 @@ def load_spec(path: str | Path, port: int | None = None, z0_ohm: float | None = 
     if p.is_dir():
         raise SpecError("is a directory", path=path, expected="a TOML spec file")
     try:
-        raw = p.read_bytes()
+        with p.open("rb") as fh:
+            raw = fh.read(MAX_SPEC_BYTES + 1)
     except FileNotFoundError:
         raise SpecError("no such spec file", path=path) from None
     except OSError as exc:
         raise SpecError(f"cannot read: {exc.strerror or exc}", path=path) from None
+    if len(raw) > MAX_SPEC_BYTES:
+        raise SpecError(f"is larger than {MAX_SPEC_BYTES} bytes", path=path, expected="a small TOML spec file")
     text = _decode(raw, str(path))
     if not text.strip():
         raise SpecError("the spec file is empty (an empty spec would pass every unit)", path=path,
@@ -485,7 +512,7 @@ def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
                         f"(measure at least {MIN_BAND_SAMPLES} points in the band)")
     k = int(np.argmax(mag))
     worst_f = float(fb[k])
-    worst_rl = min(float(rf.return_loss_db(mag[k])), _CAP_DB)
+    worst_rl = min(float(rf.return_loss_db(mag[k])), _CAP_DB) + 0.0  # + 0.0: a short gives 0.0, not -0.0
     margin = worst_rl - b.min_return_loss_db
     if b.limit_key == "min_return_loss_db":
         worst = worst_rl
@@ -539,7 +566,7 @@ def evaluate_arrays(f_hz: np.ndarray, gamma: np.ndarray, spec: Spec, file: str =
     for b in spec.bands:
         reqs.extend(_band_results(b, f, gamma, file, warns))
     i = int(np.argmin(np.abs(gamma)))  # the sample with the smallest |Gamma| (contract's 'best')
-    best_f, best_rl = float(f[i]), float(rf.return_loss_db(gamma[i]))
+    best_f, best_rl = float(f[i]), float(rf.return_loss_db(gamma[i])) + 0.0  # 0.0, not -0.0, for a short
     if spec.resonance is not None:
         r = spec.resonance
         m_hz = min(best_f - r.f_low_hz, r.f_high_hz - best_f)
@@ -594,9 +621,32 @@ def _load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple
     return sw.f_hz, sw.gamma, list(sw.warnings)
 
 
+SPECIAL_FILE = "is not a regular file (a FIFO, socket or device)"
+
+
+def is_special_file(path: str | Path) -> bool:
+    """Whether ``path`` exists but is neither a regular file nor a directory (a FIFO, socket or
+    device, or a link to one): reading one can block for ever or never end, so it is never opened."""
+    import stat
+
+    try:
+        mode = os.stat(path).st_mode
+    except (OSError, ValueError):
+        return False  # missing or unreadable: the reader reports it
+    return not (stat.S_ISREG(mode) or stat.S_ISDIR(mode))
+
+
+def special_file_error(path: str | Path) -> str | None:
+    """The one-line error for a sweep path that :func:`is_special_file`, else None."""
+    return f"{path}: {SPECIAL_FILE}; expected a Touchstone file" if is_special_file(path) else None
+
+
 def check_file(path: str | Path, spec: Spec) -> UnitResult:
     """Load one file with the spec's port and impedance and evaluate it; a file that cannot be
     read gives a UnitResult with ``error`` set instead of raising."""
+    special = special_file_error(path)
+    if special is not None:
+        return UnitResult(file=str(path), passed=False, error=special)
     try:
         f_hz, gamma, warnings = _load_reflection(path, spec.port, spec.z0_ohm)
         return evaluate_arrays(f_hz, gamma, spec, file=str(path), warnings=warnings)

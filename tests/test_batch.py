@@ -112,3 +112,22 @@ def test_keyboard_interrupt_propagates(tmp_path, spec, monkeypatch):
     monkeypatch.setattr(batch, "check_file", boom)
     with pytest.raises(KeyboardInterrupt):
         batch.run_batch(batch.expand_inputs([tmp_path]), spec, jobs=1)
+
+
+def test_absurd_job_count_is_capped_per_core(tmp_path, spec, monkeypatch):
+    # --jobs 100000 on a lot of 80 files may not fork 80 processes on a 1-core machine
+    import concurrent.futures
+
+    files = make_lot(tmp_path, np.linspace(905e6, 925e6, 80))
+    seen = []
+    real = concurrent.futures.ProcessPoolExecutor
+
+    def recording(*a, max_workers=None, **k):
+        seen.append(max_workers)
+        return real(*a, max_workers=max_workers, **k)
+
+    monkeypatch.setattr(concurrent.futures, "ProcessPoolExecutor", recording)
+    monkeypatch.setattr(batch, "default_jobs", lambda: 1)
+    results = batch.run_batch(files, spec, jobs=100_000)
+    assert seen == [batch.MAX_JOBS_PER_CORE]
+    assert [r.file for r in results] == [str(f) for f in files] and all(r.error is None for r in results)

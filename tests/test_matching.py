@@ -415,3 +415,13 @@ def test_skrf_network_helpers_cascade():
     q = m.PartQ(40, 200)
     net = m.network_2port(f, els, 50.0, q)
     assert np.allclose((net ** sw.network).s[:, 0, 0], m.matched_network(sw, els, q).s[:, 0, 0], atol=1e-12)
+
+
+@pytest.mark.parametrize("z0", [50.0, 75.0])
+def test_load_already_at_z0_needs_no_part(z0):
+    # identity: a load equal to Z0 reflects nothing (Gamma = (Z - Z0) / (Z + Z0) = 0), so the only
+    # network is a direct connection; it must not be reported as "no network matches"
+    nets = m.synthesize_at(complex(z0, 0.0), 915e6, z0)
+    assert [(n.topology, n.elements) for n in nets] == [("direct", ())]
+    assert abs(_gin_exact(nets[0], complex(z0, 0.0), 915e6, z0)) == 0.0
+    assert m.filter_character(()) == "all-pass"

@@ -10,6 +10,7 @@ import typer
 from ..budget import BudgetPoint, BudgetResult, budget
 from ..units import format_frequency as ff
 from .common import JsonOpt, console, emit_json, fmt, warn
+from .match import cli_guard
 
 HELP = """Link budget (Friis, in dB) from a TOML file, with the mismatch of the measured antenna sweeps.
 
@@ -138,6 +139,7 @@ def render_budget(res: BudgetResult) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("budget", help=HELP, epilog=EPILOG)
+    @cli_guard
     def budget_cmd(
         file: Annotated[str, typer.Argument(metavar="FILE.toml", help="Budget file (TOML).", show_default=False)],
         json_out: JsonOpt = False,

@@ -14,6 +14,7 @@ from ..outputs import atomic_write_many, check_output
 from ..spec import RequirementResult, Spec, UnitResult, load_spec
 from ..units import format_frequency as ff
 from .common import ForceOpt, JsonOpt, console, emit_json, fmt, warn
+from .match import cli_guard, refuse_special_output
 
 EPILOG = """Examples:
 
@@ -170,6 +171,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     if len({str(Path(p).resolve()) for p in targets}) < len(targets):
         raise UsageError("--junit and --csv name the same file", expected="two different output files")
     for p in targets:
+        refuse_special_output(p)
         check_output(p, force)
     spec = load_spec(spec_path)
     inputs = expand_inputs(sweeps)
@@ -180,6 +182,10 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
         if str(Path(p).resolve()) in protected:
             raise UsageError("an output would overwrite one of the inputs", path=p,
                              expected="a report file name that is not a sweep or the spec")
+    for opt, p, ext, kind in (("--junit", junit, ".xml", "JUnit XML"), ("--csv", csv_path, ".csv", "CSV")):
+        if p and Path(p).suffix.lower() != ext:
+            raise UsageError(f"{opt} needs a {ext} file name for the {kind} report", path=p,
+                             expected=f"e.g. results{ext}")
     n_jobs = default_jobs() if jobs is None else jobs
     if sys.stderr.isatty() and len(inputs) >= PROGRESS_MIN:
         with _Progress(len(inputs)) as bar:
@@ -213,6 +219,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
 
 def register(app: typer.Typer) -> None:
     @app.command("check", epilog=EPILOG)
+    @cli_guard
     def check_cmd(
         sweeps: Annotated[list[str], typer.Argument(
             metavar="SWEEP...", help="Touchstone files, glob patterns ('lot7/**/*.s1p') or directories (searched "

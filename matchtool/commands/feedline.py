@@ -20,6 +20,7 @@ from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency, parse_length, parse_time
 from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, fmt, frequencies, warn
+from .match import cli_guard, no_negative_zero, refuse_special_output, same_file
 
 EPILOG = """Examples:
 
@@ -169,6 +170,7 @@ def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWor
 
 def register(app: typer.Typer) -> None:
     @app.command("feedline", epilog=EPILOG)
+    @cli_guard
     def feedline_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],
@@ -220,7 +222,12 @@ def register(app: typer.Typer) -> None:
         if z0 is not None and not (math.isfinite(z0) and z0 > 0):
             raise UsageError(f"--z0 {z0:g} ohm", expected="a positive, finite impedance")
         if out is not None:
+            refuse_special_output(out)
             check_output(out, force)
+            for name, inp in (("sweep", sweep), ("--cable file", cable)):
+                if inp is not None and same_file(out, inp):
+                    raise UsageError(f"--out would overwrite the input {name}", path=out,
+                                     expected="an output file name that is not one of the inputs")
             if ports_from_name(out) is None:
                 raise UsageError(f"cannot tell the Touchstone kind from the name {Path(out).name!r}", path=out,
                                  expected="a .sNp file name with N the input's port count")
@@ -255,7 +262,7 @@ def register(app: typer.Typer) -> None:
             q = np.asarray(at_hz, dtype=float)
             feed_at = fl.feed_points(q, gamma_at_many(f, g_in, q, sw.path), cab, toward, z_sys)
         if band_hz is not None:
-            fb = fl.band_frequencies(f, *band_hz)
+            fb = fl.band_frequencies(f, *band_hz, path=sw.path)
         else:
             fb = f
         feed_band = fl.feed_points(fb, gamma_at_many(f, g_in, fb, sw.path), cab, toward, z_sys)
@@ -282,7 +289,7 @@ def register(app: typer.Typer) -> None:
             "warnings": warnings,
         }
         if json_out:
-            emit_json(doc)
+            emit_json(no_negative_zero(doc))
         else:
             render(doc, feed_at, worst)
             warn(warnings)

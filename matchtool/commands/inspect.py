@@ -22,6 +22,7 @@ from .common import (
     frequencies,
     warn,
 )
+from .match import cli_guard
 
 EPILOG = """Examples:
 
@@ -37,7 +38,7 @@ def point_doc(p: PointMetrics) -> dict[str, Any]:
     """The contract's ``at`` entry for one frequency."""
     z = p.z_ohm
     return {"f_hz": p.f_hz, "gamma_re": p.gamma.real, "gamma_im": p.gamma.imag, "gamma_mag": p.gamma_mag,
-            "s11_db": p.s11_db, "return_loss_db": p.return_loss_db, "vswr": p.vswr,
+            "s11_db": p.s11_db + 0.0, "return_loss_db": p.return_loss_db + 0.0, "vswr": p.vswr,  # + 0.0: no -0.0
             "mismatch_loss_db": p.mismatch_loss_db, "delivered_fraction": p.delivered_fraction,
             "z_re_ohm": z.real, "z_im_ohm": z.imag}
 
@@ -102,6 +103,7 @@ def render_summary(s: SweepSummary) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("inspect", epilog=EPILOG)
+    @cli_guard
     def inspect_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],

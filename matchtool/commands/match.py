@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import functools
 import math
+import os
 import re
 from pathlib import Path
 from typing import Annotated, Any
@@ -10,7 +12,7 @@ from typing import Annotated, Any
 import typer
 
 from .. import matching as mt
-from ..errors import UsageError
+from ..errors import OutputError, UsageError
 from ..outputs import atomic_write_many, check_output
 from ..summary import threshold_from_options
 from ..sweep import load, touchstone_text
@@ -42,6 +44,69 @@ EPILOG = """Examples:
 """
 
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
+
+
+def cli_guard(fn):
+    """Wrap a command so that Ctrl-C reaches the CLI's handler (one line, exit status 130), and
+    numpy's floating-point RuntimeWarnings (overflow for absurd but finite options such as
+    ``--delay 1e300s``) never reach stderr as loose text: the results carry inf / NaN, which the
+    tables show as 'inf' / 'n/a' and the JSON writer turns into null with a named warning.
+
+    typer turns KeyboardInterrupt into a silent ``Exit(130)``; re-raised as ``typer.Abort`` it is
+    reported by ``matchtool.cli.main``. Outputs are written atomically, so nothing is half-written.
+    """
+
+    @functools.wraps(fn)
+    def run(*args, **kwargs):
+        import warnings
+
+        import numpy as np
+
+        try:
+            with np.errstate(all="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)  # numpy's "All-NaN slice" and the like
+                return fn(*args, **kwargs)
+        except KeyboardInterrupt:
+            raise typer.Abort() from None
+
+    return run
+
+
+def refuse_special_output(path: str | Path) -> None:
+    """Refuse an output path that exists but is not a regular file (a FIFO, device, socket, or a
+    link to one, e.g. ``/dev/stdout``): the atomic rename would replace the node itself."""
+    import stat
+
+    try:
+        mode = os.stat(path).st_mode
+    except (OSError, ValueError):
+        return
+    if not stat.S_ISREG(mode) and not stat.S_ISDIR(mode):  # a directory is refused by check_output
+        raise OutputError("is not a regular file (a FIFO, device or socket); not replaced", path=path,
+                          expected="a plain file name for the output")
+
+
+def no_negative_zero(obj: Any) -> Any:
+    """``obj`` (nested dicts / lists) with every float -0.0 written as 0.0 (a return loss of -0.0 dB
+    is IEEE arithmetic for |Gamma| = 1, not a measurement)."""
+    if isinstance(obj, float):
+        return obj + 0.0
+    if isinstance(obj, dict):
+        return {k: no_negative_zero(v) for k, v in obj.items()}
+    if isinstance(obj, list | tuple):
+        return [no_negative_zero(v) for v in obj]
+    return obj
+
+
+def same_file(a: str | Path, b: str | Path) -> bool:
+    """Whether two paths name the same file (after resolving links and ``..``; hard links too)."""
+    pa, pb = Path(a), Path(b)
+    try:
+        if pa.exists() and pb.exists():
+            return pa.samefile(pb)
+        return pa.resolve() == pb.resolve()
+    except OSError:
+        return False
 
 
 def parse_part_value(text: str, unit: str, option: str) -> float:
@@ -257,6 +322,7 @@ def render(r: mt.MatchResult) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("match", epilog=EPILOG)
+    @cli_guard
     def match_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
                                              show_default=False)],
@@ -321,7 +387,11 @@ def register(app: typer.Typer) -> None:
             raise UsageError("--write-network and --write-matched name the same file", path=write_network)
         for path in (write_network, write_matched):
             if path is not None:
+                refuse_special_output(path)
                 check_output(path, force)
+                if same_file(path, sweep):
+                    raise UsageError("the output would overwrite the input sweep", path=path,
+                                     expected="an output file name that is not the input")
         if write_network is not None and not write_network.lower().endswith(".s2p"):
             raise UsageError("--write-network needs a .s2p file name", path=write_network)
         if write_matched is not None and not write_matched.lower().endswith(".s1p"):

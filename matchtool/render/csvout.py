@@ -26,7 +26,7 @@ def _cell(x) -> str:
     if isinstance(x, float):
         if not math.isfinite(x):
             return "inf" if x > 0 else ("-inf" if x < 0 else "nan")
-        return repr(x)
+        return repr(x + 0.0)  # -0.0 (the return loss of a short, -20 log10 1) is written as 0.0
     return str(x).encode("utf-8", "replace").decode("utf-8")  # a file name that is not valid UTF-8
 
 
