@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+import stat
 import tempfile
 from collections.abc import Iterable
 from pathlib import Path
@@ -22,9 +23,19 @@ def check_output(path: str | Path, force: bool = False) -> Path:
     Raises OutputError when the file exists and ``force`` is false, when the path is a directory,
     or when its directory does not exist.
     """
+    if not str(path):
+        raise OutputError("empty output file name", path="''", expected="a file name for the output")
     p = Path(path)
     if p.is_dir():
         raise OutputError("is a directory", path=p, expected="a file name for the output")
+    try:
+        mode = os.lstat(p).st_mode
+    except OSError:
+        mode = None
+    if mode is not None and not (stat.S_ISREG(mode) or stat.S_ISLNK(mode) and p.is_file()):
+        # a rename would replace a FIFO, device or socket (as root even /dev/stdout) by a file
+        raise OutputError("is not a regular file (a pipe, device or socket); not replaced", path=p,
+                          expected="a regular file name for the output")
     parent = p.parent if str(p.parent) else Path(".")
     if not parent.is_dir():
         raise OutputError(f"directory {str(parent)!r} does not exist", path=p)

@@ -123,6 +123,8 @@ def read_text(path: str | Path, max_bytes: int | None = None) -> str:
     UTF-8 (with or without a byte-order mark) is read as such; other bytes fall back to Latin-1
     (old instruments write Latin-1 comments). Line endings are normalised to ``\\n``.
     """
+    if not str(path):
+        raise TouchstoneError("empty file name", path="''", expected="the path of a Touchstone file")
     p = Path(path)
     limit = _max_bytes(max_bytes)
     try:

@@ -66,13 +66,6 @@ def writers(w: Path) -> dict[str, tuple[tuple, Path]]:
 
 
 WRITERS = list(writers(Path(".")))
-SILENT_130 = ("typer turns KeyboardInterrupt into a silent Exit(130); compare/plot/report do not re-raise it "
-              "as typer.Abort, so no 'error:' line is printed (cli.py should handle it for every command)")
-
-
-def _xfail_silent(names):
-    return [pytest.param(n, marks=pytest.mark.xfail(strict=True, reason=SILENT_130))
-            if n.split()[0] in ("compare", "plot", "report") else n for n in names]
 SENTINEL = b"yesterday's report \x00\xff - must survive\n"
 
 
@@ -108,7 +101,7 @@ def test_failure_mid_write_keeps_the_old_file(cli, work, monkeypatch, name, fail
     assert leftovers(work) == []
 
 
-@pytest.mark.parametrize("name", _xfail_silent(WRITERS))
+@pytest.mark.parametrize("name", WRITERS)
 def test_ctrl_c_during_the_write_keeps_the_old_file(cli, work, monkeypatch, name):
     args, out = writers(work)[name]
     out.write_bytes(SENTINEL)
@@ -197,7 +190,7 @@ CORES = {
 }
 
 
-@pytest.mark.parametrize("name", _xfail_silent(CORES))
+@pytest.mark.parametrize("name", CORES)
 def test_ctrl_c_in_the_core_exits_130_and_writes_nothing(cli, work, monkeypatch, name):
     target, argv = CORES[name]
     calls = []
@@ -346,9 +339,6 @@ def test_band_outside_the_sweep_is_refused_by_match_and_feedline(cli, work):
         assert line.startswith(f"error: {a}: ") and "sweep" in line, line
 
 
-@pytest.mark.xfail(strict=True, reason="compare/plot/report accept a --band wholly outside every sweep: exit 0, a "
-                                       "warning (compare, report) or nothing (plot), and matplotlib's UserWarning "
-                                       "lines on stderr")
 @pytest.mark.parametrize("cmd", ["compare", "plot", "report"])
 def test_band_outside_the_sweep_in_compare_plot_report(cli, work, cmd):
     argv = [x for x in _band_users(work, "5GHz:6GHz") if x[0] == cmd][0]
@@ -453,8 +443,6 @@ def test_missing_inputs_for_every_command(cli, work):
     assert not (work / "p.png").exists() and not (work / "r.html").exists()
 
 
-@pytest.mark.xfail(strict=True, reason="sweep.load('') reads the empty path as '.', and the error names no file: "
-                                       "'error: : is a directory'")
 def test_empty_sweep_path_is_named_in_the_error(cli, work):
     line = one_error(cli("inspect", ""))
     assert "''" in line or "empty" in line, line
@@ -521,10 +509,7 @@ def test_fifo_as_a_budget_sweep_is_refused_not_read(cli, work, deadline):
 
 
 @pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
-@pytest.mark.parametrize("name", [pytest.param(n, marks=pytest.mark.xfail(
-    strict=True, reason="outputs.check_output / atomic_write replace a FIFO or device node with a regular file "
-                        "(as root, '--out /dev/stdout --force' would replace the /dev/stdout link)"))
-    if n.split()[0] in ("plot", "report") else n for n in WRITERS])
+@pytest.mark.parametrize("name", WRITERS)
 def test_output_onto_a_fifo_is_refused_even_with_force(cli, work, deadline, name):
     import stat
 

@@ -7,7 +7,7 @@ from typing import Annotated, Any
 import typer
 
 from ..compare import BandSpec, Comparison, band_name, compare, order_with_baseline
-from ..errors import ExitStatus, UsageError
+from ..errors import ExitStatus, OutOfRangeError, UsageError
 from ..spec import Spec, load_spec
 from ..summary import threshold_from_options
 from ..sweep import load
@@ -50,11 +50,23 @@ def parse_band_options(values: list[str] | None, limit_return_loss_db: float | N
         if not sep:
             name, rest = "", v
         lo, hi = parse_band(rest)
+        if sep and not name.strip():
+            raise UsageError(f"--band {v!r} has an empty name", expected="NAME=LOW:HIGH or LOW:HIGH")
         name = name.strip() or band_name(lo, hi)
         if any(b[0] == name for b in out):
             raise UsageError(f"--band {v!r}: the name {name!r} is given twice", expected="distinct band names")
         out.append((name, lo, hi, limit_return_loss_db))
     return out
+
+
+def require_bands_in_sweeps(bands: list[BandSpec], sweeps: list) -> None:
+    """Refuse a --band that no sweep reaches at all (never extrapolated); a band that a sweep
+    covers only in part is still evaluated and reported as not covered by that sweep."""
+    for name, lo, hi, _ in bands:
+        if not any(s.f_hz[0] <= hi and lo <= s.f_hz[-1] for s in sweeps):
+            raise OutOfRangeError(
+                f"--band {name!r} ({lo / 1e6:.6g} to {hi / 1e6:.6g} MHz) lies outside every sweep",
+                expected="a band inside the measured range (never extrapolated)")
 
 
 def spec_bands(spec: Spec) -> list[BandSpec]:
@@ -241,6 +253,7 @@ def register(app: typer.Typer) -> None:
         the_spec, port, z0 = read_spec(spec, port, z0)
         paths = order_with_baseline(sweeps, baseline)
         loaded = [load(p, port=port, z0_ohm=z0) for p in paths]
+        require_bands_in_sweeps(bands, loaded)
         # spec bands also get the plain per-band worst values (return loss, mismatch loss) without
         # a limit of their own: their verdicts are the spec requirements, evaluated as check does
         extra = [] if the_spec is None else [(n, lo, hi, None) for n, lo, hi, _ in spec_bands(the_spec)]

@@ -21,7 +21,7 @@ from ..summary import threshold_from_options
 from ..sweep import Sweep, load
 from ..units import parse_band, parse_frequency
 from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, warn
-from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, spec_bands
+from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, require_bands_in_sweeps, spec_bands
 
 EPILOG = """Examples:
 
@@ -216,6 +216,7 @@ def register(app: typer.Typer) -> None:
         if the_spec is not None:
             bands += spec_bands(the_spec)
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
+        require_bands_in_sweeps(bands, loaded)
         labels = plots.legend_labels([s.path for s in loaded])
         warnings = [w for s in loaded for w in s.warnings]
         if match:

@@ -33,7 +33,7 @@ from ..summary import SweepSummary, summarize, threshold_from_options
 from ..sweep import Sweep, load
 from ..units import format_frequency as ff
 from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, fmt, warn
-from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, requirement_cells, spec_bands
+from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, require_bands_in_sweeps, requirement_cells, spec_bands
 from .plot import (
     CRangeOpt,
     LRangeOpt,
@@ -482,6 +482,7 @@ def register(app: typer.Typer) -> None:
         resolved = [str(Path(p).resolve()) for p in names]
         inputs = [hash_file(p) for k, p in enumerate(names) if resolved[k] not in resolved[:k]]
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
+        require_bands_in_sweeps(bands, loaded)
         labels = plots.legend_labels([s.path for s in loaded])
         pm = None
         if match_band is not None or match_at is not None:
