@@ -5,6 +5,7 @@ single ``error: ...`` line on stderr with exit status 2 (``--debug`` anywhere sh
 from __future__ import annotations
 
 import importlib
+import os
 import sys
 from typing import Annotated
 
@@ -111,6 +112,14 @@ def main(argv: list[str] | None = None) -> int:
         if exc.exit_code == ExitStatus.INTERRUPTED:  # some typer releases turn Ctrl-C into Exit(130)
             print("error: interrupted; no output file was left half-written", file=sys.stderr)
         return int(exc.exit_code)
+    except BrokenPipeError:  # the reader of stdout went away (e.g. '| head'): stop quietly, say why
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())  # so the interpreter's final flush cannot fail again
+        except (OSError, ValueError):
+            pass
+        print("error: stdout was closed before the output was complete (broken pipe)", file=sys.stderr)
+        return ExitStatus.ERROR
     except OSError as exc:
         if debug:
             raise

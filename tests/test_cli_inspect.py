@@ -80,3 +80,14 @@ def test_bare_number_outside_sweep_hints_at_the_unit(cli, tmp_path):
     p = write_rlc(tmp_path / "u.s1p")
     r = cli("inspect", p, "--at", "915")
     assert r.code == 2 and "did you mean 915MHz" in r.err and len(r.err_lines) == 1
+
+
+def test_broken_pipe_is_one_line_and_status_2(cli, tmp_path, monkeypatch):
+    import matchtool.commands.inspect as insp
+
+    def closed(*a, **k):
+        raise BrokenPipeError(32, "Broken pipe")
+
+    monkeypatch.setattr(insp, "emit_json", closed)
+    r = cli("inspect", write_rlc(tmp_path / "u.s1p"), "--json")
+    assert r.code == 2 and len(r.err_lines) == 1 and "broken pipe" in r.err and "Traceback" not in r.err
