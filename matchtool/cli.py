@@ -83,7 +83,12 @@ def main(argv: list[str] | None = None) -> int:
     args = [a for a in args if a != "--debug"]
     try:
         app = build_app(_command_named(args))
-        rv = int(app(args=args, prog_name="matchtool", standalone_mode=False) or 0)
+        try:
+            rv = int(app(args=args, prog_name="matchtool", standalone_mode=False) or 0)
+        except SystemExit as exc:  # typer handles a broken pipe itself with sys.exit(1)
+            if isinstance(exc.__context__, BrokenPipeError):
+                raise exc.__context__ from None
+            raise
         if rv == ExitStatus.INTERRUPTED:  # typer turns Ctrl-C inside a command into a plain 130
             print("error: interrupted; no output file was left half-written", file=sys.stderr)
         return rv
