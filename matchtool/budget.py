@@ -91,10 +91,15 @@ def range_for_path_loss_m(f_hz: ArrayLike, path_loss_db: ArrayLike, exponent: fl
 
 
 def polarization_loss_db(angle_deg: ArrayLike) -> np.ndarray:
-    """Polarization mismatch loss ``-10 log10(cos^2 psi)`` in positive dB (two linear polarizations)."""
+    """Polarization mismatch loss ``-10 log10(cos^2 psi)`` in positive dB (two linear polarizations).
+
+    Infinite at psi = +-90 deg (cross-polarised: no coupling in the ideal model). cos(90 deg) in
+    floating point is 6e-17, not 0; a cos^2 below 1e-24 (|psi - 90 deg| under about 6e-11 deg) is
+    taken as 0 rather than reported as a 324 dB loss."""
     c = np.cos(np.radians(np.asarray(angle_deg, dtype=float)))
+    c2 = np.where(c * c < 1e-24, 0.0, c * c)
     with np.errstate(divide="ignore"):
-        return -10.0 * np.log10(c * c)
+        return -10.0 * np.log10(c2)
 
 
 def aperture_from_gain_m2(gain_dbi: ArrayLike, f_hz: ArrayLike) -> np.ndarray:
@@ -439,7 +444,15 @@ def _bare_hz_warnings(data: dict[str, Any], path: str) -> list[str]:
         t = data.get(f"{s}_cable")
         if isinstance(t, dict):
             found.append((f"{s}_cable.loss_ref_hz", t.get("loss_ref_hz")))
-    return [f"{path}: {k} = {v!r} is read as {v:g} Hz (a bare number is Hz); write \"{v:g} MHz\" if that was meant"
+    def fix(k: str, v: float) -> str:
+        if "[" in k:
+            return f"write \"{v:g} MHz\" (quoted, with the unit) in that place of the list"
+        if "." in k:
+            table, key = k.split(".", 1)
+            return f"write {key} = \"{v:g} MHz\" under [{table}]"
+        return f"write {k} = \"{v:g} MHz\""
+
+    return [f"{path}: {k} = {v!r} is read as {v:g} Hz (a bare number is Hz); if {v:g} MHz was meant, {fix(k, v)}"
             for k, v in found if isinstance(v, int | float) and not isinstance(v, bool) and 0 < v < 1e5]
 
 
@@ -553,6 +566,12 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
         try:
             g = gamma_at_many(sw.f_hz, sw.gamma, f, str(full))
         except OutOfRangeError as exc:
+            bare = f[(f > 0) & (f < 1e5)]
+            if bare.size:
+                raise BudgetError(f"the frequency {bare[0]:g} Hz (a bare number is Hz) is outside the sweep {full} "
+                                  f"({sw.f_hz[0] / 1e6:.6g} to {sw.f_hz[-1] / 1e6:.6g} MHz)", path=r_path,
+                                  key=f"{s}_sweep", expected=f"the unit written out: f_hz = \"{bare[0]:g} MHz\" "
+                                  "(likewise f_low, f_high)") from None
             raise BudgetError(exc.what, path=r_path, key=f"{s}_sweep",
                               expected=f"an operating frequency inside the sweep {full}") from None
         mag = np.abs(g)
@@ -608,6 +627,11 @@ def _compute_budget(inp: BudgetInput) -> BudgetResult:
         pol = np.full(f.shape, inp.polarization_loss_db)
     else:
         pol = np.full(f.shape, float(polarization_loss_db(inp.polarization_angle_deg or 0.0)))
+    if np.any(np.isinf(pol)):
+        warnings.append(f"{inp.path}: the antennas are cross-polarised (polarization_angle_deg = "
+                        f"{inp.polarization_angle_deg:g}): the ideal model gives no link at all (polarization loss "
+                        "infinite, no range); a real link sees some cross-polar leakage, which this model cannot "
+                        "estimate - turn an antenna or give polarization_loss_db from a measurement")
     fspl = free_space_path_loss_db(f, d)
     pl = fspl if n is None else log_distance_path_loss_db(f, d, n, d0)
     model = "free space" if n is None else "log-distance"

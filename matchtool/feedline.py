@@ -377,6 +377,20 @@ class FeedPoints:
             return -20.0 * np.log10(np.abs(self.s_cable[:, 1, 0]))
 
     @property
+    def dissipative_loss_db(self) -> np.ndarray:
+        """The cable's own one-way loss with matched ends, positive dB: for a cable model its
+        attenuation in its own impedance (``matched_loss_db``); for a measured cable or a delay the
+        power it dissipates when fed from and terminated in the system impedance,
+        -10 log10(|S21|^2 / (1 - |S11|^2)) (0 for any lossless 2-port, where |S11|^2 + |S21|^2 = 1).
+        Unlike :attr:`one_way_loss_db` it leaves out what an impedance mismatch reflects."""
+        ml = np.asarray(self.matched_loss_db, dtype=float)
+        s11 = self.s_cable[:, 0, 0]
+        s21 = self.s_cable[:, 1, 0]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            measured = _db_loss(np.abs(s21) ** 2 / (1.0 - np.abs(s11) ** 2))
+        return np.where(np.isnan(ml), measured, ml) + 0.0
+
+    @property
     def two_way_loss_db(self) -> np.ndarray:
         """-20 log10 |S21 S12|: what a reflection loses going down the cable and back."""
         with np.errstate(divide="ignore"):
@@ -406,8 +420,9 @@ class FeedPoints:
 
     @property
     def cable_share_db(self) -> np.ndarray:
-        """The part of the radio-end return loss that a matched cable explains: 2 x one-way loss."""
-        return 2.0 * self.one_way_loss_db
+        """The part of the radio-end return loss that the cable's loss explains: 2 x its
+        dissipative (matched, one-way) loss; an impedance mismatch of the cable is not in it."""
+        return 2.0 * self.dissipative_loss_db
 
     @property
     def delivered_to_antenna(self) -> np.ndarray:
@@ -421,8 +436,12 @@ class FeedPoints:
 
     @property
     def total_feed_loss_db(self) -> np.ndarray:
-        """Power available from a matched radio over power accepted by the antenna, in dB: cable
-        dissipation plus the mismatch loss at the radio end. NaN where non-physical."""
+        """Transducer loss from a matched radio into the antenna, 1 / G_T in dB: power available
+        from a matched (Gamma_s = 0) radio over power accepted by the antenna,
+        G_T = |S21|^2 (1 - |Gamma_L|^2) / |1 - S22 Gamma_L|^2 (Pozar 4th ed. sec. 12.1, transducer
+        gain with Gamma_s = 0; eq. 12.8 from memory). It contains the cable's dissipation, the
+        antenna's mismatch and the cable's own reflection; it equals :attr:`line_loss_db` plus the
+        mismatch loss seen at the radio end. NaN where non-physical."""
         return _db_loss(self.delivered_to_antenna)
 
     @property
@@ -568,12 +587,14 @@ class BandWorst:
     nonphysical_points: int
     return_loss_antenna_at_worst_radio_db: float
     one_way_loss_at_worst_radio_db: float
+    dissipative_loss_at_worst_radio_db: float = math.nan
 
     @property
     def masking(self) -> str:
         """The masking sentence at the frequency of the worst radio-end return loss."""
+        loss = self.dissipative_loss_at_worst_radio_db
         return masking_text(self.worst_return_loss_radio_db, self.return_loss_antenna_at_worst_radio_db,
-                            self.one_way_loss_at_worst_radio_db)
+                            self.one_way_loss_at_worst_radio_db if math.isnan(loss) else loss)
 
 
 def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float, path: str | None = None) -> np.ndarray:
@@ -619,23 +640,30 @@ def band_worst(feed: FeedPoints) -> BandWorst:
         nonphysical_points=int(np.count_nonzero(feed.nonphysical)),
         return_loss_antenna_at_worst_radio_db=float(rl_a[i_r]),
         one_way_loss_at_worst_radio_db=float(ow[i_r]),
+        dissipative_loss_at_worst_radio_db=float(feed.dissipative_loss_db[i_r]),
     )
 
 
-def masking_text(return_loss_radio_db: float, return_loss_antenna_db: float, one_way_loss_db: float) -> str:
+def masking_text(return_loss_radio_db: float, return_loss_antenna_db: float, loss_db: float) -> str:
     """One sentence on how much of the radio-end return loss is the cable's.
 
-    E.g. "14.0 dB return loss at the radio end, of which 2 x 1.5 dB is the cable; the antenna
-    itself: 11.0 dB". When the difference of the two return losses is not twice the one-way loss
-    (a cable mismatched to the system, or a measured cable that reflects), the rest is named."""
+    ``loss_db`` is the cable's dissipative one-way loss with matched ends
+    (:attr:`FeedPoints.dissipative_loss_db`), not its insertion loss: a lossless cable of another
+    impedance explains none of it. E.g. "14.0 dB return loss at the radio end, of which 2 x 1.5 dB
+    is the cable; the antenna itself: 11.0 dB". When the radio end differs from "antenna + 2 x loss"
+    (a cable mismatched to the system, or a measured cable that reflects), the sentence adds in
+    which direction and by how much the cable's own reflection moves it."""
     def f(x: float) -> str:
         return "inf" if math.isinf(x) else ("n/a" if math.isnan(x) else f"{round(x, 1) + 0.0:.1f}")  # no "-0.0"
 
-    text = (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(one_way_loss_db)} dB "
+    text = (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(loss_db)} dB "
             f"is the cable; the antenna itself: {f(return_loss_antenna_db)} dB")
-    rest = return_loss_radio_db - return_loss_antenna_db - 2.0 * one_way_loss_db
-    if math.isfinite(rest) and abs(rest) >= 0.05:
-        text += f" (the cable's own reflection shifts it by a further {rest:+.1f} dB)"
+    expected = return_loss_antenna_db + 2.0 * loss_db
+    rest = return_loss_radio_db - expected
+    if math.isfinite(rest) and round(abs(rest), 1) >= 0.1:
+        way = "better" if rest > 0 else "worse"
+        text += (f"; the cable's own reflection (an impedance mismatch) makes the radio end {f(abs(rest))} dB "
+                 f"{way} than the {f(expected)} dB that the antenna and the cable's loss alone would give")
     return text
 
 

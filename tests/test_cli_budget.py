@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+import re
 import shutil
 from pathlib import Path
 
@@ -164,3 +165,60 @@ def test_infinite_mismatch_is_null_in_json(cli, link):
     assert "Infinity" not in r.out and "NaN" not in r.out
     t = cli("budget", link)
     assert t.code == 1 and "-inf" in t.out
+
+
+@pytest.mark.parametrize("angle", ["90", "-90", "90.0"])
+def test_cross_polarised_antennas_have_no_link_not_a_324_db_row(cli, link, angle):
+    """Balanis, Antenna Theory, 3rd ed., sec. 2.12.2: PLF = cos^2(psi) is 0 at psi = 90 deg (orthogonal
+    linear polarizations); cos(pi/2) in floating point is 6e-17, which must not become -324 dB."""
+    link.write_text(LINK.replace("polarization_angle_deg = 10", f"polarization_angle_deg = {angle}"))
+    r = cli("budget", link, "--json")
+    assert r.code == 1, r.err
+    doc = r.json()
+    assert doc["polarization_loss_db"] is None
+    (row,) = [x for x in doc["rows"] if x["name"] == "polarization loss"]
+    assert row["value_db"] is None
+    assert any("cross-polarised" in w and "no link" in w for w in doc["warnings"])
+    t = cli("budget", link)
+    assert t.code == 1 and "324" not in t.out and "cross-polarised" in t.out
+    assert "costs 0.0 m of range" not in t.out
+
+
+def test_polarization_near_90_deg_is_still_a_finite_loss(cli, link):
+    # 89 deg: -10 log10(cos^2 89 deg) = 35.16 dB (arithmetic on Balanis's PLF), a real, finite number
+    link.write_text(LINK.replace("polarization_angle_deg = 10", "polarization_angle_deg = 89"))
+    doc = cli("budget", link, "--json").json()
+    assert doc["polarization_loss_db"] == pytest.approx(-10 * math.log10(math.cos(math.radians(89)) ** 2))
+    assert not any("cross-polarised" in w for w in doc["warnings"])
+
+
+def test_no_fade_margin_prints_the_range_once(cli, link):
+    r = cli("budget", link)
+    assert r.code == 0, r.err
+    (line,) = [x for x in r.out.splitlines() if "free-space range" in x]
+    assert "at zero margin" in line and len(re.findall(r"\d [k]?m\b", line)) == 1 and ";" not in line
+    link.write_text(LINK + "fade_margin_db = 10\n")
+    r = cli("budget", link)
+    (line,) = [x for x in r.out.splitlines() if "free-space range" in x]
+    assert "margin 10 dB:" in line and "; at zero margin:" in line
+
+
+def test_footer_names_the_path_loss_model(cli, link):
+    r = cli("budget", link)
+    assert "A free-space estimate" in r.out
+    link.write_text(LINK + "path_loss_exponent = 3.0\nreference_distance_m = 10\n")
+    r = cli("budget", link)
+    assert r.code in (0, 1), r.err
+    assert "free-space estimate" not in r.out and "A log-distance estimate (exponent 3 beyond 10 m" in r.out
+
+
+def test_bare_frequency_says_exactly_what_to_write(cli, link):
+    link.write_text(LINK.replace('f_hz = "915 MHz"', "f_hz = 915"))
+    r = cli("budget", link)  # 915 Hz is outside the sweeps: refused, naming the fix
+    assert r.code == 2 and len(r.err_lines) == 1
+    assert 'f_hz = "915 MHz"' in r.err, r.err
+    text = LINK.replace('f_hz = "915 MHz"', "f_hz = 915").replace('tx_sweep = "tx.s1p"\nrx_sweep = "rx.s1p"\n', "")
+    link.write_text(text)
+    r = cli("budget", link, "--json")
+    assert r.code in (0, 1), r.err
+    assert any('write f_hz = "915 MHz"' in w for w in r.json()["warnings"]), r.json()["warnings"]

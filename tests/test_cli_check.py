@@ -248,3 +248,55 @@ def test_reports_survive_hostile_file_names(cli, tmp_path):
     with open(table, newline="", encoding="utf-8") as fh:
         rows = list(csv.reader(fh))
     assert len(rows) == 4 and all(len(x) == len(rows[0]) for x in rows) and 'a&b <"c">' in rows[1][0]
+
+
+def test_file_names_are_never_truncated_a_common_folder_is_named_once(cli, tmp_path):
+    from helpers import ROOT
+
+    samples = ROOT / "sample_sweeps"
+    r = cli("check", samples, "--spec", samples / "spec_915.toml")
+    assert r.code == 1
+    assert "…" not in r.out and "..." not in r.out
+    assert f"(files in {samples}/)" in r.out
+    for name in ("ant_r2_coarse.s1p", "ant_r3_via_cable.s1p", "dualband_wifi.s1p", "module_port2.s2p"):
+        assert f" {name} " in r.out, name
+
+
+def test_a_long_single_file_name_is_wrapped_not_cut(cli, tmp_path):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    deep = tmp_path / ("lot_" + "x" * 60) / ("unit_" + "y" * 70 + ".s1p")
+    deep.parent.mkdir()
+    write_rlc(deep, r_ohm=50.0)
+    r = cli("check", deep, "--spec", spec)
+    assert r.code == 0, r.err
+    assert "…" not in r.out
+    assert "y" * 70 in "".join(line.split("│")[0].strip() for line in r.out.splitlines())
+
+
+def test_limit_has_its_unit_and_the_footer_names_every_margin_unit(cli, tmp_path):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC + '[resonance]\nf_low = "905 MHz"\nf_high = "925 MHz"\n')
+    good = write_rlc(tmp_path / "good.s1p", r_ohm=50.0)
+    r = cli("check", good, "--spec", spec)
+    assert r.code == 0, r.err
+    assert "10.00 dB return loss" in r.out  # the limit, not a bare 10.00
+    assert "0.50 dB" in r.out and "3.000 ratio" in r.out
+    footer = " ".join(r.out[r.out.index("Margins are"):r.out.index("Verdict")].split())
+    assert "dB of return loss" in footer and "(a VSWR limit converted to it)" in footer
+    assert "dB of mismatch loss" in footer and "resonance margin in MHz" in footer
+    assert "Margins are in dB of return loss" not in r.out
+
+
+def test_worst_units_lists_only_failing_units(cli, lot):
+    d, spec, good, bad, broken = lot
+    other = write_rlc(d / "good2.s1p", r_ohm=45.0)
+    r = cli("check", good, bad, other, "--spec", spec)
+    assert r.code == 1
+    (line,) = [x for x in r.out.splitlines() if x.startswith("Worst failing units")]
+    assert "detuned.s1p" in line and "good.s1p" not in line and "good2.s1p" not in line
+    r = cli("check", good, other, "--spec", spec)
+    assert r.code == 0
+    assert "Worst failing units" not in r.out and "Worst units" not in r.out
+    (line,) = [x for x in r.out.splitlines() if x.startswith("Closest to failing")]
+    assert "good" in line

@@ -378,3 +378,48 @@ def test_cable_file_at_another_reference_is_renormalised(cli, tmp_path):
     assert cli("feedline", a, "--cable", c50, "--toward", "antenna", "--out", o50).code == 0
     assert cli("feedline", a, "--cable", c75, "--toward", "antenna", "--out", o75).code == 0
     np.testing.assert_allclose(skrf.Network(str(o75)).s, skrf.Network(str(o50)).s, atol=1e-9)
+
+
+def test_lossless_75_ohm_line_masking_uses_dissipative_loss(cli, tmp_path):
+    """A lossless line dissipates nothing (|S11|^2 + |S21|^2 = 1): the sentence must say 2 x 0.0 dB."""
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
+    doc = cli("feedline", a, "--length", "3m", "--velocity-factor", "0.66", "--cable-z0", "75",
+              "--loss-db-per-m", "0", "--toward", "radio", "--at", "915MHz", "--json").json()
+    pt = doc["at"][0]
+    assert pt["one_way_loss_db"] > 0.05 and pt["dissipative_loss_db"] == 0.0 and pt["cable_share_db"] == 0.0
+    assert "of which 2 x 0.0 dB is the cable" in pt["masking"]
+    assert "of which 2 x 0.0 dB is the cable" in doc["band"]["masking"]
+
+
+def test_pure_delay_prints_no_negative_zero(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
+    r = cli("feedline", a, "--delay", "250ps", "--toward", "radio", "--at", "915MHz")
+    assert r.code == 0 and "2 x 0.0 dB" in r.out
+    assert "-0.0" not in r.out, r.out
+    doc = cli("feedline", a, "--delay", "250ps", "--toward", "radio", "--at", "915MHz", "--json").json()
+    assert "-0.0" not in json.dumps(doc)
+
+
+def test_total_feed_loss_is_labelled_as_matched_radio_into_antenna(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
+    r = cli("feedline", a, *MODEL, "--toward", "radio")
+    assert r.code == 0 and "total feed loss, matched radio into the antenna" in r.out
+    assert "mismatch at the radio end" not in r.out
+
+
+@pytest.mark.parametrize(("opt", "value", "hint"), [
+    ("--delay", "250", "a bare number is seconds: did you mean 250ps?"),
+    ("--delay", "2us", "at most 1us"),
+    ("--loss-ref", "1000", "a bare number is Hz: did you mean 1000MHz?"),
+    ("--loss-ref", "10kHz", "at least 1MHz"),
+])
+def test_implausible_delay_or_loss_reference_is_refused_with_a_hint(cli, tmp_path, opt, value, hint):
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
+    cable = ["--delay", value] if opt == "--delay" else [*MODEL, "--loss-ref", value]
+    _one_error(cli("feedline", a, *cable, "--toward", "radio"), opt, hint)
+
+
+def test_plausible_delay_and_loss_reference_are_accepted(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
+    assert cli("feedline", a, "--delay", "1us", "--toward", "radio").code == 0
+    assert cli("feedline", a, *MODEL, "--loss-ref", "1MHz", "--toward", "radio").code == 0

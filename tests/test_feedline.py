@@ -311,6 +311,67 @@ def test_masking_text_names_the_mismatch_of_a_cable_of_another_impedance():
     rl_r = -20 * math.log10(62.5 / 162.5)
     assert feed.return_loss_radio_db[0] == pytest.approx(rl_r, abs=1e-6)
     text = fl.masking_text(float(feed.return_loss_radio_db[0]), float(feed.return_loss_antenna_db[0]),
-                           float(feed.one_way_loss_db[0]))
-    assert "the cable's own reflection shifts it by a further" in text
+                           float(feed.dissipative_loss_db[0]))
+    assert "of which 2 x 0.0 dB is the cable" in text
+    # the radio end (8.3 dB) is worse than antenna (180 dB) + 2 x 0 dB: the direction is named, not a sign
+    assert f"makes the radio end {180 - rl_r:.1f} dB worse than the 180.0 dB" in text
     assert fl.masking_text(14.0, 11.0, 1.5).endswith("the antenna itself: 11.0 dB")
+
+
+def test_lossless_75_ohm_line_dissipates_nothing_model_and_measured():
+    """Lossless 2-port: |S11|^2 + |S21|^2 = 1 (physical identity), so a lossless 75-ohm line in a
+    50-ohm system dissipates 0 dB although its |S21| is below 1; the masking sentence must not
+    call its insertion loss "the cable"."""
+    f = np.linspace(700e6, 1.1e9, 41)
+    cab = fl.CableModel(length_m=3.0, velocity_factor=0.66, loss_db_per_m=0.0, z0_ohm=75.0)
+    meas = fl.MeasuredCable(f_hz=f, s=cab.s_params(f, 50.0), z0_ohm=50.0, path="c75.s2p")
+    g = 0.4 * np.exp(1j * np.linspace(0, 3, f.size))
+    for c in (cab, meas):
+        feed = fl.feed_points(f, g, c, "radio", 50.0)
+        assert np.max(feed.one_way_loss_db) > 0.5  # insertion loss: the mismatch reflects power
+        np.testing.assert_allclose(feed.dissipative_loss_db, 0.0, atol=1e-9)
+        np.testing.assert_allclose(feed.cable_share_db, 0.0, atol=1e-9)
+        k = int(np.argmax(feed.one_way_loss_db))
+        text = fl.masking_text(float(feed.return_loss_radio_db[k]), float(feed.return_loss_antenna_db[k]),
+                               float(feed.dissipative_loss_db[k]))
+        assert "of which 2 x 0.0 dB is the cable" in text
+        rest = float(feed.return_loss_radio_db[k] - feed.return_loss_antenna_db[k])
+        way = "better" if rest > 0 else "worse"
+        assert f"makes the radio end {abs(rest):.1f} dB {way} than" in text
+    lossy = fl.CableModel(length_m=3.0, velocity_factor=0.66, loss_db_per_m=0.5)
+    feed = fl.feed_points(f, g, lossy, "radio", 50.0)  # matched cable: dissipative = insertion loss
+    np.testing.assert_allclose(feed.dissipative_loss_db, feed.one_way_loss_db, atol=1e-12)
+
+
+def test_masking_text_direction_and_no_negative_zero():
+    # antenna 16.0, loss 1.9 each way: alone 19.8; the radio end at 18.4 is 1.4 dB worse
+    assert fl.masking_text(18.4, 16.0, 1.9).endswith(
+        "; the cable's own reflection (an impedance mismatch) makes the radio end 1.4 dB worse than the "
+        "19.8 dB that the antenna and the cable's loss alone would give")
+    assert "1.0 dB better than the 19.8 dB" in fl.masking_text(20.8, 16.0, 1.9)
+    text = fl.masking_text(-1e-17, -1e-17, -1e-17)
+    assert "-0" not in text and text.startswith("0.0 dB return loss")
+
+
+def test_total_feed_loss_is_the_transducer_loss_from_a_matched_source():
+    """Independent check of G_T = |S21|^2 (1 - |GL|^2) / |1 - S22 GL|^2 (Pozar 4th ed. sec. 12.1,
+    Gamma_s = 0; eq. 12.8 from memory): a 50-ohm source (EMF Vs) drives a lossy 75-ohm line (ABCD
+    matrix of a line, Pozar 4th ed. Table 4.1: cosh, Zc sinh, sinh / Zc, cosh) into Z_L; power into
+    the load over the source's available power |Vs|^2 / (8 Rs)."""
+    f = np.array([915e6])
+    cab = fl.CableModel(length_m=2.3, velocity_factor=0.7, loss_db_per_m=0.6, z0_ohm=75.0)
+    zl = 30.0 - 45.0j
+    gl = rf.gamma_from_impedance(np.array([zl]), 50.0)
+    feed = fl.feed_points(f, gl, cab, "radio", 50.0)
+    gl_line = complex(cab.gamma_per_m(f)[0]) * 2.3
+    a, b = np.cosh(gl_line), 75.0 * np.sinh(gl_line)
+    c, d = np.sinh(gl_line) / 75.0, np.cosh(gl_line)
+    v2 = 1.0
+    i2 = v2 / zl
+    v1, i1 = a * v2 + b * i2, c * v2 + d * i2
+    vs = v1 + 50.0 * i1
+    p_load = 0.5 * (v2 * np.conj(i2)).real
+    p_avail = abs(vs) ** 2 / (8 * 50.0)
+    assert feed.total_feed_loss_db[0] == pytest.approx(-10 * math.log10(p_load / p_avail), abs=1e-9)
+    # and it is line loss + mismatch loss at the radio end (power bookkeeping)
+    assert feed.total_feed_loss_db[0] == pytest.approx(feed.line_loss_db[0] + feed.mismatch_loss_radio_db[0], abs=1e-9)

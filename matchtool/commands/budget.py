@@ -22,7 +22,8 @@ the required fade margin (zero when none is set), with what the mismatch alone c
 Exit status: 0 when the margin meets the required margin at every frequency, 1 when it does not,
 2 when the file cannot be used.
 
-CAUTION: this is a free-space estimate, not a coverage prediction (ground, walls, bodies and fading
+CAUTION: this is a path-loss model estimate (free space, or log-distance when path_loss_exponent is
+set), not a coverage prediction (ground, walls, bodies and fading
 change the real range). EIRP and RF exposure limits are set by local regulation; eirp_limit_dbm is a
 number you take from your own regulation and the tool only compares against it. A high VSWR can damage a transmitter's
 amplifier. The tool computes; it does not certify a radio.
@@ -91,6 +92,14 @@ def _m(x: float) -> str:
     return f"{x:.1f} m"
 
 
+def _range_line(label: str, required_margin_db: float, range_m: float, zero_margin_range_m: float) -> str:
+    """One range line; the zero-margin range only when a margin is required (else it is the same)."""
+    if required_margin_db == 0:
+        return f"{label} range at zero margin (no fade margin set): {_m(zero_margin_range_m)}"
+    return (f"{label} range, margin {required_margin_db:g} dB: {_m(range_m)}; "
+            f"at zero margin: {_m(zero_margin_range_m)}")
+
+
 def render_budget(res: BudgetResult) -> None:
     """Terminal view: the budget table (worst frequency), the results, and a per-frequency table for a band."""
     from rich.table import Table
@@ -116,14 +125,18 @@ def render_budget(res: BudgetResult) -> None:
     c.print(f"sensitivity               {fmt(res.rx_sensitivity_dbm)} dBm")
     c.print(f"margin                    {fmt(w.margin_db)} dB (required {res.required_margin_db:g} dB: "
             f"{'met' if w.margin_db >= res.required_margin_db else 'NOT MET'})")
-    c.print(f"free-space range, margin {res.required_margin_db:g} dB: {_m(w.max_range_m)};"
-            f" at zero margin: {_m(w.zero_margin_range_m)}")
-    if res.path_loss_exponent is not None:
-        c.print(f"{res.path_loss_model} range, margin {res.required_margin_db:g} dB: {_m(w.max_range_model_m)};"
-                f" at zero margin: {_m(w.zero_margin_range_model_m)}")
-    c.print(f"mismatch (tx {fmt(w.tx.mismatch_loss_db, 3)} dB + rx {fmt(w.rx.mismatch_loss_db, 3)} dB) costs "
-            f"{_m(w.mismatch_range_cost_m)} of range ({fmt(100 * w.mismatch_range_cost_fraction, 1)} %); "
-            f"perfectly matched antennas would reach {_m(w.matched_range_m)}")
+    cross = math.isinf(w.polarization_loss_db)
+    if cross:
+        c.print("range                     none: the antennas are cross-polarised (no link in the ideal model)")
+    else:
+        c.print(_range_line("free-space", res.required_margin_db, w.max_range_m, w.zero_margin_range_m))
+        if res.path_loss_exponent is not None:
+            c.print(_range_line(res.path_loss_model, res.required_margin_db, w.max_range_model_m,
+                                w.zero_margin_range_model_m))
+    if not cross:
+        c.print(f"mismatch (tx {fmt(w.tx.mismatch_loss_db, 3)} dB + rx {fmt(w.rx.mismatch_loss_db, 3)} dB) costs "
+                f"{_m(w.mismatch_range_cost_m)} of range ({fmt(100 * w.mismatch_range_cost_fraction, 1)} %); "
+                f"perfectly matched antennas would reach {_m(w.matched_range_m)}")
     if res.band is not None:
         t = Table(title="Per frequency", title_justify="left", show_edge=False)
         for col in ("frequency", "tx mismatch dB", "rx mismatch dB", "EIRP dBm", "received dBm", "margin dB",
@@ -133,7 +146,12 @@ def render_budget(res: BudgetResult) -> None:
             t.add_row(ff(p.f_hz), fmt(p.tx.mismatch_loss_db, 3), fmt(p.rx.mismatch_loss_db, 3), fmt(p.eirp_dbm),
                       fmt(p.received_power_dbm), fmt(p.margin_db), fmt(p.max_range_model_m, 1))
         c.print(t)
-    c.print("[dim]A free-space estimate, not a coverage prediction; EIRP and RF exposure limits are set by "
+    if res.path_loss_exponent is None:
+        model = "A free-space estimate"
+    else:
+        model = (f"A log-distance estimate (exponent {res.path_loss_exponent:g} beyond "
+                 f"{res.reference_distance_m:g} m, an assumed environment)")
+    c.print(f"[dim]{model}, not a coverage prediction; EIRP and RF exposure limits are set by "
             "local regulation.[/dim]")
 
 

@@ -86,7 +86,55 @@ def _worst_text(r: RequirementResult) -> tuple[str, str, str, str]:
         return (ff(r.worst), ff(r.worst), f"{r.f_low_hz / 1e6:.1f}-{r.f_high_hz / 1e6:.1f} MHz",
                 f"{r.margin_hz / 1e6:+.3f} MHz")
     d = 3 if r.key == "max_vswr" else 2
-    return (f"{r.worst:.{d}f} {r.unit}", ff(r.worst_f_hz), f"{r.limit:.{d}f}", f"{fmt(r.margin_db, 2)} dB")
+    return (f"{r.worst:.{d}f} {r.unit}", ff(r.worst_f_hz), f"{r.limit:.{d}f} {r.unit}", f"{fmt(r.margin_db, 2)} dB")
+
+
+_MARGIN_WORDS = {
+    "min_return_loss_db": "return loss", "max_vswr": "return loss", "max_s11_db": "return loss",
+    "max_mismatch_loss_db": "mismatch loss", "max_deviation_db": "deviation from the golden unit",
+}
+
+
+def margin_footer(results: list[UnitResult]) -> str:
+    """The sentence under the table saying what unit each margin shown is in (only kinds present)."""
+    keys = {r.key for u in results for r in u.requirements}
+    parts = []
+    if keys & {"min_return_loss_db", "max_vswr", "max_s11_db"}:
+        conv = [w for k, w in (("max_vswr", "VSWR"), ("max_s11_db", "S11")) if k in keys]
+        parts.append("return-loss limits in dB of return loss"
+                     + (f" (a {' or '.join(conv)} limit converted to it)" if conv else ""))
+    if "max_mismatch_loss_db" in keys:
+        parts.append("mismatch-loss limits in dB of mismatch loss")
+    if "max_deviation_db" in keys:
+        parts.append("the golden-unit limit in dB of deviation")
+    if "resonance" in keys:
+        parts.append("the resonance margin in MHz (how far the best match lies inside the window; negative: outside)")
+    return "Margins are positive when passing: " + "; ".join(parts) + "." if parts else ""
+
+
+def common_folder(files: list[str]) -> str:
+    """The directory every one of ``files`` lies in (as written, '' when there is none or one file),
+    so the table can show the names below it in full instead of truncating them."""
+    import os
+
+    if len(files) < 2:
+        return ""
+    parents = [os.path.dirname(f) for f in files]
+    if any(not p for p in parents):
+        return ""
+    try:
+        folder = os.path.commonpath(parents)
+    except ValueError:  # absolute and relative mixed
+        return ""
+    if folder in ("", ".", os.sep):
+        return ""
+    return folder
+
+
+def _short(file: str, folder: str) -> str:
+    import os
+
+    return os.path.relpath(file, folder) if folder and file.startswith(folder) else file
 
 
 def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) -> None:
@@ -96,15 +144,19 @@ def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) ->
 
     c = console()
     shown = results if len(results) <= TABLE_ALL_MAX else [u for u in results if not u.passed][:TABLE_ALL_MAX]
-    t = Table(title=f"Check against {escape(spec.path)}", title_justify="left", show_edge=False)
+    folder = common_folder([u.file for u in shown])
+    title = f"Check against {escape(spec.path)}" + (f" (files in {escape(folder)}/)" if folder else "")
+    t = Table(title=title, title_justify="left", show_edge=False)
     for col in ("file", "requirement", "verdict", "worst", "at", "limit", "margin"):
-        t.add_column(col, justify="left" if col in ("file", "requirement", "verdict") else "right")
+        # a file name is wrapped if it must be, never cut short with an ellipsis
+        t.add_column(col, justify="left" if col in ("file", "requirement", "verdict") else "right",
+                     overflow="fold" if col == "file" else "ellipsis" if col == "verdict" else "fold")
     for u in shown:
         if u.error is not None:
-            t.add_row(escape(u.file), "", "[red]ERROR[/red]", "", "", "", escape(u.error))
+            t.add_row(escape(_short(u.file, folder)), "", "[red]ERROR[/red]", "", "", "", escape(u.error))
             continue
         for k, r in enumerate(u.requirements):
-            t.add_row(escape(u.file) if k == 0 else "", escape(r.name), _verdict(r),
+            t.add_row(escape(_short(u.file, folder)) if k == 0 else "", escape(r.name), _verdict(r),
                       *(escape(x) for x in _worst_text(r)))
     if shown:
         c.print(t)
@@ -112,7 +164,9 @@ def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) ->
         not_passing = sum(1 for u in results if not u.passed)
         c.print(f"({len(results) - len(shown)} units not listed: {len(results) - not_passing} passing, "
                 f"{not_passing - len(shown)} more not passing; --csv or --json hold every row)")
-    c.print("Margins are in dB of return loss (positive = passing); a VSWR or S11 limit is converted to it.")
+    footer = margin_footer(shown)
+    if footer:
+        c.print(footer)
     if summary is not None:
         c.print(f"[bold]Lot[/bold]: {summary.units} units, {summary.passed} passed, {summary.failed} failed, "
                 f"{summary.errors} unreadable; yield {100 * summary.yield_fraction:.1f} %")
@@ -125,9 +179,11 @@ def render(spec: Spec, results: list[UnitResult], summary: LotSummary | None) ->
         if summary.resonance_min_hz is not None:
             c.print(f"Best-match frequency: min {ff(summary.resonance_min_hz)}, median {ff(summary.resonance_median_hz)}, "
                     f"max {ff(summary.resonance_max_hz)}")
-        if summary.worst:
-            c.print("Worst units: " + "; ".join(f"{escape(w.file)} ({escape(w.requirement)}, {_worst_margin(w)})"
-                                                for w in summary.worst))
+        failing = [w for w in summary.worst if not w.passed]
+        listed, label = (failing, "Worst failing units") if failing else (list(summary.worst), "Closest to failing")
+        if listed:
+            c.print(f"{label}: " + "; ".join(f"{escape(w.file)} ({escape(w.requirement)}, {_worst_margin(w)})"
+                                             for w in listed))
     verdict = ("[red]FAIL[/red]" if not all(u.passed for u in results) else "[green]PASS[/green]")
     c.print(f"Verdict: {verdict}")
 

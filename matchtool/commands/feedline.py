@@ -19,7 +19,8 @@ from ..outputs import check_output
 from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency, parse_length, parse_time
-from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, fmt, frequencies, warn
+from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, frequencies, warn
+from .common import fmt as _fmt
 from .match import cli_guard, no_negative_zero, refuse_special_output, same_file
 
 EPILOG = """Examples:
@@ -40,6 +41,29 @@ EPILOG = """Examples:
   matchtool feedline meas.s1p --cable cable.s2p --toward antenna --out ant.s1p
   matchtool feedline meas.s1p --delay 250ps --toward antenna --at 2.45GHz
 """
+
+MAX_DELAY_S = 1e-6
+"""Longest --delay accepted: 1 us is some 200 m of cable, longer than any feed measured on a VNA."""
+
+MIN_LOSS_REF_HZ = 1e6
+"""Lowest --loss-ref accepted: cable attenuation is not specified below 1 MHz."""
+
+
+def fmt(x: float, digits: int = 2) -> str:
+    """:func:`common.fmt` without negative zeros (a pure delay's loss is -0.00 in IEEE arithmetic)."""
+    if x is None or not math.isfinite(x):
+        return _fmt(x, digits)
+    return _fmt(round(float(x), digits) + 0.0, digits)
+
+
+def _bare(text: str) -> bool:
+    """True when ``text`` is a number without a unit."""
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
 
 _MODEL_OPTS = ("--velocity-factor", "--loss-db-per-m", "--loss-ref", "--dielectric-loss-db-per-m", "--cable-z0")
 
@@ -62,7 +86,12 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
         if model_given:
             raise UsageError(f"{model_given[0]} applies only to a cable model", expected="--length L")
         if delay is not None:
-            return "delay", fl.Delay(parse_time(delay))
+            delay_s = parse_time(delay)
+            if delay_s > MAX_DELAY_S:
+                hint = "a delay of at most 1us" + (f" (a bare number is seconds: did you mean {delay.strip()}ps?)"
+                                                   if _bare(delay) else ", e.g. 250ps or 1.2ns")
+                raise UsageError(f"--delay {delay.strip()} is {delay_s:g} s, longer than any feed line", expected=hint)
+            return "delay", fl.Delay(delay_s)
         return "file", cable
     if velocity_factor is None:
         raise UsageError("a cable model needs --velocity-factor",
@@ -71,6 +100,11 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
         raise UsageError("a cable model needs --loss-db-per-m (at --loss-ref, default 1 GHz)",
                          expected="the cable's attenuation in dB per metre; 0 for a lossless line")
     ref_hz = parse_frequency(loss_ref) if loss_ref is not None else 1e9
+    if ref_hz < MIN_LOSS_REF_HZ:
+        hint = "a frequency of at least 1MHz" + (f" (a bare number is Hz: did you mean {loss_ref.strip()}MHz?)"
+                                                 if loss_ref is not None and _bare(loss_ref) else ", e.g. 1GHz")
+        raise UsageError(f"--loss-ref {loss_ref.strip() if loss_ref else ''} is {ref_hz:g} Hz, below any cable "
+                         "data sheet", expected=hint)
     return "model", fl.CableModel(length_m=parse_length(length), velocity_factor=velocity_factor,
                                   loss_db_per_m=loss_db_per_m, loss_ref_hz=ref_hz,
                                   dielectric_loss_db_per_m=dielectric or 0.0, z0_ohm=cable_z0)
@@ -87,7 +121,8 @@ def point_docs(feed: fl.FeedPoints) -> list[dict[str, Any]]:
     """One JSON entry per frequency of ``feed``."""
     cols = {
         "one_way_loss_db": feed.one_way_loss_db, "two_way_loss_db": feed.two_way_loss_db,
-        "matched_loss_db": feed.matched_loss_db, "return_loss_improvement_db": feed.return_loss_improvement_db,
+        "matched_loss_db": feed.matched_loss_db, "dissipative_loss_db": feed.dissipative_loss_db,
+        "return_loss_improvement_db": feed.return_loss_improvement_db,
         "cable_share_db": feed.cable_share_db, "line_loss_db": feed.line_loss_db,
         "total_feed_loss_db": feed.total_feed_loss_db,
     }
@@ -102,7 +137,7 @@ def point_docs(feed: fl.FeedPoints) -> list[dict[str, Any]]:
         d["antenna"] = _end_doc(complex(feed.gamma_antenna[k]))
         d["nonphysical"] = bool(bad[k])
         d["masking"] = fl.masking_text(float(feed.return_loss_radio_db[k]), float(feed.return_loss_antenna_db[k]),
-                                       float(feed.one_way_loss_db[k]))
+                                       float(feed.dissipative_loss_db[k]))
         out.append(d)
     return out
 
@@ -136,10 +171,12 @@ def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWor
     c.print(f"[bold]{doc['file']}[/bold]  port {doc['port']}, Z0 {doc['z0_ohm']:g} ohm, {doc['points']} points")
     c.print(f"{doc['cable']['description']}: {way}")
     if feed_at is not None and feed_at.f_hz.size:
-        t = Table(title="At chosen frequencies (all in dB except VSWR; RL = return loss, positive)",
+        t = Table(title="At chosen frequencies (all in dB except VSWR; RL = return loss, positive; S21 loss = "
+                        "insertion loss; 2 x loss = twice the cable's own matched loss; total = matched radio "
+                        "to antenna)",
                   title_justify="left", show_edge=False)
-        for col in ("frequency", "cable dB", "RL radio", "VSWR radio", "RL antenna", "VSWR ant.",
-                    "RL gained", "2 x cable", "line loss", "total loss"):
+        for col in ("frequency", "S21 loss", "RL radio", "VSWR radio", "RL antenna", "VSWR ant.",
+                    "RL gained", "2 x loss", "line loss", "total loss"):
             t.add_column(col, justify="right")
         for k, f in enumerate(feed_at.f_hz):
             t.add_row(ff(f), fmt(feed_at.one_way_loss_db[k]), fmt(feed_at.return_loss_radio_db[k]),
@@ -150,16 +187,17 @@ def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWor
         for k, f in enumerate(feed_at.f_hz):
             c.print(f"{ff(f)}: " + fl.masking_text(float(feed_at.return_loss_radio_db[k]),
                                                     float(feed_at.return_loss_antenna_db[k]),
-                                                    float(feed_at.one_way_loss_db[k])))
+                                                    float(feed_at.dissipative_loss_db[k])))
     w = worst
     span = "whole sweep" if doc["band"]["whole_sweep"] else "band"
     c.print(f"Over the {span} {ff(w.f_low_hz)} to {ff(w.f_high_hz)}:")
-    c.print(f"  one-way cable loss {fmt(w.one_way_loss_min_db)} to {fmt(w.one_way_loss_max_db)} dB")
+    c.print(f"  one-way insertion loss (S21) {fmt(w.one_way_loss_min_db)} to {fmt(w.one_way_loss_max_db)} dB")
     c.print(f"  worst return loss at the radio end {fmt(w.worst_return_loss_radio_db)} dB "
             f"(at {ff(w.worst_return_loss_radio_f_hz)}), VSWR up to {fmt(w.worst_vswr_radio)}")
     c.print(f"  worst return loss at the antenna   {fmt(w.worst_return_loss_antenna_db)} dB "
             f"(at {ff(w.worst_return_loss_antenna_f_hz)}), VSWR up to {fmt(w.worst_vswr_antenna)}")
-    c.print(f"  total feed loss (cable + mismatch at the radio end) up to {fmt(w.max_total_feed_loss_db, 3)} dB "
+    c.print(f"  total feed loss, matched radio into the antenna (1/G_T: cable loss and every mismatch) up to "
+            f"{fmt(w.max_total_feed_loss_db, 3)} dB "
             f"(at {ff(w.max_total_feed_loss_f_hz)})")
     c.print(f"  at {ff(w.worst_return_loss_radio_f_hz)}: {w.masking}")
     if w.nonphysical_points:
