@@ -146,13 +146,16 @@ def render_budget(res: BudgetResult) -> None:
             t.add_row(ff(p.f_hz), fmt(p.tx.mismatch_loss_db, 3), fmt(p.rx.mismatch_loss_db, 3), fmt(p.eirp_dbm),
                       fmt(p.received_power_dbm), fmt(p.margin_db), fmt(p.max_range_model_m, 1))
         c.print(t)
-    if res.path_loss_exponent is None:
-        model = "A free-space estimate"
-    else:
-        model = (f"A log-distance estimate (exponent {res.path_loss_exponent:g} beyond "
-                 f"{res.reference_distance_m:g} m, an assumed environment)")
-    c.print(f"[dim]{model}, not a coverage prediction; EIRP and RF exposure limits are set by "
+    c.print(f"[dim]{estimate_words(res)}, not a coverage prediction; EIRP and RF exposure limits are set by "
             "local regulation.[/dim]")
+
+
+def estimate_words(res) -> str:
+    """'A free-space estimate' or 'A log-distance estimate (...)', for the budget's footers."""
+    if res.path_loss_exponent is None:
+        return "A free-space estimate"
+    return (f"A log-distance estimate (exponent {res.path_loss_exponent:g} beyond "
+            f"{res.reference_distance_m:g} m, an assumed environment)")
 
 
 def register(app: typer.Typer) -> None:

@@ -60,4 +60,7 @@ def fmt(x: float, digits: int = 2, unit: str = "") -> str:
         return "n/a"
     if math.isinf(x):
         return "inf" if x > 0 else "-inf"
-    return f"{x:.{digits}f}{(' ' + unit) if unit else ''}"
+    text = f"{x:.{digits}f}"
+    if text.startswith("-") and float(text) == 0:  # no "-0.00" for a value that rounds to zero
+        text = text[1:]
+    return f"{text}{(' ' + unit) if unit else ''}"

@@ -381,7 +381,9 @@ def budget_section(ctx: ReportContext) -> h.Section | None:
                              [True] * 7, caption="Per frequency"))
     if b.warnings:
         parts.append(h.bullet_list(b.warnings, "note warn"))
-    parts.append(h.paragraph("A free-space estimate, not a coverage prediction. EIRP and RF exposure limits are set "
+    from .budget import estimate_words
+
+    parts.append(h.paragraph(f"{estimate_words(b)}, not a coverage prediction. EIRP and RF exposure limits are set "
                              "by local regulation; the EIRP limit above is the user's number.", "note warn"))
     return h.Section("budget", "Link budget", "\n".join(parts))
 
