@@ -601,10 +601,58 @@ ROUGH_FIT = 0.1  # relative rms misfit of the resonator model above which the bo
 LOSSLESS_TOL = 1e-9  # |Gamma| within this of 1 counts as a lossless (unmatchable) load
 
 
+def nelder_mead(cost, x0: np.ndarray, step: float = 0.05, xatol: float = 1e-4, fatol: float = 1e-9,
+                maxiter: int | None = None) -> tuple[np.ndarray, float]:
+    """Minimise ``cost(x) -> float`` from ``x0`` with the Nelder-Mead simplex; returns (x, cost(x)).
+
+    Standard coefficients (reflection 1, expansion 2, contraction 0.5, shrink 0.5; Nelder & Mead,
+    Computer Journal 7 (1965) 308). Initial simplex as scipy's: each vertex moves one coordinate
+    by ``step`` (5 %) of its value, or by 0.00025 where the coordinate is 0. Stops, like scipy's
+    ``minimize(method="Nelder-Mead")``, when every vertex is within ``xatol`` of the best in every
+    coordinate and every vertex cost within ``fatol`` of the best, or after ``maxiter`` iterations
+    (default 200 per dimension, scipy's default). Small and dependency-free so that ``match`` does
+    not pay for importing scipy.optimize.
+    """
+    x0 = np.asarray(x0, dtype=float).ravel()
+    n = x0.size
+    if maxiter is None:
+        maxiter = 200 * n
+    simplex = np.empty((n + 1, n))
+    simplex[0] = x0
+    for i in range(n):
+        v = x0.copy()
+        v[i] = (1 + step) * v[i] if v[i] != 0 else 0.00025
+        simplex[i + 1] = v
+    fs = np.array([cost(p) for p in simplex], dtype=float)
+    for _ in range(maxiter):
+        order = np.argsort(fs, kind="stable")
+        simplex, fs = simplex[order], fs[order]
+        if np.max(np.abs(simplex[1:] - simplex[0])) <= xatol and np.max(np.abs(fs[1:] - fs[0])) <= fatol:
+            break
+        centroid = simplex[:-1].mean(axis=0)
+        xr = 2.0 * centroid - simplex[-1]
+        fr = cost(xr)
+        if fr < fs[0]:
+            xe = 3.0 * centroid - 2.0 * simplex[-1]
+            fe = cost(xe)
+            simplex[-1], fs[-1] = (xe, fe) if fe < fr else (xr, fr)
+        elif fr < fs[-2]:
+            simplex[-1], fs[-1] = xr, fr
+        else:
+            outside = fr < fs[-1]
+            xc = centroid + 0.5 * ((xr if outside else simplex[-1]) - centroid)
+            fc = cost(xc)
+            if (fc <= fr) if outside else (fc < fs[-1]):  # scipy's acceptance rules
+                simplex[-1], fs[-1] = xc, fc
+            else:
+                simplex[1:] = simplex[0] + 0.5 * (simplex[1:] - simplex[0])
+                fs[1:] = [cost(p) for p in simplex[1:]]
+    k = int(np.argmin(fs))
+    return simplex[k].copy(), float(fs[k])
+
+
 def _optimise(net: LNetwork, fb: np.ndarray, gb: np.ndarray, z0: float, q: PartQ, bounds: ValueBounds) -> LNetwork:
     """Refine values to maximise the worst in-band delivered power (minimax, Nelder-Mead in log values)."""
-    from scipy.optimize import minimize
-
     x0 = np.log([e.value for e in net.elements])
     lo = np.log([bounds.limits(e.kind)[0] for e in net.elements])
     hi = np.log([bounds.limits(e.kind)[1] for e in net.elements])
@@ -617,9 +665,8 @@ def _optimise(net: LNetwork, fb: np.ndarray, gb: np.ndarray, z0: float, q: PartQ
         r = _walk(gb, z0, pattern, units, np.exp(xc))
         return float(-r.delivered.min() + np.sum((x - xc) ** 2))
 
-    res = minimize(cost, x0, method="Nelder-Mead",
-                   options={"xatol": 1e-4, "fatol": 1e-9, "maxiter": 300 * len(x0)})
-    x = np.clip(res.x, lo, hi) if cost(res.x) <= cost(x0) else np.clip(x0, lo, hi)
+    xbest, fbest = nelder_mead(cost, x0, xatol=1e-4, fatol=1e-9, maxiter=300 * len(x0))
+    x = np.clip(xbest, lo, hi) if fbest <= cost(x0) else np.clip(x0, lo, hi)
     return LNetwork(net.topology, tuple(e.with_value(float(v)) for e, v in zip(net.elements, np.exp(x), strict=True)))
 
 

@@ -6,6 +6,7 @@ Sources are named beside each check. Loads are physical RLC models built in the 
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -321,6 +322,63 @@ def test_band_optimum_agrees_with_a_brute_force_grid():
         g = m.evaluate(fb, gb, 50.0, [(e.kind, e.connection) for e in c.elements], [v0, v1]).gamma_in
         grid_best = float(-20 * np.log10(np.abs(g).max(axis=-1).min()))
         assert c.worst_return_loss_db >= grid_best - 0.05
+
+
+@pytest.mark.parametrize("x0", [(-1.2, 1.0), (0.5, 3.0), (-2.0, -1.5)])
+def test_nelder_mead_finds_rosenbrock_minimum_like_scipy(x0):
+    # Rosenbrock's function (Computer Journal 3 (1960) 175) has its only minimum 0 at (1, 1); the
+    # reference is scipy.optimize.minimize(method="Nelder-Mead") with the same tolerances
+    from scipy.optimize import minimize, rosen
+
+    x, f = m.nelder_mead(rosen, np.array(x0), xatol=1e-8, fatol=1e-12, maxiter=4000)
+    ref = minimize(rosen, x0, method="Nelder-Mead", options={"xatol": 1e-8, "fatol": 1e-12, "maxiter": 4000})
+    assert ref.success
+    assert f == pytest.approx(rosen(x), abs=0)
+    assert np.allclose(x, [1.0, 1.0], atol=1e-5)
+    assert np.allclose(x, ref.x, atol=1e-5)
+    assert f <= max(ref.fun, 1e-14) * 10
+
+
+def test_nelder_mead_respects_maxiter_and_tolerance():
+    # a quadratic bowl with minimum at (3, -2): loose tolerances stop early, a tiny maxiter stops
+    # before convergence (scipy's semantics: maxiter counts simplex iterations)
+    calls = []
+
+    def bowl(x):
+        calls.append(1)
+        return float((x[0] - 3.0) ** 2 + 10 * (x[1] + 2.0) ** 2)
+
+    x, f = m.nelder_mead(bowl, np.array([1.0, 1.0]), xatol=1e-6, fatol=1e-12, maxiter=2000)
+    assert np.allclose(x, [3.0, -2.0], atol=1e-5)
+    n_tight = len(calls)
+    calls.clear()
+    x_short, f_short = m.nelder_mead(bowl, np.array([1.0, 1.0]), maxiter=3)
+    assert len(calls) <= 3 + 3 * 2 + 2  # initial simplex + at most 2 (or a shrink's 2) evaluations per step
+    assert f_short > f
+    calls.clear()
+    m.nelder_mead(bowl, np.array([1.0, 1.0]), xatol=1e-1, fatol=1e-2, maxiter=2000)
+    assert len(calls) < n_tight
+
+
+def test_match_path_does_not_import_scipy_optimize():
+    # start-up budget (benchmark P3): the band optimisation must not pull in scipy.optimize
+    import subprocess
+    import sys
+
+    code = ("import sys, numpy as np\n"
+            "from matchtool import matching as m\n"
+            "from matchtool.sweep import sweep_from_arrays\n"
+            "f = np.linspace(800e6, 1000e6, 201)\n"
+            "w, w0 = 2 * np.pi * f, 2 * np.pi * 850e6\n"
+            "z = 12 + 1j * (w * 25e-9 - w0 ** 2 * 25e-9 / w)  # series RLC resonant at 850 MHz\n"
+            "g = (z - 50) / (z + 50)\n"
+            "sw = sweep_from_arrays(f, g, 50.0)\n"
+            "r = m.design_for_band(sw, 860e6, 960e6)\n"
+            "assert r.candidates\n"
+            "print(any(k.startswith('scipy.optimize') for k in sys.modules))\n")
+    root = str(Path(__file__).resolve().parents[1])
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True, cwd=root)
+    assert out.stdout.strip() == "False"
 
 
 def test_renormalised_system_impedance_is_matched():
