@@ -179,3 +179,56 @@ def test_z0_option_matches_to_the_system_impedance(cli, tmp_path):
     # the exact network nulls Gamma at 75 ohm at f0 (interpolated between the written samples)
     g = np.interp(915e6, n1.f, n1.s[:, 0, 0].real) + 1j * np.interp(915e6, n1.f, n1.s[:, 0, 0].imag)
     assert abs(g) < 0.01
+
+
+# ---------------------------------------------------------------- an antenna that needs no network
+
+def test_no_network_needed_json_and_terminal(cli, tmp_path):
+    # R = Z0 at resonance, 5 nH: |X| < 1 ohm over 902-928 MHz, return loss > 40 dB (derived below)
+    p = write_rlc(tmp_path / "good.s1p", f0_hz=915e6, r_ohm=50.0, l_h=5e-9, lo_hz=800e6, hi_hz=1030e6, n=801)
+    r = cli("match", p, "--band", "902MHz:928MHz", "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["before"]["meets_threshold"] is True
+    assert doc["no_network_needed"] is True and "no network needed" in doc["advice"]
+    first = doc["candidates"][0]
+    assert first["topology"] == "direct" and first["elements"] == []
+    w = 2 * math.pi * np.array([902e6, 928e6])
+    c_f = 1 / ((2 * math.pi * 915e6) ** 2 * 5e-9)
+    z = 50 + 1j * (w * 5e-9 - 1 / (w * c_f))
+    # edge values are interpolated between samples 0.29 MHz apart: agreement to 1e-3 dB at 41.7 dB
+    assert first["worst_return_loss_db"] == pytest.approx(-20 * np.log10(np.abs(gamma_of(z)).max()), abs=1e-3)
+    t = cli("match", p, "--band", "902MHz:928MHz")
+    assert t.code == 0, t.err
+    text = " ".join(t.out.split())
+    assert "no network needed: the antenna already meets 10 dB" in text
+    assert "connect the antenna directly" in text
+    assert "solder" not in text  # no schematic to solder from
+
+
+def test_missing_antenna_is_not_told_it_needs_nothing(cli, tmp_path):
+    p = _ant(tmp_path)
+    doc = cli("match", p, "--band", "902MHz:928MHz", "--json").json()
+    assert doc["before"]["meets_threshold"] is False and doc["no_network_needed"] is False
+    assert doc["advice"] is None
+    assert all(c["elements"] for c in doc["candidates"])
+
+
+def test_deembedded_r3_gets_no_wire_or_open_parts(cli, tmp_path):
+    # the r3 antenna measured through 3 m of cable, moved back to the antenna: it already meets 10 dB
+    # over 902-928 MHz, so no 240 pF series / 910 nH shunt / 750 pF / 0.1 pF parts may be proposed
+    out = tmp_path / "ant.s1p"
+    f = cli("feedline", "sample_sweeps/ant_r3_via_cable.s1p", "--cable", "sample_sweeps/cable_3m.s2p",
+            "--toward", "antenna", "--out", out)
+    assert f.code == 0, f.err
+    doc = cli("match", out, "--band", "902MHz:928MHz", "--json").json()
+    assert doc["before"]["meets_threshold"] is True
+    assert doc["candidates"][0]["elements"] == []
+    w0 = 2 * math.pi * 915e6
+    for c in doc["candidates"]:
+        for e in c["elements"]:
+            x = w0 * e["value"] if e["kind"] == "inductor" else 1 / (w0 * e["value"])
+            if e["connection"] == "series":
+                assert 2.0 <= x <= 2500.0, c  # |X| relative to 50 ohm: 0.04 Z0 .. 50 Z0
+            else:
+                assert 1.0 <= x <= 1250.0, c  # 0.02 Z0 .. 25 Z0

@@ -180,7 +180,8 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
         target = {"f_low_hz": r.f_low_hz, "f_high_hz": r.f_high_hz, "f_center_hz": r.f0_hz}
     ys = r.yield_settings
     bf = r.bound
-    best_rl = r.candidates[0].worst_return_loss_db if r.candidates else None
+    with_parts = [c for c in r.candidates if c.elements]
+    best_rl = with_parts[0].worst_return_loss_db if with_parts else None
     return {
         "file": r.path, "port": port, "z0_ohm": r.z0_ohm, "target": target, "series": r.series,
         "q_inductor": _none_if_inf(r.q.inductor), "q_capacitor": _none_if_inf(r.q.capacitor),
@@ -189,8 +190,11 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
                    "l_min_h": r.bounds.l_min_h, "l_max_h": r.bounds.l_max_h},
         "threshold_return_loss_db": r.threshold_return_loss_db, "rank_by": r.rank_by,
         "order": "elements listed from the radio side to the antenna side",
+        "no_network_needed": r.no_network_needed,
+        "advice": no_network_text(r) if r.no_network_needed else None,
         "before": {"worst_return_loss_db": r.before_worst_return_loss_db,
                    "return_loss_at_f0_db": r.before_return_loss_at_f0_db,
+                   "meets_threshold": r.before_meets_threshold,
                    "bands": [band_doc(b) for b in r.before_bands]},
         "candidates": [{
             "rank": i + 1, "topology": c.topology, "elements": [element_doc(e) for e in c.elements],
@@ -265,6 +269,19 @@ def schematic(elements: tuple[mt.Element, ...], z0_ohm: float) -> str:
     return "\n".join(lines)
 
 
+def _target_text(r: mt.MatchResult) -> str:
+    if r.f_low_hz is None:
+        return f"at {ff(r.f0_hz)}"
+    return f"over the band {ff(r.f_low_hz)} to {ff(r.f_high_hz)}"
+
+
+def no_network_text(r: mt.MatchResult) -> str:
+    """The advice line for an antenna that needs no network."""
+    return (f"no network needed: the antenna already meets {r.threshold_return_loss_db:g} dB return loss "
+            f"{_target_text(r)} (worst {fmt(r.before_worst_return_loss_db)} dB) and no network gains more than "
+            f"{mt.MEANINGFUL_GAIN_DB:g} dB of delivered power over a direct connection")
+
+
 def render(r: mt.MatchResult) -> None:
     from rich.markup import escape
     from rich.table import Table
@@ -278,7 +295,12 @@ def render(r: mt.MatchResult) -> None:
             f"Q(L) {fmt(r.q.inductor, 0)}, Q(C) {fmt(r.q.capacitor, 0)}")
     c.print(f"Before: worst return loss {fmt(r.before_worst_return_loss_db)} dB "
             f"(S11 {fmt(-r.before_worst_return_loss_db)} dB), at {ff(r.f0_hz)} {fmt(r.before_return_loss_at_f0_db)} dB")
-    t = Table(title=f"Candidates, ranked by {r.rank_by}; parts radio side first", title_justify="left",
+    if r.no_network_needed:
+        c.print(f"[bold]{escape(no_network_text(r))}[/bold]")
+    elif r.before_meets_threshold:
+        c.print(f"The antenna already meets {r.threshold_return_loss_db:g} dB {_target_text(r)}; the networks listed "
+                f"above 'direct' gain more than {mt.MEANINGFUL_GAIN_DB:g} dB of delivered power over it.")
+    t = Table(title=f"Candidates, ranked by {mt.MatchResult.rank_by}; parts radio side first", title_justify="left",
               show_edge=False)
     cols = ["#", "topology", "parts, radio -> antenna", "worst RL dB", "RL f0 dB", "loss dB", "worst deliv.",
             "DC / filter"]
@@ -289,7 +311,7 @@ def render(r: mt.MatchResult) -> None:
         t.add_column(col, justify="left" if left else "right", no_wrap=left)
     for i, cand in enumerate(r.candidates, start=1):
         parts = ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}"
-                          for e in cand.elements)
+                          for e in cand.elements) or "none (connect the antenna directly)"
         row = [str(i), cand.topology, parts, fmt(cand.worst_return_loss_db), fmt(cand.return_loss_at_f0_db),
                fmt(cand.network_loss_db, 3), f"{100 * cand.worst_delivered_fraction:.1f} %",
                f"{'passes DC' if cand.passes_dc else 'no DC'}, {cand.filter}"]
@@ -303,14 +325,16 @@ def render(r: mt.MatchResult) -> None:
                           + (" (runs past the sweep)" if b.clipped_low or b.clipped_high else "")
                           for b in cand.bands) or "none"
         c.print(f"  #{i}: {escape(bands)}")
-    if r.candidates:
-        best = r.candidates[0]
+    with_parts = [cand for cand in r.candidates if cand.elements]
+    if r.candidates and r.candidates[0].elements:
         c.print("\nBest network (solder from the radio side):")
-        c.print(escape(schematic(best.elements, r.z0_ohm)))
-    if r.bound is not None and r.candidates:
+        c.print(escape(schematic(r.candidates[0].elements, r.z0_ohm)))
+    elif r.candidates:
+        c.print("\nBest choice: no parts; connect the antenna directly to the radio.")
+    if r.bound is not None and with_parts:
         c.print(f"\nBode-Fano limit ({r.bound.model} fitted over the band, R {r.bound.r_ohm:.3g} ohm): no lossless "
                 f"network can hold more than {fmt(r.bound.best_return_loss_db)} dB return loss across the band; "
-                f"the best L-network reaches {fmt(r.candidates[0].worst_return_loss_db)} dB.")
+                f"the best L-network reaches {fmt(with_parts[0].worst_return_loss_db)} dB.")
     if r.yield_settings is not None and r.candidates:
         ys = r.yield_settings
         c.print(f"Tolerance yield: {ys.trials} builds, L +-{100 * ys.tolerance_l:g} %, C +-{100 * ys.tolerance_c:g} % "
