@@ -232,3 +232,65 @@ def test_deembedded_r3_gets_no_wire_or_open_parts(cli, tmp_path):
                 assert 2.0 <= x <= 2500.0, c  # |X| relative to 50 ohm: 0.04 Z0 .. 50 Z0
             else:
                 assert 1.0 <= x <= 1250.0, c  # 0.02 Z0 .. 25 Z0
+
+
+# ---------------------------------------------------------------- display of exact matches and part values
+
+def test_exact_match_return_loss_is_shown_capped_but_raw_in_json(cli):
+    # exact closed-form parts null Gamma at f0 (Pozar 4th ed. sec. 5.1): the return loss is
+    # floating-point residue (hundreds of dB); the table shows ">= 60", the JSON the raw number
+    t = cli("match", "sample_sweeps/ant_r1.s1p", "--at", "915MHz", "--series", "exact")
+    assert t.code == 0, t.err
+    assert ">= 60" in t.out
+    import re
+
+    # no two-decimal dB figure above 100 (frequencies print with three decimals)
+    assert not [x for x in re.findall(r"(?<![\d.])(\d+\.\d\d)(?![\d.])", t.out) if float(x) > 100]
+    doc = cli("match", "sample_sweeps/ant_r1.s1p", "--at", "915MHz", "--series", "exact", "--json").json()
+    two = [c for c in doc["candidates"] if len(c["elements"]) == 2]
+    assert two and all(c["worst_return_loss_db"] is None or c["worst_return_loss_db"] > 60 for c in two)
+
+
+def test_rl_text_caps_and_keeps_ordinary_values():
+    from matchtool.commands.match import rl_text
+
+    assert rl_text(math.inf) == ">= 60"
+    assert rl_text(316.42) == ">= 60"
+    assert rl_text(60.0) == ">= 60"
+    assert rl_text(59.994) == "59.99"
+    assert rl_text(12.255) == "12.26" or rl_text(12.255) == "12.25"
+    assert rl_text(math.nan) == "n/a"
+
+
+@pytest.mark.parametrize("kind", ["capacitor", "inductor"])
+def test_preferred_values_print_as_engineers_write_them(kind):
+    # IEC 60063 E24 values in every decade used: pF/nF/uF and nH/uH only, the table digits unchanged
+    # (0.91 pF, not 910 fF; 5.6 nH; 0.51 nH, not 510 pH)
+    from matchtool import eseries
+    from matchtool import matching as mt
+    from matchtool.commands.match import part_value_text
+
+    units = {"pF": 1e-12, "nF": 1e-9, "uF": 1e-6} if kind == "capacitor" else {"nH": 1e-9, "uH": 1e-6}
+    decades = range(-13, -6) if kind == "capacitor" else range(-10, -5)
+    for d in decades:
+        for digits in eseries.E24:
+            v = digits / 10 * 10.0 ** (d + 1)
+            text = part_value_text(mt.Element(kind, "series", v))
+            num, unit = text.split()
+            assert unit in units, text
+            assert float(num) * units[unit] == pytest.approx(v, rel=1e-12), text
+            assert 0.1 <= float(num) < 1000, text
+            assert len(num.replace(".", "").strip("0")) <= 2, text  # E24 has two significant digits
+    assert part_value_text(mt.Element("capacitor", "shunt", 0.92e-12)) == "0.92 pF"
+    assert part_value_text(mt.Element("inductor", "series", 5.6e-9)) == "5.6 nH"
+
+
+def test_written_network_names_parts_in_engineering_units(cli, tmp_path):
+    # a high-impedance load needs a small shunt capacitor: the Touchstone note must say pF, not fF
+    p = write_rlc(tmp_path / "hi.s1p", f0_hz=915e6, r_ohm=400.0, l_h=40e-9, lo_hz=800e6, hi_hz=1030e6, n=801)
+    net = tmp_path / "net.s2p"
+    r = cli("match", p, "--at", "915MHz", "--write-network", net)
+    assert r.code == 0, r.err
+    text = net.read_text()
+    assert "fF" not in text and "pH" not in text
+    assert "pF" in text or "nF" in text or "nH" in text

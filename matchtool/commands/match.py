@@ -17,7 +17,7 @@ from ..outputs import atomic_write_many, check_output
 from ..summary import threshold_from_options
 from ..sweep import load, touchstone_text
 from ..units import format_frequency as ff
-from ..units import format_value_si, parse_band, parse_frequency
+from ..units import parse_band, parse_frequency
 from .common import (
     ForceOpt,
     JsonOpt,
@@ -234,6 +234,17 @@ def part_value_text(e: mt.Element, digits: int = 3) -> str:
     return f"{e.value / base:.{digits}g}"
 
 
+RL_DISPLAY_CAP_DB = 60.0  # |Gamma| = 0.001: beyond what a calibrated VNA resolves (common practice, no source)
+
+
+def rl_text(x: float | None, digits: int = 2) -> str:
+    """A return loss for a table: ``>= 60`` from 60 dB up (an exact match gives floating-point
+    residue such as 316 dB, or inf), 'n/a' for NaN, else fixed digits. The JSON keeps the raw value."""
+    if x is not None and not (isinstance(x, float) and math.isnan(x)) and x >= RL_DISPLAY_CAP_DB:
+        return f">= {RL_DISPLAY_CAP_DB:g}"
+    return fmt(x, digits)
+
+
 def _label(e: mt.Element, i: int) -> str:
     sym = "L" if e.kind == "inductor" else "C"
     return f"{sym}{i} {part_value_text(e)}"
@@ -293,8 +304,10 @@ def render(r: mt.MatchResult) -> None:
         tgt = f"over {ff(r.f_low_hz)} to {ff(r.f_high_hz)}"
     c.print(f"[bold]{escape(r.path)}[/bold]  matching to {r.z0_ohm:g} ohm {tgt}; values {r.series}, "
             f"Q(L) {fmt(r.q.inductor, 0)}, Q(C) {fmt(r.q.capacitor, 0)}")
-    c.print(f"Before: worst return loss {fmt(r.before_worst_return_loss_db)} dB "
-            f"(S11 {fmt(-r.before_worst_return_loss_db)} dB), at {ff(r.f0_hz)} {fmt(r.before_return_loss_at_f0_db)} dB")
+    s11 = ("<= -" + f"{RL_DISPLAY_CAP_DB:g}" if r.before_worst_return_loss_db >= RL_DISPLAY_CAP_DB
+           else fmt(-r.before_worst_return_loss_db))
+    c.print(f"Before: worst return loss {rl_text(r.before_worst_return_loss_db)} dB "
+            f"(S11 {s11} dB), at {ff(r.f0_hz)} {rl_text(r.before_return_loss_at_f0_db)} dB")
     if r.no_network_needed:
         c.print(f"[bold]{escape(no_network_text(r))}[/bold]")
     elif r.before_meets_threshold:
@@ -312,7 +325,7 @@ def render(r: mt.MatchResult) -> None:
     for i, cand in enumerate(r.candidates, start=1):
         parts = ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}"
                           for e in cand.elements) or "none (connect the antenna directly)"
-        row = [str(i), cand.topology, parts, fmt(cand.worst_return_loss_db), fmt(cand.return_loss_at_f0_db),
+        row = [str(i), cand.topology, parts, rl_text(cand.worst_return_loss_db), rl_text(cand.return_loss_at_f0_db),
                fmt(cand.network_loss_db, 3), f"{100 * cand.worst_delivered_fraction:.1f} %",
                f"{'passes DC' if cand.passes_dc else 'no DC'}, {cand.filter}"]
         if r.yield_settings is not None:
@@ -334,7 +347,7 @@ def render(r: mt.MatchResult) -> None:
     if r.bound is not None and with_parts:
         c.print(f"\nBode-Fano limit ({r.bound.model} fitted over the band, R {r.bound.r_ohm:.3g} ohm): no lossless "
                 f"network can hold more than {fmt(r.bound.best_return_loss_db)} dB return loss across the band; "
-                f"the best L-network reaches {fmt(with_parts[0].worst_return_loss_db)} dB.")
+                f"the best L-network reaches {rl_text(with_parts[0].worst_return_loss_db)} dB.")
     if r.yield_settings is not None and r.candidates:
         ys = r.yield_settings
         c.print(f"Tolerance yield: {ys.trials} builds, L +-{100 * ys.tolerance_l:g} %, C +-{100 * ys.tolerance_c:g} % "
@@ -432,7 +445,7 @@ def register(app: typer.Typer) -> None:
             if not 1 <= pick <= len(r.candidates):
                 raise UsageError(f"--pick {pick}", expected=f"a rank from 1 to {len(r.candidates)}")
             chosen = r.candidates[pick - 1]
-            desc = "; ".join(f"{e.connection} {e.kind} {format_value_si(e.value, e.unit, 6)}" for e in chosen.elements)
+            desc = "; ".join(f"{e.connection} {e.kind} {part_value_text(e, 6)}" for e in chosen.elements) or "no parts"
             items = []
             notes = [f"matchtool match network for {sw.name} (radio side first): {desc}",
                      f"part Q: L {fmt(q.inductor, 1)}, C {fmt(q.capacitor, 1)}"]
