@@ -9,6 +9,8 @@ import pytest
 import skrf
 from helpers import gamma_of, s1p_text, write_rlc
 
+from matchtool.commands import match as match_cmd
+
 
 def _ant(tmp_path, name="ant.s1p", **kw):
     args = dict(f0_hz=880e6, r_ohm=20.0, l_h=30e-9, lo_hz=700e6, hi_hz=1100e6, n=801)
@@ -294,3 +296,22 @@ def test_written_network_names_parts_in_engineering_units(cli, tmp_path):
     text = net.read_text()
     assert "fF" not in text and "pH" not in text
     assert "pF" in text or "nF" in text or "nH" in text
+
+
+def test_option_types_are_reusable_by_another_command():
+    # the module-level option types carry the same option names and parse the same way elsewhere
+    import typer
+    from typer.testing import CliRunner
+
+    app = typer.Typer()
+
+    @app.command()
+    def other(series: match_cmd.SeriesOpt = "E24", q_l: match_cmd.QInductorOpt = None,
+              c_range: match_cmd.CRangeOpt = None, pick: match_cmd.PickOpt = 1,
+              tol: match_cmd.ToleranceOpt = None) -> None:
+        print(series, q_l, c_range, pick, tol)
+
+    r = CliRunner().invoke(app, ["--series", "E96", "--q-inductor", "40", "--c-range", "1pF:1nF", "--pick", "2",
+                                 "--tolerance", "5%"])
+    assert r.exit_code == 0, r.output
+    assert r.output.split() == ["E96", "40.0", "1pF:1nF", "2", "5%"]

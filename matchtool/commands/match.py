@@ -46,6 +46,38 @@ EPILOG = """Examples:
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
 
 
+# Option types of ``match``, module-level so that other commands can reuse them (e.g. a command
+# that designs a network for a spec could import SeriesOpt, QInductorOpt, CRangeOpt...).
+AtOpt = Annotated[str | None, typer.Option("--at", metavar="FREQ", help="Match at one frequency, e.g. 915MHz.")]
+BandOpt = Annotated[str | None, typer.Option("--band", metavar="LOW:HIGH",
+    help="Match over a band, e.g. 902MHz:928MHz.")]
+SeriesOpt = Annotated[str, typer.Option("--series", metavar="exact|E12|E24|E48|E96",
+    help="Preferred-value series (IEC 60063) or exact values.")]
+QInductorOpt = Annotated[float | None, typer.Option("--q-inductor", metavar="Q",
+    help="Inductor Q at the target frequency (constant-Q model).")]
+QCapacitorOpt = Annotated[float | None, typer.Option("--q-capacitor", metavar="Q",
+    help="Capacitor Q at the target frequency (constant-Q model).")]
+ToleranceOpt = Annotated[str | None, typer.Option("--tolerance", metavar="PCT",
+    help="Part tolerance for the yield, e.g. 5%.")]
+ToleranceInductorOpt = Annotated[str | None, typer.Option("--tolerance-inductor", metavar="PCT",
+    help="Inductor tolerance (overrides --tolerance).")]
+ToleranceCapacitorOpt = Annotated[str | None, typer.Option("--tolerance-capacitor", metavar="PCT",
+    help="Capacitor tolerance (overrides --tolerance).")]
+TrialsOpt = Annotated[int, typer.Option("--trials", metavar="N", help="Monte Carlo builds for the yield.")]
+SeedOpt = Annotated[int, typer.Option("--seed", metavar="N", help="Random seed of the yield (reproducible).")]
+CRangeOpt = Annotated[str | None, typer.Option("--c-range", metavar="LOW:HIGH",
+    help="Allowed capacitor values [default: 0.1pF:100nF].")]
+LRangeOpt = Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
+    help="Allowed inductor values [default: 0.5nH:10uH].")]
+CandidatesOpt = Annotated[int, typer.Option("--candidates", metavar="N", help="How many networks to list.")]
+PickOpt = Annotated[int, typer.Option("--pick", metavar="N",
+    help="Which ranked network the --write-* files hold.")]
+WriteNetworkOpt = Annotated[str | None, typer.Option("--write-network", metavar="FILE.s2p",
+    help="Write the network as a 2-port (port 1 radio).")]
+WriteMatchedOpt = Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
+    help="Write the antenna with the network in place.")]
+
+
 def cli_guard(fn):
     """Wrap a command so that Ctrl-C reaches the CLI's handler (one line, exit status 130), and
     numpy's floating-point RuntimeWarnings (overflow for absurd but finite options such as
@@ -363,34 +395,22 @@ def register(app: typer.Typer) -> None:
     def match_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
                                              show_default=False)],
-        at: Annotated[str | None, typer.Option("--at", metavar="FREQ", help="Match at one frequency, e.g. 915MHz.")] = None,
-        band: Annotated[str | None, typer.Option("--band", metavar="LOW:HIGH",
-                                                 help="Match over a band, e.g. 902MHz:928MHz.")] = None,
-        series: Annotated[str, typer.Option("--series", metavar="exact|E12|E24|E48|E96",
-                                            help="Preferred-value series (IEC 60063) or exact values.")] = "E24",
-        q_inductor: Annotated[float | None, typer.Option("--q-inductor", metavar="Q",
-                                                         help="Inductor Q at the target frequency (constant-Q model).")] = None,
-        q_capacitor: Annotated[float | None, typer.Option("--q-capacitor", metavar="Q",
-                                                          help="Capacitor Q at the target frequency (constant-Q model).")] = None,
-        tolerance: Annotated[str | None, typer.Option("--tolerance", metavar="PCT",
-                                                      help="Part tolerance for the yield, e.g. 5%.")] = None,
-        tolerance_l: Annotated[str | None, typer.Option("--tolerance-inductor", metavar="PCT",
-                                                        help="Inductor tolerance (overrides --tolerance).")] = None,
-        tolerance_c: Annotated[str | None, typer.Option("--tolerance-capacitor", metavar="PCT",
-                                                        help="Capacitor tolerance (overrides --tolerance).")] = None,
-        trials: Annotated[int, typer.Option("--trials", metavar="N", help="Monte Carlo builds for the yield.")] = 2000,
-        seed: Annotated[int, typer.Option("--seed", metavar="N", help="Random seed of the yield (reproducible).")] = 1,
-        c_range: Annotated[str | None, typer.Option("--c-range", metavar="LOW:HIGH",
-                                                    help="Allowed capacitor values [default: 0.1pF:100nF].")] = None,
-        l_range: Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
-                                                    help="Allowed inductor values [default: 0.5nH:10uH].")] = None,
-        count: Annotated[int, typer.Option("--candidates", metavar="N", help="How many networks to list.")] = 6,
-        pick: Annotated[int, typer.Option("--pick", metavar="N",
-                                          help="Which ranked network the --write-* files hold.")] = 1,
-        write_network: Annotated[str | None, typer.Option("--write-network", metavar="FILE.s2p",
-                                                          help="Write the network as a 2-port (port 1 radio).")] = None,
-        write_matched: Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
-                                                          help="Write the antenna with the network in place.")] = None,
+        at: AtOpt = None,
+        band: BandOpt = None,
+        series: SeriesOpt = "E24",
+        q_inductor: QInductorOpt = None,
+        q_capacitor: QCapacitorOpt = None,
+        tolerance: ToleranceOpt = None,
+        tolerance_l: ToleranceInductorOpt = None,
+        tolerance_c: ToleranceCapacitorOpt = None,
+        trials: TrialsOpt = 2000,
+        seed: SeedOpt = 1,
+        c_range: CRangeOpt = None,
+        l_range: LRangeOpt = None,
+        count: CandidatesOpt = 6,
+        pick: PickOpt = 1,
+        write_network: WriteNetworkOpt = None,
+        write_matched: WriteMatchedOpt = None,
         port: PortOpt = 1,
         z0: Z0Opt = None,
         min_return_loss: MinRLOpt = None,
