@@ -446,6 +446,13 @@ class MatchResult:
     yield_settings: YieldSettings | None
     warnings: list[str] = field(default_factory=list)
     rank_by: str = "worst in-band power delivered to the antenna (includes part losses)"
+    before_meets_threshold: bool = False  # the antenna alone meets the threshold over the target
+
+    @property
+    def no_network_needed(self) -> bool:
+        """True when the antenna meets the threshold and no network beats a direct connection by
+        more than MEANINGFUL_GAIN_DB (the first candidate is the direct connection)."""
+        return self.before_meets_threshold and bool(self.candidates) and not self.candidates[0].elements
 
 
 # --------------------------------------------------------------------------- helpers
@@ -534,41 +541,130 @@ def _z0(sweep: Sweep) -> float:
     return float(sweep.z0_ohm)
 
 
+# Practicality of a part, judged by its reactance at the target centre relative to the system
+# impedance Z0 (common practice, no source; the limits are this tool's choice). A part that alone,
+# inserted in a Z0 line, would reflect less than |Gamma| ~ 0.02 (return loss above ~34 dB) does
+# nothing a technician could measure: a series part with |X| < 0.04 Z0 (2 ohm at 50 ohm) is a wire,
+# a shunt part with |X| > 25 Z0 (1.25 kohm) is an open; such parts are also far past a real part's
+# self-resonance at that frequency (a 240 pF capacitor or a 910 nH inductor at 915 MHz, from memory
+# of typical chip-part data). They are removed and the network reduced to the parts that matter.
+# At the other extreme a series part with |X| > 50 Z0 blocks the signal and a shunt part with
+# |X| < 0.02 Z0 shorts it; a network that relies on one is dropped.
+SERIES_WIRE_X_PER_Z0 = 0.04
+SHUNT_OPEN_X_PER_Z0 = 25.0
+SERIES_BLOCK_X_PER_Z0 = 50.0
+SHUNT_SHORT_X_PER_Z0 = 0.02
+# A network must raise the worst in-band delivered power by more than this over a direct connection
+# to be listed above it when the antenna already meets the threshold (a choice, no source: about 5 %
+# more power, comparable to what 5 % parts and pad parasitics move).
+MEANINGFUL_GAIN_DB = 0.2
+
+
+def part_role(e: Element, f_hz: float, z0_ohm: float) -> str:
+    """How a part acts at ``f_hz`` in a ``z0_ohm`` system: "part" (does something), "wire" (a series
+    part with |X| < 0.04 Z0), "open" (a shunt part with |X| > 25 Z0), "blocking" (series |X| > 50 Z0)
+    or "shorting" (shunt |X| < 0.02 Z0). Limits: common practice, no source (see the module text)."""
+    x_ohm = abs(float(part_impedance(e.kind, e.value, np.array([TWO_PI * f_hz]), math.inf)[0].imag))
+    ratio = x_ohm / z0_ohm
+    if e.connection == "series":
+        if ratio < SERIES_WIRE_X_PER_Z0:
+            return "wire"
+        if ratio > SERIES_BLOCK_X_PER_Z0:
+            return "blocking"
+    else:
+        if ratio > SHUNT_OPEN_X_PER_Z0:
+            return "open"
+        if ratio < SHUNT_SHORT_X_PER_Z0:
+            return "shorting"
+    return "part"
+
+
+def practical(net: LNetwork, f_hz: float, z0_ohm: float) -> LNetwork | None:
+    """``net`` without its wire-like / open-like parts (see :func:`part_role`), or None when a part
+    blocks or shorts the signal. A network left with no part is ``LNetwork("direct", ())``."""
+    roles = [part_role(e, f_hz, z0_ohm) for e in net.elements]
+    if any(r in ("blocking", "shorting") for r in roles):
+        return None
+    keep = tuple(e for e, r in zip(net.elements, roles, strict=True) if r == "part")
+    if len(keep) == len(net.elements):
+        return net
+    if not keep:
+        return LNetwork("direct", ())
+    return LNetwork(keep[0].connection if len(keep) == 1 else net.topology, keep)
+
+
 def _finish(sweep: Sweep, nets: list[LNetwork], fb: np.ndarray, gb: np.ndarray, f0: float, f_low: float | None,
             f_high: float | None, series: str, q: PartQ, bounds: ValueBounds, threshold_db: float,
             ys: YieldSettings | None, bound: BodeFanoBound | None, warnings: list[str], max_candidates: int,
             ) -> MatchResult:
     z0 = _z0(sweep)
     g0 = complex(gamma_at_many(sweep.f_hz, sweep.gamma, np.array([f0]), sweep.path)[0])
+    before_g2 = float(np.max(np.abs(gb) ** 2))
+    with np.errstate(divide="ignore"):
+        before = float(-10 * np.log10(before_g2))
+    meets = bool(before >= threshold_db)
     snapped: list[LNetwork] = []
     dropped = 0
+    impractical = 0
+    reduced = 0
     for n in nets:
         s = _best_standard(n, fb, gb, z0, series, q, bounds)
         if s is None:
             dropped += 1
             continue
-        if not any(m.pattern == s.pattern and m.elements == s.elements for m in snapped):
-            snapped.append(s)
-    if not snapped:
+        p = practical(s, f0, z0)
+        if p is None:
+            impractical += 1
+            continue
+        if p is not s:
+            reduced += 1
+        if not any(m.pattern == p.pattern and m.elements == p.elements for m in snapped):
+            snapped.append(p)
+    direct = LNetwork("direct", ())
+    if not snapped and not meets:
+        detail = []
+        if dropped:
+            detail.append(f"{dropped} fell outside the bounds")
+        if impractical:
+            detail.append(f"{impractical} needed a part that blocks or shorts the signal")
         raise NoSolutionError(
-            f"no L-network with part values inside the bounds matches this load"
-            f"{' (' + str(dropped) + ' solutions fell outside the bounds)' if dropped else ''}",
+            f"no L-network with practical part values inside the bounds matches this load"
+            f"{' (' + '; '.join(detail) + ')' if detail else ''}",
             path=sweep.path, expected=f"C {bounds.c_min_f:.3g}..{bounds.c_max_f:.3g} F, "
                                       f"L {bounds.l_min_h:.3g}..{bounds.l_max_h:.3g} H (see --c-range, --l-range)")
     if dropped:
         warnings.append(f"{sweep.path}: {dropped} network(s) left out: a part value falls outside the bounds")
+    if impractical:
+        warnings.append(f"{sweep.path}: {impractical} network(s) left out: a part would block or short the signal "
+                        f"at {f0 / 1e6:.6g} MHz (series |X| > {SERIES_BLOCK_X_PER_Z0:g} Z0 or shunt |X| < "
+                        f"{SHUNT_SHORT_X_PER_Z0:g} Z0)")
+    if reduced:
+        warnings.append(f"{sweep.path}: {reduced} network(s) reduced: a part that acts as a wire (series |X| < "
+                        f"{SERIES_WIRE_X_PER_Z0:g} Z0) or an open (shunt |X| > {SHUNT_OPEN_X_PER_Z0:g} Z0) "
+                        f"at {f0 / 1e6:.6g} MHz was removed")
+    if meets and not any(not n.elements for n in snapped):
+        snapped.append(direct)
     cands = [_candidate(n, sweep, z0, fb, gb, f0, g0, q, threshold_db, None) for n in snapped]
     cands.sort(key=lambda c: -c.worst_delivered_fraction)
+    rank_by = MatchResult.rank_by
+    direct_c = next((c for c in cands if not c.elements), None)
+    if direct_c is not None and meets:
+        # no part that does not beat a plain connection; a direct connection above the marginal ones
+        floor = direct_c.worst_delivered_fraction
+        better = [c for c in cands if c.elements and c.worst_delivered_fraction > floor * (1 + 1e-12)]
+        gain = 10 ** (MEANINGFUL_GAIN_DB / 10)
+        cands = ([c for c in better if c.worst_delivered_fraction > floor * gain] + [direct_c]
+                 + [c for c in better if c.worst_delivered_fraction <= floor * gain])
+        rank_by = (f"{rank_by}; the antenna already meets the threshold, so the direct connection (no part) is "
+                   f"listed above every network that gains less than {MEANINGFUL_GAIN_DB:g} dB over it, and "
+                   "networks that gain nothing are left out")
     cands = cands[:max_candidates]
     if ys is not None:
         cands = [replace(c, yield_fraction=_yield(LNetwork(c.topology, c.elements), fb, gb, z0, q, ys, threshold_db))
                  for c in cands]
-    before_g2 = float(np.max(np.abs(gb) ** 2))
-    with np.errstate(divide="ignore"):
-        before = float(-10 * np.log10(before_g2))
     return MatchResult(sweep.path, z0, f0, f_low, f_high, series, q, bounds, threshold_db, before,
                        float(return_loss_db(g0)), tuple(find_bands(sweep.f_hz, return_loss_db(sweep.gamma), threshold_db)),
-                       cands, bound, ys, warnings)
+                       cands, bound, ys, warnings, rank_by=rank_by, before_meets_threshold=meets)
 
 
 # --------------------------------------------------------------------------- public design entry points
@@ -601,10 +697,58 @@ ROUGH_FIT = 0.1  # relative rms misfit of the resonator model above which the bo
 LOSSLESS_TOL = 1e-9  # |Gamma| within this of 1 counts as a lossless (unmatchable) load
 
 
+def nelder_mead(cost, x0: np.ndarray, step: float = 0.05, xatol: float = 1e-4, fatol: float = 1e-9,
+                maxiter: int | None = None) -> tuple[np.ndarray, float]:
+    """Minimise ``cost(x) -> float`` from ``x0`` with the Nelder-Mead simplex; returns (x, cost(x)).
+
+    Standard coefficients (reflection 1, expansion 2, contraction 0.5, shrink 0.5; Nelder & Mead,
+    Computer Journal 7 (1965) 308). Initial simplex as scipy's: each vertex moves one coordinate
+    by ``step`` (5 %) of its value, or by 0.00025 where the coordinate is 0. Stops, like scipy's
+    ``minimize(method="Nelder-Mead")``, when every vertex is within ``xatol`` of the best in every
+    coordinate and every vertex cost within ``fatol`` of the best, or after ``maxiter`` iterations
+    (default 200 per dimension, scipy's default). Small and dependency-free so that ``match`` does
+    not pay for importing scipy.optimize.
+    """
+    x0 = np.asarray(x0, dtype=float).ravel()
+    n = x0.size
+    if maxiter is None:
+        maxiter = 200 * n
+    simplex = np.empty((n + 1, n))
+    simplex[0] = x0
+    for i in range(n):
+        v = x0.copy()
+        v[i] = (1 + step) * v[i] if v[i] != 0 else 0.00025
+        simplex[i + 1] = v
+    fs = np.array([cost(p) for p in simplex], dtype=float)
+    for _ in range(maxiter):
+        order = np.argsort(fs, kind="stable")
+        simplex, fs = simplex[order], fs[order]
+        if np.max(np.abs(simplex[1:] - simplex[0])) <= xatol and np.max(np.abs(fs[1:] - fs[0])) <= fatol:
+            break
+        centroid = simplex[:-1].mean(axis=0)
+        xr = 2.0 * centroid - simplex[-1]
+        fr = cost(xr)
+        if fr < fs[0]:
+            xe = 3.0 * centroid - 2.0 * simplex[-1]
+            fe = cost(xe)
+            simplex[-1], fs[-1] = (xe, fe) if fe < fr else (xr, fr)
+        elif fr < fs[-2]:
+            simplex[-1], fs[-1] = xr, fr
+        else:
+            outside = fr < fs[-1]
+            xc = centroid + 0.5 * ((xr if outside else simplex[-1]) - centroid)
+            fc = cost(xc)
+            if (fc <= fr) if outside else (fc < fs[-1]):  # scipy's acceptance rules
+                simplex[-1], fs[-1] = xc, fc
+            else:
+                simplex[1:] = simplex[0] + 0.5 * (simplex[1:] - simplex[0])
+                fs[1:] = [cost(p) for p in simplex[1:]]
+    k = int(np.argmin(fs))
+    return simplex[k].copy(), float(fs[k])
+
+
 def _optimise(net: LNetwork, fb: np.ndarray, gb: np.ndarray, z0: float, q: PartQ, bounds: ValueBounds) -> LNetwork:
     """Refine values to maximise the worst in-band delivered power (minimax, Nelder-Mead in log values)."""
-    from scipy.optimize import minimize
-
     x0 = np.log([e.value for e in net.elements])
     lo = np.log([bounds.limits(e.kind)[0] for e in net.elements])
     hi = np.log([bounds.limits(e.kind)[1] for e in net.elements])
@@ -617,9 +761,8 @@ def _optimise(net: LNetwork, fb: np.ndarray, gb: np.ndarray, z0: float, q: PartQ
         r = _walk(gb, z0, pattern, units, np.exp(xc))
         return float(-r.delivered.min() + np.sum((x - xc) ** 2))
 
-    res = minimize(cost, x0, method="Nelder-Mead",
-                   options={"xatol": 1e-4, "fatol": 1e-9, "maxiter": 300 * len(x0)})
-    x = np.clip(res.x, lo, hi) if cost(res.x) <= cost(x0) else np.clip(x0, lo, hi)
+    xbest, fbest = nelder_mead(cost, x0, xatol=1e-4, fatol=1e-9, maxiter=300 * len(x0))
+    x = np.clip(xbest, lo, hi) if fbest <= cost(x0) else np.clip(x0, lo, hi)
     return LNetwork(net.topology, tuple(e.with_value(float(v)) for e, v in zip(net.elements, np.exp(x), strict=True)))
 
 
@@ -725,4 +868,5 @@ def gamma_matched(sweep: Sweep, elements: Sequence[Element], q: PartQ = PartQ())
 __all__ = ["Element", "PartQ", "ValueBounds", "LNetwork", "Response", "Candidate", "MatchResult", "YieldSettings",
            "BodeFanoBound", "synthesize_at", "evaluate", "abcd", "s_parameters", "passes_dc", "filter_character",
            "bode_fano_bound", "design_at", "design_for_band", "gamma_matched", "element_from_reactance",
-           "part_impedance", "unit_impedance", "network_2port", "matched_network"]
+           "part_impedance", "unit_impedance", "network_2port", "matched_network", "nelder_mead", "part_role",
+           "practical"]

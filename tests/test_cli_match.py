@@ -9,6 +9,8 @@ import pytest
 import skrf
 from helpers import gamma_of, s1p_text, write_rlc
 
+from matchtool.commands import match as match_cmd
+
 
 def _ant(tmp_path, name="ant.s1p", **kw):
     args = dict(f0_hz=880e6, r_ohm=20.0, l_h=30e-9, lo_hz=700e6, hi_hz=1100e6, n=801)
@@ -179,3 +181,137 @@ def test_z0_option_matches_to_the_system_impedance(cli, tmp_path):
     # the exact network nulls Gamma at 75 ohm at f0 (interpolated between the written samples)
     g = np.interp(915e6, n1.f, n1.s[:, 0, 0].real) + 1j * np.interp(915e6, n1.f, n1.s[:, 0, 0].imag)
     assert abs(g) < 0.01
+
+
+# ---------------------------------------------------------------- an antenna that needs no network
+
+def test_no_network_needed_json_and_terminal(cli, tmp_path):
+    # R = Z0 at resonance, 5 nH: |X| < 1 ohm over 902-928 MHz, return loss > 40 dB (derived below)
+    p = write_rlc(tmp_path / "good.s1p", f0_hz=915e6, r_ohm=50.0, l_h=5e-9, lo_hz=800e6, hi_hz=1030e6, n=801)
+    r = cli("match", p, "--band", "902MHz:928MHz", "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["before"]["meets_threshold"] is True
+    assert doc["no_network_needed"] is True and "no network needed" in doc["advice"]
+    first = doc["candidates"][0]
+    assert first["topology"] == "direct" and first["elements"] == []
+    w = 2 * math.pi * np.array([902e6, 928e6])
+    c_f = 1 / ((2 * math.pi * 915e6) ** 2 * 5e-9)
+    z = 50 + 1j * (w * 5e-9 - 1 / (w * c_f))
+    # edge values are interpolated between samples 0.29 MHz apart: agreement to 1e-3 dB at 41.7 dB
+    assert first["worst_return_loss_db"] == pytest.approx(-20 * np.log10(np.abs(gamma_of(z)).max()), abs=1e-3)
+    t = cli("match", p, "--band", "902MHz:928MHz")
+    assert t.code == 0, t.err
+    text = " ".join(t.out.split())
+    assert "no network needed: the antenna already meets 10 dB" in text
+    assert "connect the antenna directly" in text
+    assert "solder" not in text  # no schematic to solder from
+
+
+def test_missing_antenna_is_not_told_it_needs_nothing(cli, tmp_path):
+    p = _ant(tmp_path)
+    doc = cli("match", p, "--band", "902MHz:928MHz", "--json").json()
+    assert doc["before"]["meets_threshold"] is False and doc["no_network_needed"] is False
+    assert doc["advice"] is None
+    assert all(c["elements"] for c in doc["candidates"])
+
+
+def test_deembedded_r3_gets_no_wire_or_open_parts(cli, tmp_path):
+    # the r3 antenna measured through 3 m of cable, moved back to the antenna: it already meets 10 dB
+    # over 902-928 MHz, so no 240 pF series / 910 nH shunt / 750 pF / 0.1 pF parts may be proposed
+    out = tmp_path / "ant.s1p"
+    f = cli("feedline", "sample_sweeps/ant_r3_via_cable.s1p", "--cable", "sample_sweeps/cable_3m.s2p",
+            "--toward", "antenna", "--out", out)
+    assert f.code == 0, f.err
+    doc = cli("match", out, "--band", "902MHz:928MHz", "--json").json()
+    assert doc["before"]["meets_threshold"] is True
+    assert doc["candidates"][0]["elements"] == []
+    w0 = 2 * math.pi * 915e6
+    for c in doc["candidates"]:
+        for e in c["elements"]:
+            x = w0 * e["value"] if e["kind"] == "inductor" else 1 / (w0 * e["value"])
+            if e["connection"] == "series":
+                assert 2.0 <= x <= 2500.0, c  # |X| relative to 50 ohm: 0.04 Z0 .. 50 Z0
+            else:
+                assert 1.0 <= x <= 1250.0, c  # 0.02 Z0 .. 25 Z0
+
+
+# ---------------------------------------------------------------- display of exact matches and part values
+
+def test_exact_match_return_loss_is_shown_capped_but_raw_in_json(cli):
+    # exact closed-form parts null Gamma at f0 (Pozar 4th ed. sec. 5.1): the return loss is
+    # floating-point residue (hundreds of dB); the table shows ">= 60", the JSON the raw number
+    t = cli("match", "sample_sweeps/ant_r1.s1p", "--at", "915MHz", "--series", "exact")
+    assert t.code == 0, t.err
+    assert ">= 60" in t.out
+    import re
+
+    # no two-decimal dB figure above 100 (frequencies print with three decimals)
+    assert not [x for x in re.findall(r"(?<![\d.])(\d+\.\d\d)(?![\d.])", t.out) if float(x) > 100]
+    doc = cli("match", "sample_sweeps/ant_r1.s1p", "--at", "915MHz", "--series", "exact", "--json").json()
+    two = [c for c in doc["candidates"] if len(c["elements"]) == 2]
+    assert two and all(c["worst_return_loss_db"] is None or c["worst_return_loss_db"] > 60 for c in two)
+
+
+def test_rl_text_caps_and_keeps_ordinary_values():
+    from matchtool.commands.match import rl_text
+
+    assert rl_text(math.inf) == ">= 60"
+    assert rl_text(316.42) == ">= 60"
+    assert rl_text(60.0) == ">= 60"
+    assert rl_text(59.994) == "59.99"
+    assert rl_text(12.255) == "12.26" or rl_text(12.255) == "12.25"
+    assert rl_text(math.nan) == "n/a"
+
+
+@pytest.mark.parametrize("kind", ["capacitor", "inductor"])
+def test_preferred_values_print_as_engineers_write_them(kind):
+    # IEC 60063 E24 values in every decade used: pF/nF/uF and nH/uH only, the table digits unchanged
+    # (0.91 pF, not 910 fF; 5.6 nH; 0.51 nH, not 510 pH)
+    from matchtool import eseries
+    from matchtool import matching as mt
+    from matchtool.commands.match import part_value_text
+
+    units = {"pF": 1e-12, "nF": 1e-9, "uF": 1e-6} if kind == "capacitor" else {"nH": 1e-9, "uH": 1e-6}
+    decades = range(-13, -6) if kind == "capacitor" else range(-10, -5)
+    for d in decades:
+        for digits in eseries.E24:
+            v = digits / 10 * 10.0 ** (d + 1)
+            text = part_value_text(mt.Element(kind, "series", v))
+            num, unit = text.split()
+            assert unit in units, text
+            assert float(num) * units[unit] == pytest.approx(v, rel=1e-12), text
+            assert 0.1 <= float(num) < 1000, text
+            assert len(num.replace(".", "").strip("0")) <= 2, text  # E24 has two significant digits
+    assert part_value_text(mt.Element("capacitor", "shunt", 0.92e-12)) == "0.92 pF"
+    assert part_value_text(mt.Element("inductor", "series", 5.6e-9)) == "5.6 nH"
+
+
+def test_written_network_names_parts_in_engineering_units(cli, tmp_path):
+    # a high-impedance load needs a small shunt capacitor: the Touchstone note must say pF, not fF
+    p = write_rlc(tmp_path / "hi.s1p", f0_hz=915e6, r_ohm=400.0, l_h=40e-9, lo_hz=800e6, hi_hz=1030e6, n=801)
+    net = tmp_path / "net.s2p"
+    r = cli("match", p, "--at", "915MHz", "--write-network", net)
+    assert r.code == 0, r.err
+    text = net.read_text()
+    assert "fF" not in text and "pH" not in text
+    assert "pF" in text or "nF" in text or "nH" in text
+
+
+def test_option_types_are_reusable_by_another_command():
+    # the module-level option types carry the same option names and parse the same way elsewhere
+    import typer
+    from typer.testing import CliRunner
+
+    app = typer.Typer()
+
+    @app.command()
+    def other(series: match_cmd.SeriesOpt = "E24", q_l: match_cmd.QInductorOpt = None,
+              c_range: match_cmd.CRangeOpt = None, pick: match_cmd.PickOpt = 1,
+              tol: match_cmd.ToleranceOpt = None) -> None:
+        print(series, q_l, c_range, pick, tol)
+
+    r = CliRunner().invoke(app, ["--series", "E96", "--q-inductor", "40", "--c-range", "1pF:1nF", "--pick", "2",
+                                 "--tolerance", "5%"])
+    assert r.exit_code == 0, r.output
+    assert r.output.split() == ["E96", "40.0", "1pF:1nF", "2", "5%"]

@@ -17,7 +17,7 @@ from ..outputs import atomic_write_many, check_output
 from ..summary import threshold_from_options
 from ..sweep import load, touchstone_text
 from ..units import format_frequency as ff
-from ..units import format_value_si, parse_band, parse_frequency
+from ..units import parse_band, parse_frequency
 from .common import (
     ForceOpt,
     JsonOpt,
@@ -44,6 +44,38 @@ EPILOG = """Examples:
 """
 
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
+
+
+# Option types of ``match``, module-level so that other commands can reuse them (e.g. a command
+# that designs a network for a spec could import SeriesOpt, QInductorOpt, CRangeOpt...).
+AtOpt = Annotated[str | None, typer.Option("--at", metavar="FREQ", help="Match at one frequency, e.g. 915MHz.")]
+BandOpt = Annotated[str | None, typer.Option("--band", metavar="LOW:HIGH",
+    help="Match over a band, e.g. 902MHz:928MHz.")]
+SeriesOpt = Annotated[str, typer.Option("--series", metavar="exact|E12|E24|E48|E96",
+    help="Preferred-value series (IEC 60063) or exact values.")]
+QInductorOpt = Annotated[float | None, typer.Option("--q-inductor", metavar="Q",
+    help="Inductor Q at the target frequency (constant-Q model).")]
+QCapacitorOpt = Annotated[float | None, typer.Option("--q-capacitor", metavar="Q",
+    help="Capacitor Q at the target frequency (constant-Q model).")]
+ToleranceOpt = Annotated[str | None, typer.Option("--tolerance", metavar="PCT",
+    help="Part tolerance for the yield, e.g. 5%.")]
+ToleranceInductorOpt = Annotated[str | None, typer.Option("--tolerance-inductor", metavar="PCT",
+    help="Inductor tolerance (overrides --tolerance).")]
+ToleranceCapacitorOpt = Annotated[str | None, typer.Option("--tolerance-capacitor", metavar="PCT",
+    help="Capacitor tolerance (overrides --tolerance).")]
+TrialsOpt = Annotated[int, typer.Option("--trials", metavar="N", help="Monte Carlo builds for the yield.")]
+SeedOpt = Annotated[int, typer.Option("--seed", metavar="N", help="Random seed of the yield (reproducible).")]
+CRangeOpt = Annotated[str | None, typer.Option("--c-range", metavar="LOW:HIGH",
+    help="Allowed capacitor values [default: 0.1pF:100nF].")]
+LRangeOpt = Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
+    help="Allowed inductor values [default: 0.5nH:10uH].")]
+CandidatesOpt = Annotated[int, typer.Option("--candidates", metavar="N", help="How many networks to list.")]
+PickOpt = Annotated[int, typer.Option("--pick", metavar="N",
+    help="Which ranked network the --write-* files hold.")]
+WriteNetworkOpt = Annotated[str | None, typer.Option("--write-network", metavar="FILE.s2p",
+    help="Write the network as a 2-port (port 1 radio).")]
+WriteMatchedOpt = Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
+    help="Write the antenna with the network in place.")]
 
 
 def cli_guard(fn):
@@ -180,7 +212,8 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
         target = {"f_low_hz": r.f_low_hz, "f_high_hz": r.f_high_hz, "f_center_hz": r.f0_hz}
     ys = r.yield_settings
     bf = r.bound
-    best_rl = r.candidates[0].worst_return_loss_db if r.candidates else None
+    with_parts = [c for c in r.candidates if c.elements]
+    best_rl = with_parts[0].worst_return_loss_db if with_parts else None
     return {
         "file": r.path, "port": port, "z0_ohm": r.z0_ohm, "target": target, "series": r.series,
         "q_inductor": _none_if_inf(r.q.inductor), "q_capacitor": _none_if_inf(r.q.capacitor),
@@ -189,8 +222,11 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
                    "l_min_h": r.bounds.l_min_h, "l_max_h": r.bounds.l_max_h},
         "threshold_return_loss_db": r.threshold_return_loss_db, "rank_by": r.rank_by,
         "order": "elements listed from the radio side to the antenna side",
+        "no_network_needed": r.no_network_needed,
+        "advice": no_network_text(r) if r.no_network_needed else None,
         "before": {"worst_return_loss_db": r.before_worst_return_loss_db,
                    "return_loss_at_f0_db": r.before_return_loss_at_f0_db,
+                   "meets_threshold": r.before_meets_threshold,
                    "bands": [band_doc(b) for b in r.before_bands]},
         "candidates": [{
             "rank": i + 1, "topology": c.topology, "elements": [element_doc(e) for e in c.elements],
@@ -230,6 +266,17 @@ def part_value_text(e: mt.Element, digits: int = 3) -> str:
     return f"{e.value / base:.{digits}g}"
 
 
+RL_DISPLAY_CAP_DB = 60.0  # |Gamma| = 0.001: beyond what a calibrated VNA resolves (common practice, no source)
+
+
+def rl_text(x: float | None, digits: int = 2) -> str:
+    """A return loss for a table: ``>= 60`` from 60 dB up (an exact match gives floating-point
+    residue such as 316 dB, or inf), 'n/a' for NaN, else fixed digits. The JSON keeps the raw value."""
+    if x is not None and not (isinstance(x, float) and math.isnan(x)) and x >= RL_DISPLAY_CAP_DB:
+        return f">= {RL_DISPLAY_CAP_DB:g}"
+    return fmt(x, digits)
+
+
 def _label(e: mt.Element, i: int) -> str:
     sym = "L" if e.kind == "inductor" else "C"
     return f"{sym}{i} {part_value_text(e)}"
@@ -265,6 +312,19 @@ def schematic(elements: tuple[mt.Element, ...], z0_ohm: float) -> str:
     return "\n".join(lines)
 
 
+def _target_text(r: mt.MatchResult) -> str:
+    if r.f_low_hz is None:
+        return f"at {ff(r.f0_hz)}"
+    return f"over the band {ff(r.f_low_hz)} to {ff(r.f_high_hz)}"
+
+
+def no_network_text(r: mt.MatchResult) -> str:
+    """The advice line for an antenna that needs no network."""
+    return (f"no network needed: the antenna already meets {r.threshold_return_loss_db:g} dB return loss "
+            f"{_target_text(r)} (worst {fmt(r.before_worst_return_loss_db)} dB) and no network gains more than "
+            f"{mt.MEANINGFUL_GAIN_DB:g} dB of delivered power over a direct connection")
+
+
 def render(r: mt.MatchResult) -> None:
     from rich.markup import escape
     from rich.table import Table
@@ -276,9 +336,16 @@ def render(r: mt.MatchResult) -> None:
         tgt = f"over {ff(r.f_low_hz)} to {ff(r.f_high_hz)}"
     c.print(f"[bold]{escape(r.path)}[/bold]  matching to {r.z0_ohm:g} ohm {tgt}; values {r.series}, "
             f"Q(L) {fmt(r.q.inductor, 0)}, Q(C) {fmt(r.q.capacitor, 0)}")
-    c.print(f"Before: worst return loss {fmt(r.before_worst_return_loss_db)} dB "
-            f"(S11 {fmt(-r.before_worst_return_loss_db)} dB), at {ff(r.f0_hz)} {fmt(r.before_return_loss_at_f0_db)} dB")
-    t = Table(title=f"Candidates, ranked by {r.rank_by}; parts radio side first", title_justify="left",
+    s11 = ("<= -" + f"{RL_DISPLAY_CAP_DB:g}" if r.before_worst_return_loss_db >= RL_DISPLAY_CAP_DB
+           else fmt(-r.before_worst_return_loss_db))
+    c.print(f"Before: worst return loss {rl_text(r.before_worst_return_loss_db)} dB "
+            f"(S11 {s11} dB), at {ff(r.f0_hz)} {rl_text(r.before_return_loss_at_f0_db)} dB")
+    if r.no_network_needed:
+        c.print(f"[bold]{escape(no_network_text(r))}[/bold]")
+    elif r.before_meets_threshold:
+        c.print(f"The antenna already meets {r.threshold_return_loss_db:g} dB {_target_text(r)}; the networks listed "
+                f"above 'direct' gain more than {mt.MEANINGFUL_GAIN_DB:g} dB of delivered power over it.")
+    t = Table(title=f"Candidates, ranked by {mt.MatchResult.rank_by}; parts radio side first", title_justify="left",
               show_edge=False)
     cols = ["#", "topology", "parts, radio -> antenna", "worst RL dB", "RL f0 dB", "loss dB", "worst deliv.",
             "DC / filter"]
@@ -289,8 +356,8 @@ def render(r: mt.MatchResult) -> None:
         t.add_column(col, justify="left" if left else "right", no_wrap=left)
     for i, cand in enumerate(r.candidates, start=1):
         parts = ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}"
-                          for e in cand.elements)
-        row = [str(i), cand.topology, parts, fmt(cand.worst_return_loss_db), fmt(cand.return_loss_at_f0_db),
+                          for e in cand.elements) or "none (connect the antenna directly)"
+        row = [str(i), cand.topology, parts, rl_text(cand.worst_return_loss_db), rl_text(cand.return_loss_at_f0_db),
                fmt(cand.network_loss_db, 3), f"{100 * cand.worst_delivered_fraction:.1f} %",
                f"{'passes DC' if cand.passes_dc else 'no DC'}, {cand.filter}"]
         if r.yield_settings is not None:
@@ -303,14 +370,16 @@ def render(r: mt.MatchResult) -> None:
                           + (" (runs past the sweep)" if b.clipped_low or b.clipped_high else "")
                           for b in cand.bands) or "none"
         c.print(f"  #{i}: {escape(bands)}")
-    if r.candidates:
-        best = r.candidates[0]
+    with_parts = [cand for cand in r.candidates if cand.elements]
+    if r.candidates and r.candidates[0].elements:
         c.print("\nBest network (solder from the radio side):")
-        c.print(escape(schematic(best.elements, r.z0_ohm)))
-    if r.bound is not None and r.candidates:
+        c.print(escape(schematic(r.candidates[0].elements, r.z0_ohm)))
+    elif r.candidates:
+        c.print("\nBest choice: no parts; connect the antenna directly to the radio.")
+    if r.bound is not None and with_parts:
         c.print(f"\nBode-Fano limit ({r.bound.model} fitted over the band, R {r.bound.r_ohm:.3g} ohm): no lossless "
                 f"network can hold more than {fmt(r.bound.best_return_loss_db)} dB return loss across the band; "
-                f"the best L-network reaches {fmt(r.candidates[0].worst_return_loss_db)} dB.")
+                f"the best L-network reaches {rl_text(with_parts[0].worst_return_loss_db)} dB.")
     if r.yield_settings is not None and r.candidates:
         ys = r.yield_settings
         c.print(f"Tolerance yield: {ys.trials} builds, L +-{100 * ys.tolerance_l:g} %, C +-{100 * ys.tolerance_c:g} % "
@@ -326,34 +395,22 @@ def register(app: typer.Typer) -> None:
     def match_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
                                              show_default=False)],
-        at: Annotated[str | None, typer.Option("--at", metavar="FREQ", help="Match at one frequency, e.g. 915MHz.")] = None,
-        band: Annotated[str | None, typer.Option("--band", metavar="LOW:HIGH",
-                                                 help="Match over a band, e.g. 902MHz:928MHz.")] = None,
-        series: Annotated[str, typer.Option("--series", metavar="exact|E12|E24|E48|E96",
-                                            help="Preferred-value series (IEC 60063) or exact values.")] = "E24",
-        q_inductor: Annotated[float | None, typer.Option("--q-inductor", metavar="Q",
-                                                         help="Inductor Q at the target frequency (constant-Q model).")] = None,
-        q_capacitor: Annotated[float | None, typer.Option("--q-capacitor", metavar="Q",
-                                                          help="Capacitor Q at the target frequency (constant-Q model).")] = None,
-        tolerance: Annotated[str | None, typer.Option("--tolerance", metavar="PCT",
-                                                      help="Part tolerance for the yield, e.g. 5%.")] = None,
-        tolerance_l: Annotated[str | None, typer.Option("--tolerance-inductor", metavar="PCT",
-                                                        help="Inductor tolerance (overrides --tolerance).")] = None,
-        tolerance_c: Annotated[str | None, typer.Option("--tolerance-capacitor", metavar="PCT",
-                                                        help="Capacitor tolerance (overrides --tolerance).")] = None,
-        trials: Annotated[int, typer.Option("--trials", metavar="N", help="Monte Carlo builds for the yield.")] = 2000,
-        seed: Annotated[int, typer.Option("--seed", metavar="N", help="Random seed of the yield (reproducible).")] = 1,
-        c_range: Annotated[str | None, typer.Option("--c-range", metavar="LOW:HIGH",
-                                                    help="Allowed capacitor values [default: 0.1pF:100nF].")] = None,
-        l_range: Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
-                                                    help="Allowed inductor values [default: 0.5nH:10uH].")] = None,
-        count: Annotated[int, typer.Option("--candidates", metavar="N", help="How many networks to list.")] = 6,
-        pick: Annotated[int, typer.Option("--pick", metavar="N",
-                                          help="Which ranked network the --write-* files hold.")] = 1,
-        write_network: Annotated[str | None, typer.Option("--write-network", metavar="FILE.s2p",
-                                                          help="Write the network as a 2-port (port 1 radio).")] = None,
-        write_matched: Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
-                                                          help="Write the antenna with the network in place.")] = None,
+        at: AtOpt = None,
+        band: BandOpt = None,
+        series: SeriesOpt = "E24",
+        q_inductor: QInductorOpt = None,
+        q_capacitor: QCapacitorOpt = None,
+        tolerance: ToleranceOpt = None,
+        tolerance_l: ToleranceInductorOpt = None,
+        tolerance_c: ToleranceCapacitorOpt = None,
+        trials: TrialsOpt = 2000,
+        seed: SeedOpt = 1,
+        c_range: CRangeOpt = None,
+        l_range: LRangeOpt = None,
+        count: CandidatesOpt = 6,
+        pick: PickOpt = 1,
+        write_network: WriteNetworkOpt = None,
+        write_matched: WriteMatchedOpt = None,
         port: PortOpt = 1,
         z0: Z0Opt = None,
         min_return_loss: MinRLOpt = None,
@@ -408,7 +465,7 @@ def register(app: typer.Typer) -> None:
             if not 1 <= pick <= len(r.candidates):
                 raise UsageError(f"--pick {pick}", expected=f"a rank from 1 to {len(r.candidates)}")
             chosen = r.candidates[pick - 1]
-            desc = "; ".join(f"{e.connection} {e.kind} {format_value_si(e.value, e.unit, 6)}" for e in chosen.elements)
+            desc = "; ".join(f"{e.connection} {e.kind} {part_value_text(e, 6)}" for e in chosen.elements) or "no parts"
             items = []
             notes = [f"matchtool match network for {sw.name} (radio side first): {desc}",
                      f"part Q: L {fmt(q.inductor, 1)}, C {fmt(q.capacitor, 1)}"]
