@@ -9,8 +9,7 @@ import typer
 
 from ..budget import BudgetPoint, BudgetResult, budget
 from ..units import format_frequency as ff
-from .common import JsonOpt, console, emit_json, fmt, warn
-from .match import cli_guard
+from .common import JsonOpt, cli_guard, console, emit_json, fmt, warn
 
 HELP = """Link budget (Friis, in dB) from a TOML file, with the mismatch of the measured antenna sweeps.
 

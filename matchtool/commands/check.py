@@ -13,8 +13,7 @@ from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write_many, check_output
 from ..spec import RequirementResult, Spec, UnitResult, load_spec
 from ..units import format_frequency as ff
-from .common import ForceOpt, JsonOpt, console, emit_json, fmt, warn
-from .match import cli_guard, refuse_special_output
+from .common import ForceOpt, JsonOpt, cli_guard, console, emit_json, fmt, refuse_special_output, warn
 
 EPILOG = """Examples:
 

@@ -19,9 +19,21 @@ from ..outputs import check_output
 from ..sweep import gamma_at_many, load, ports_from_name, write_touchstone
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency, parse_length, parse_time
-from .common import ForceOpt, JsonOpt, PortOpt, Z0Opt, console, emit_json, frequencies, warn
+from .common import (
+    ForceOpt,
+    JsonOpt,
+    PortOpt,
+    Z0Opt,
+    cli_guard,
+    console,
+    emit_json,
+    frequencies,
+    no_negative_zero,
+    refuse_special_output,
+    same_file,
+    warn,
+)
 from .common import fmt as _fmt
-from .match import cli_guard, no_negative_zero, refuse_special_output, same_file
 
 EPILOG = """Examples:
 

@@ -16,13 +16,13 @@ from .common import (
     MinRLOpt,
     PortOpt,
     Z0Opt,
+    cli_guard,
     console,
     emit_json,
     fmt,
     frequencies,
     warn,
 )
-from .match import cli_guard
 
 EPILOG = """Examples:
 
