@@ -242,11 +242,14 @@ class LotSummary:
 def _unit_key(u: UnitResult) -> tuple[bool, float, RequirementResult | None, int]:
     """Sort key of a unit, worst first: failing before passing, then the smallest margin in dB.
 
-    For a failing unit only its failing requirements count; one without a dB margin (not
-    evaluated, or outside the resonance window) counts as -inf; ties go to the unit that fails more
-    requirements. The requirement is returned too.
+    For a failing unit only its failing requirements count, and of those the ones with a margin in
+    dB; a unit whose only failures have no dB margin (not evaluated, or outside the resonance
+    window) counts as -inf. Ties go to the unit that fails more requirements. The requirement is
+    returned too.
     """
     reqs = [r for r in u.requirements if not r.passed] or [r for r in u.requirements if r.margin_db is not None]
+    in_db = [r for r in reqs if r.margin_db is not None]
+    reqs = in_db or reqs  # rank on dB margins when the unit has any; a MHz miss alone counts as -inf
     worst, m = None, math.inf
     for r in reqs:
         x = r.margin_db if r.margin_db is not None else -math.inf

@@ -210,6 +210,20 @@ def passes_dc(elements: Sequence[Element]) -> bool:
     return not any((e.kind == "capacitor") == (e.connection == "series") for e in elements)
 
 
+def dc_words(elements: Sequence[Element]) -> str:
+    """How the network treats DC (bias on the feed): 'passes DC', 'DC blocked (series C)',
+    'DC shorted (shunt L: to ground)' or both."""
+    blocked = any(e.kind == "capacitor" and e.connection == "series" for e in elements)
+    shorted = any(e.kind == "inductor" and e.connection == "shunt" for e in elements)
+    if blocked and shorted:
+        return "DC blocked + shorted"
+    if blocked:
+        return "DC blocked (series C)"
+    if shorted:
+        return "DC shorted (shunt L)"
+    return "passes DC"
+
+
 def filter_character(elements: Sequence[Element]) -> str:
     """"low-pass" (series L / shunt C only), "high-pass" (series C / shunt L only), "all-pass" (no
     part: a direct connection), else "band-pass"."""
@@ -866,7 +880,7 @@ def gamma_matched(sweep: Sweep, elements: Sequence[Element], q: PartQ = PartQ())
 
 
 __all__ = ["Element", "PartQ", "ValueBounds", "LNetwork", "Response", "Candidate", "MatchResult", "YieldSettings",
-           "BodeFanoBound", "synthesize_at", "evaluate", "abcd", "s_parameters", "passes_dc", "filter_character",
+           "BodeFanoBound", "synthesize_at", "evaluate", "abcd", "s_parameters", "passes_dc", "dc_words", "filter_character",
            "bode_fano_bound", "design_at", "design_for_band", "gamma_matched", "element_from_reactance",
            "part_impedance", "unit_impedance", "network_2port", "matched_network", "nelder_mead", "part_role",
            "practical"]

@@ -79,12 +79,13 @@ def test_lot_summary(tmp_path, spec):
     ism = next(y for y in s.yields if y.name == "ism")
     assert ism.passed == sum(r >= 10 for r in rl_worst) and 0 < ism.passed < len(f0s)
     # worst units: the failing ones first, each group by its smallest dB margin
-    # (a failing unit by its failing requirements only, one without a dB margin counting as -inf)
+    # (a failing unit by its failing requirements only, and of those by the ones with a dB margin;
+    # a unit whose only failures have no dB margin, e.g. a resonance miss in MHz, counts as -inf)
     def key(u):
         reqs = [r for r in u.requirements if not r.passed] or u.requirements
-        return (u.passed, min(-np.inf if r.margin_db is None else r.margin_db for r in reqs
-                              if r.margin_db is not None or not r.passed),
-                -sum(not r.passed for r in u.requirements))
+        in_db = [r.margin_db for r in reqs if r.margin_db is not None]
+        worst = min(in_db) if in_db else -np.inf
+        return (u.passed, worst, -sum(not r.passed for r in u.requirements))
 
     order = sorted(range(len(results)), key=lambda k: key(results[k]))
     assert [w.file for w in s.worst] == [results[k].file for k in order]

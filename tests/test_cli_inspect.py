@@ -91,3 +91,10 @@ def test_broken_pipe_is_one_line_and_status_2(cli, tmp_path, monkeypatch):
     monkeypatch.setattr(insp, "emit_json", closed)
     r = cli("inspect", write_rlc(tmp_path / "u.s1p"), "--json")
     assert r.code == 2 and len(r.err_lines) == 1 and "broken pipe" in r.err and "Traceback" not in r.err
+
+
+def test_port_two_is_labelled_s22(cli, tmp_path):
+    p = tmp_path / "t.s2p"
+    p.write_text("# GHz S RI R 50\n1 0.1 0 0.2 0 0.2 0 0.4 0\n2 0.1 0 0.2 0 0.2 0 0.5 0\n")
+    r = cli("inspect", p, "--port", "2", "--at", "1.5GHz")
+    assert "S22" in r.out and "S11" not in r.out

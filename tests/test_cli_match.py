@@ -315,3 +315,23 @@ def test_option_types_are_reusable_by_another_command():
                                  "--tolerance", "5%"])
     assert r.exit_code == 0, r.output
     assert r.output.split() == ["E96", "40.0", "1pF:1nF", "2", "5%"]
+
+
+def test_dc_words_name_what_happens_to_bias():
+    # a shunt inductor shorts DC to ground; a series capacitor blocks it (circuit fact, no source needed)
+    from matchtool.matching import Element, dc_words
+
+    assert dc_words([Element("inductor", "series", 5e-9), Element("capacitor", "shunt", 3e-12)]) == "passes DC"
+    assert dc_words([Element("inductor", "series", 5e-9), Element("inductor", "shunt", 16e-9)]).startswith(
+        "DC shorted")
+    assert dc_words([Element("capacitor", "series", 5e-12)]).startswith("DC blocked")
+
+
+def test_match_says_when_no_network_reaches_the_threshold(cli):
+    from helpers import ROOT
+
+    r = cli("match", ROOT / "sample_sweeps" / "ant_r3.s1p", "--band", "902MHz:928MHz", "--min-return-loss", "20",
+            "--json")
+    doc = r.json()
+    best = max(c["worst_return_loss_db"] for c in doc["candidates"] if c["elements"])
+    assert best < 20 and doc["advice"].startswith("no two-part network reaches 20 dB")

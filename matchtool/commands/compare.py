@@ -227,8 +227,12 @@ def render_spec(c: Comparison, names: list[str]) -> None:
     by_path = dict(zip([r.file for r in c.rows], names, strict=True))
     for v in c.spec_verdicts:
         con.print(escape(v.sentence(by_path)))
-    con.print("Verdict: " + ("[red]FAIL[/red]" if c.spec_failed else "[green]PASS[/green]")
-              + " (every requirement of every revision)")
+    failing = [name for r, name in zip(c.rows, names, strict=True) if r.spec is not None and not r.spec.passed]
+    if c.spec_failed:
+        con.print(f"Verdict: [red]FAIL[/red] - {len(failing)} of {len(c.rows)} revisions fail the spec: "
+                  + escape(", ".join(failing)))
+    else:
+        con.print(f"Verdict: [green]PASS[/green] - all {len(c.rows)} revisions meet every requirement")
 
 
 def register(app: typer.Typer) -> None:

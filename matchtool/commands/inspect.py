@@ -58,6 +58,11 @@ def summary_doc(s: SweepSummary) -> dict[str, Any]:
     }
 
 
+def _s(s: SweepSummary) -> str:
+    """The name of the reflection parameter shown: S11, S22, ... (S_pp of the chosen port)."""
+    return f"S{s.port}{s.port}" if s.port < 10 else f"S{s.port},{s.port}"
+
+
 def _delivered(fraction: float) -> str:
     """Delivered power as a percentage; |Gamma| > 1 (a negative fraction) is not physical."""
     return f"{100 * fraction:.1f} %" if fraction >= 0 else "none (|Gamma| > 1, not physical)"
@@ -72,9 +77,9 @@ def render_summary(s: SweepSummary) -> None:
             f"{ff(s.f_start_hz)} to {ff(s.f_stop_hz)}")
     b = s.best
     c.print(f"Best match (smallest |Gamma| sample): {ff(b.f_hz)}  return loss {fmt(b.return_loss_db)} dB "
-            f"(S11 {fmt(b.s11_db)} dB)  VSWR {fmt(b.vswr)}  delivered {_delivered(b.delivered_fraction)}")
+            f"({_s(s)} {fmt(b.s11_db)} dB)  VSWR {fmt(b.vswr)}  delivered {_delivered(b.delivered_fraction)}")
     thr = s.threshold_return_loss_db
-    title = f"Bands with return loss >= {thr:.2f} dB (S11 <= {-thr:.2f} dB)"
+    title = f"Bands with return loss >= {thr:.2f} dB ({_s(s)} <= {-thr:.2f} dB)"
     if not s.bands:
         c.print(f"{title}: none - the sweep never reaches the threshold")
     else:
@@ -90,7 +95,7 @@ def render_summary(s: SweepSummary) -> None:
     if s.at:
         t = Table(title="Values at chosen frequencies (interpolated in complex Gamma)", title_justify="left",
                   show_edge=False)
-        for col in ("frequency", "|Gamma|", "S11 dB", "return loss dB", "VSWR", "mismatch loss dB",
+        for col in ("frequency", "|Gamma|", f"{_s(s)} dB", "return loss dB", "VSWR", "mismatch loss dB",
                     "delivered", "impedance ohm"):
             t.add_column(col, justify="right")
         for p in s.at:

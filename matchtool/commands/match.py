@@ -162,7 +162,7 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
         "threshold_return_loss_db": r.threshold_return_loss_db, "rank_by": r.rank_by,
         "order": "elements listed from the radio side to the antenna side",
         "no_network_needed": r.no_network_needed,
-        "advice": no_network_text(r) if r.no_network_needed else None,
+        "advice": no_network_text(r) if r.no_network_needed else short_of_threshold_text(r),
         "before": {"worst_return_loss_db": r.before_worst_return_loss_db,
                    "return_loss_at_f0_db": r.before_return_loss_at_f0_db,
                    "meets_threshold": r.before_meets_threshold,
@@ -171,7 +171,7 @@ def result_doc(r: mt.MatchResult, port: int) -> dict[str, Any]:
             "rank": i + 1, "topology": c.topology, "elements": [element_doc(e) for e in c.elements],
             "worst_return_loss_db": c.worst_return_loss_db, "return_loss_at_f0_db": c.return_loss_at_f0_db,
             "network_loss_db": c.network_loss_db, "worst_delivered_fraction": c.worst_delivered_fraction,
-            "passes_dc": c.passes_dc, "filter": c.filter, "bands": [band_doc(b) for b in c.bands],
+            "passes_dc": c.passes_dc, "dc": mt.dc_words(c.elements), "filter": c.filter, "bands": [band_doc(b) for b in c.bands],
             "yield_fraction": c.yield_fraction,
         } for i, c in enumerate(r.candidates)],
         "bode_fano": None if bf is None else {
@@ -264,6 +264,17 @@ def no_network_text(r: mt.MatchResult) -> str:
             f"{mt.MEANINGFUL_GAIN_DB:g} dB of delivered power over a direct connection")
 
 
+def short_of_threshold_text(r: mt.MatchResult) -> str | None:
+    """A warning when no listed network reaches the threshold over the target (None otherwise)."""
+    with_parts = [c for c in r.candidates if c.elements]
+    if not with_parts or max(c.worst_return_loss_db for c in with_parts) >= r.threshold_return_loss_db:
+        return None
+    best = max(c.worst_return_loss_db for c in with_parts)
+    return (f"no two-part network reaches {r.threshold_return_loss_db:g} dB return loss {_target_text(r)}: the best "
+            f"reaches {fmt(best)} dB (before: {rl_text(r.before_worst_return_loss_db)} dB); consider a wider-band "
+            f"antenna or a higher-order network (see the Bode-Fano limit)")
+
+
 def render(r: mt.MatchResult) -> None:
     from rich.markup import escape
     from rich.table import Table
@@ -298,7 +309,7 @@ def render(r: mt.MatchResult) -> None:
                           for e in cand.elements) or "none (connect the antenna directly)"
         row = [str(i), cand.topology, parts, rl_text(cand.worst_return_loss_db), rl_text(cand.return_loss_at_f0_db),
                fmt(cand.network_loss_db, 3), f"{100 * cand.worst_delivered_fraction:.1f} %",
-               f"{'passes DC' if cand.passes_dc else 'no DC'}, {cand.filter}"]
+               f"{mt.dc_words(cand.elements)}, {cand.filter}"]
         if r.yield_settings is not None:
             row.append("n/a" if cand.yield_fraction is None else f"{100 * cand.yield_fraction:.1f} %")
         t.add_row(*[escape(x) for x in row])
@@ -310,6 +321,9 @@ def render(r: mt.MatchResult) -> None:
                           for b in cand.bands) or "none"
         c.print(f"  #{i}: {escape(bands)}")
     with_parts = [cand for cand in r.candidates if cand.elements]
+    short = short_of_threshold_text(r)
+    if short:
+        c.print(f"[bold]{escape(short)}[/bold]")
     if r.candidates and r.candidates[0].elements:
         c.print("\nBest network (solder from the radio side):")
         c.print(escape(schematic(r.candidates[0].elements, r.z0_ohm)))

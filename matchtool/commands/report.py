@@ -27,6 +27,7 @@ from .. import reflection as rf
 from ..budget import BudgetResult
 from ..compare import BandSpec, Comparison, compare
 from ..errors import ExitStatus, InputError, UsageError
+from ..matching import dc_words as mt_dc_words
 from ..outputs import atomic_write, check_output
 from ..render import html as h
 from ..summary import SweepSummary, summarize, threshold_from_options
@@ -304,7 +305,7 @@ def match_section(ctx: ReportContext) -> h.Section | None:
     thr = ctx.threshold_return_loss_db
     cands = [[f"#{i}" + (" (shown)" if i == pm.pick else ""), c.topology, _parts(c.elements),
               fmt(c.worst_return_loss_db), fmt(c.return_loss_at_f0_db), fmt(c.network_loss_db, 3),
-              f"{100 * c.worst_delivered_fraction:.1f} %", "passes DC" if c.passes_dc else "blocks DC", c.filter]
+              f"{100 * c.worst_delivered_fraction:.1f} %", mt_dc_words(c.elements), c.filter]
              for i, c in enumerate(r.candidates, start=1)]
     q = r.q
     parts = [h.paragraph(f"For {ctx.labels[0]} {pm.target_text}, matched to {r.z0_ohm:g} ohm, {r.series} part values, "
