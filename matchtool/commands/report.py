@@ -384,8 +384,10 @@ def budget_section(ctx: ReportContext) -> h.Section | None:
         parts.append(h.bullet_list(b.warnings, "note warn"))
     from .budget import estimate_words
 
+    limit_note = ("; the EIRP limit above is the user's number" if b.eirp_limit_dbm is not None
+                  else "; no EIRP limit was given")
     parts.append(h.paragraph(f"{estimate_words(b)}, not a coverage prediction. EIRP and RF exposure limits are set "
-                             "by local regulation; the EIRP limit above is the user's number.", "note warn"))
+                             f"by local regulation{limit_note}.", "note warn"))
     return h.Section("budget", "Link budget", "\n".join(parts))
 
 
