@@ -7,6 +7,7 @@ from __future__ import annotations
 import importlib
 import os
 import sys
+import warnings
 from typing import Annotated
 
 import typer
@@ -84,7 +85,12 @@ def main(argv: list[str] | None = None) -> int:
     try:
         app = build_app(_command_named(args))
         try:
-            rv = int(app(args=args, prog_name="matchtool", standalone_mode=False) or 0)
+            with warnings.catch_warnings():
+                # numpy's floating-point RuntimeWarnings (overflow for absurd but finite options such as
+                # --delay 1e300s) never reach stderr as loose text: results carry inf / NaN, which the
+                # tables show as 'inf' / 'n/a' and the JSON writer turns into null with a named warning
+                warnings.simplefilter("ignore", RuntimeWarning)
+                rv = int(app(args=args, prog_name="matchtool", standalone_mode=False) or 0)
         except SystemExit as exc:  # typer handles a broken pipe itself with sys.exit(1)
             if isinstance(exc.__context__, BrokenPipeError):
                 raise exc.__context__ from None

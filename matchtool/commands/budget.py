@@ -9,7 +9,7 @@ import typer
 
 from ..budget import BudgetPoint, BudgetResult, budget
 from ..units import format_frequency as ff
-from .common import JsonOpt, cli_guard, console, emit_json, fmt, warn
+from .common import JsonOpt, console, emit_json, fmt, warn
 
 HELP = """Link budget (Friis, in dB) from a TOML file, with the mismatch of the measured antenna sweeps.
 
@@ -159,7 +159,6 @@ def estimate_words(res) -> str:
 
 def register(app: typer.Typer) -> None:
     @app.command("budget", help=HELP, epilog=EPILOG)
-    @cli_guard
     def budget_cmd(
         file: Annotated[str, typer.Argument(metavar="FILE.toml", help="Budget file (TOML).", show_default=False)],
         json_out: JsonOpt = False,

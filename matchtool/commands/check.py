@@ -13,7 +13,7 @@ from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write_many, check_output
 from ..spec import RequirementResult, Spec, UnitResult, load_spec
 from ..units import format_frequency as ff
-from .common import ForceOpt, JsonOpt, cli_guard, console, emit_json, fmt, refuse_special_output, warn
+from .common import ForceOpt, JsonOpt, console, emit_json, fmt, warn
 
 EPILOG = """Examples:
 
@@ -226,7 +226,6 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     if len({str(Path(p).resolve()) for p in targets}) < len(targets):
         raise UsageError("--junit and --csv name the same file", expected="two different output files")
     for p in targets:
-        refuse_special_output(p)
         check_output(p, force)
     spec = load_spec(spec_path)
     inputs = expand_inputs(sweeps)
@@ -274,7 +273,6 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
 
 def register(app: typer.Typer) -> None:
     @app.command("check", epilog=EPILOG)
-    @cli_guard
     def check_cmd(
         sweeps: Annotated[list[str], typer.Argument(
             metavar="SWEEP...", help="Touchstone files, glob patterns ('lot7/**/*.s1p') or directories (searched "

@@ -2,17 +2,14 @@
 
 from __future__ import annotations
 
-import functools
 import json
 import math
-import os
 import sys
 from pathlib import Path
 from typing import Annotated, Any
 
 import typer
 
-from ..errors import OutputError
 from ..render.jsonout import clean
 from ..units import parse_frequency
 
@@ -70,56 +67,10 @@ def fmt(x: float, digits: int = 2, unit: str = "") -> str:
     return f"{text}{(' ' + unit) if unit else ''}"
 
 
-def cli_guard(fn):
-    """Wrap a command so that Ctrl-C reaches the CLI's handler (one line, exit status 130), and
-    numpy's floating-point RuntimeWarnings (overflow for absurd but finite options such as
-    ``--delay 1e300s``) never reach stderr as loose text: the results carry inf / NaN, which the
-    tables show as 'inf' / 'n/a' and the JSON writer turns into null with a named warning.
-
-    typer turns KeyboardInterrupt into a silent ``Exit(130)``; re-raised as ``typer.Abort`` it is
-    reported by ``matchtool.cli.main``. Outputs are written atomically, so nothing is half-written.
-    """
-
-    @functools.wraps(fn)
-    def run(*args, **kwargs):
-        import warnings
-
-        import numpy as np
-
-        try:
-            with np.errstate(all="ignore"), warnings.catch_warnings():
-                warnings.simplefilter("ignore", RuntimeWarning)  # numpy's "All-NaN slice" and the like
-                return fn(*args, **kwargs)
-        except KeyboardInterrupt:
-            raise typer.Abort() from None
-
-    return run
 
 
-def refuse_special_output(path: str | Path) -> None:
-    """Refuse an output path that exists but is not a regular file (a FIFO, device, socket, or a
-    link to one, e.g. ``/dev/stdout``): the atomic rename would replace the node itself."""
-    import stat
-
-    try:
-        mode = os.stat(path).st_mode
-    except (OSError, ValueError):
-        return
-    if not stat.S_ISREG(mode) and not stat.S_ISDIR(mode):  # a directory is refused by check_output
-        raise OutputError("is not a regular file (a FIFO, device or socket); not replaced", path=path,
-                          expected="a plain file name for the output")
 
 
-def no_negative_zero(obj: Any) -> Any:
-    """``obj`` (nested dicts / lists) with every float -0.0 written as 0.0 (a return loss of -0.0 dB
-    is IEEE arithmetic for |Gamma| = 1, not a measurement)."""
-    if isinstance(obj, float):
-        return obj + 0.0
-    if isinstance(obj, dict):
-        return {k: no_negative_zero(v) for k, v in obj.items()}
-    if isinstance(obj, list | tuple):
-        return [no_negative_zero(v) for v in obj]
-    return obj
 
 
 def same_file(a: str | Path, b: str | Path) -> bool:

@@ -24,12 +24,9 @@ from .common import (
     JsonOpt,
     PortOpt,
     Z0Opt,
-    cli_guard,
     console,
     emit_json,
     frequencies,
-    no_negative_zero,
-    refuse_special_output,
     same_file,
     warn,
 )
@@ -220,7 +217,6 @@ def render(doc: dict[str, Any], feed_at: fl.FeedPoints | None, worst: fl.BandWor
 
 def register(app: typer.Typer) -> None:
     @app.command("feedline", epilog=EPILOG)
-    @cli_guard
     def feedline_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],
@@ -272,7 +268,6 @@ def register(app: typer.Typer) -> None:
         if z0 is not None and not (math.isfinite(z0) and z0 > 0):
             raise UsageError(f"--z0 {z0:g} ohm", expected="a positive, finite impedance")
         if out is not None:
-            refuse_special_output(out)
             check_output(out, force)
             for name, inp in (("sweep", sweep), ("--cable file", cable)):
                 if inp is not None and same_file(out, inp):
@@ -339,7 +334,7 @@ def register(app: typer.Typer) -> None:
             "warnings": warnings,
         }
         if json_out:
-            emit_json(no_negative_zero(doc))
+            emit_json(doc)
         else:
             render(doc, feed_at, worst)
             warn(warnings)

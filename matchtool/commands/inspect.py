@@ -16,7 +16,6 @@ from .common import (
     MinRLOpt,
     PortOpt,
     Z0Opt,
-    cli_guard,
     console,
     emit_json,
     fmt,
@@ -108,7 +107,6 @@ def render_summary(s: SweepSummary) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("inspect", epilog=EPILOG)
-    @cli_guard
     def inspect_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
                                              show_default=False)],

@@ -16,7 +16,7 @@ from ..summary import threshold_from_options
 from ..sweep import load, touchstone_text
 from ..units import format_frequency as ff
 from ..units import parse_band, parse_frequency
-from .common import (  # noqa: F401 - cli_guard and friends re-exported for older imports
+from .common import (
     ForceOpt,
     JsonOpt,
     MaxS11Opt,
@@ -24,12 +24,9 @@ from .common import (  # noqa: F401 - cli_guard and friends re-exported for olde
     MinRLOpt,
     PortOpt,
     Z0Opt,
-    cli_guard,
     console,
     emit_json,
     fmt,
-    no_negative_zero,
-    refuse_special_output,
     same_file,
     warn,
 )
@@ -344,7 +341,6 @@ def render(r: mt.MatchResult) -> None:
 
 def register(app: typer.Typer) -> None:
     @app.command("match", epilog=EPILOG)
-    @cli_guard
     def match_cmd(
         sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
                                              show_default=False)],
@@ -397,7 +393,6 @@ def register(app: typer.Typer) -> None:
             raise UsageError("--write-network and --write-matched name the same file", path=write_network)
         for path in (write_network, write_matched):
             if path is not None:
-                refuse_special_output(path)
                 check_output(path, force)
                 if same_file(path, sweep):
                     raise UsageError("the output would overwrite the input sweep", path=path,

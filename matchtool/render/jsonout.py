@@ -30,7 +30,7 @@ def clean(obj: Any, warnings: list[str], where: str = "") -> Any:
             word = "infinite" if math.isinf(x) else "undefined"
             warnings.append(f"{where} is {word} ({x}); written as null")
             return None
-        return x
+        return x + 0.0  # -0.0 (e.g. IEEE arithmetic at |Gamma| = 1) is written as 0.0
     return obj
 
 
