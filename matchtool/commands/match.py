@@ -118,7 +118,8 @@ def parse_percent(text: str | None, option: str) -> float | None:
     return v / 100.0
 
 
-def _q(value: float | None, option: str) -> float:
+def part_q(value: float | None, option: str) -> float:
+    """A --q-inductor / --q-capacitor value: None means an ideal part (infinite Q); Q must be positive."""
     if value is None:
         return math.inf
     if not (value > 0):
@@ -372,7 +373,7 @@ def register(app: typer.Typer) -> None:
         if (at is None) == (band is None):
             raise UsageError("give exactly one of --at FREQ or --band LOW:HIGH")
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
-        q = mt.PartQ(_q(q_inductor, "--q-inductor"), _q(q_capacitor, "--q-capacitor"))
+        q = mt.PartQ(part_q(q_inductor, "--q-inductor"), part_q(q_capacitor, "--q-capacitor"))
         c_lo, c_hi = parse_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
         l_lo, l_hi = parse_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
         bounds = mt.ValueBounds(c_lo, c_hi, l_lo, l_hi)

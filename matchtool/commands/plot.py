@@ -22,6 +22,7 @@ from ..sweep import Sweep, load
 from ..units import parse_band, parse_frequency
 from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, warn
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, require_bands_in_sweeps, spec_bands
+from .match import CRangeOpt, LRangeOpt, QCapacitorOpt, QInductorOpt, SeriesOpt, part_q
 
 EPILOG = """Examples:
 
@@ -53,16 +54,6 @@ KindOpt = Annotated[list[str] | None, typer.Option(
          "[default: return-loss].")]
 
 # The part options of `matchtool match` (same names, meanings and defaults), for plot and report.
-SeriesOpt = Annotated[str, typer.Option("--series", metavar="exact|E12|E24|E48|E96",
-                                        help="Match: preferred-value series (IEC 60063) or exact values.")]
-QInductorOpt = Annotated[float | None, typer.Option(
-    "--q-inductor", metavar="Q", help="Match: inductor Q at the target frequency (constant-Q model).")]
-QCapacitorOpt = Annotated[float | None, typer.Option(
-    "--q-capacitor", metavar="Q", help="Match: capacitor Q at the target frequency (constant-Q model).")]
-CRangeOpt = Annotated[str | None, typer.Option("--c-range", metavar="LOW:HIGH",
-                                               help="Match: allowed capacitor values [default: 0.1pF:100nF].")]
-LRangeOpt = Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
-                                               help="Match: allowed inductor values [default: 0.5nH:10uH].")]
 PickOpt = Annotated[int, typer.Option("--pick", metavar="N", help="Match: which ranked network to draw (1 = best).")]
 MatchAtOpt = Annotated[str | None, typer.Option("--at", metavar="FREQ",
                                                 help="Match at one frequency, e.g. 915MHz (with --match).")]
@@ -106,14 +97,6 @@ def q_text(q: float) -> str:
     return "ideal" if math.isinf(q) else f"{q:g}"
 
 
-def _q(value: float | None, option: str) -> float:
-    if value is None:
-        return math.inf
-    if not (value > 0):
-        raise UsageError(f"quality factor {value:g}", key=option, expected="a positive Q")
-    return float(value)
-
-
 def propose_match(sweep: Sweep, at: str | float | None, band: str | tuple[float, float] | None,
                   threshold_return_loss_db: float, series: str = "E24", q_inductor: float | None = None,
                   q_capacitor: float | None = None, c_range: str | None = None, l_range: str | None = None,
@@ -124,7 +107,7 @@ def propose_match(sweep: Sweep, at: str | float | None, band: str | tuple[float,
 
     if (at is None) == (band is None):
         raise UsageError(f"give exactly one of {option_names[0]} FREQ or {option_names[1]} LOW:HIGH for the match")
-    q = mt.PartQ(_q(q_inductor, "--q-inductor"), _q(q_capacitor, "--q-capacitor"))
+    q = mt.PartQ(part_q(q_inductor, "--q-inductor"), part_q(q_capacitor, "--q-capacitor"))
     c_lo, c_hi = parse_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
     l_lo, l_hi = parse_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
     bounds = mt.ValueBounds(c_lo, c_hi, l_lo, l_hi)

@@ -35,14 +35,10 @@ from ..sweep import Sweep, load
 from ..units import format_frequency as ff
 from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, fmt, warn
 from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, require_bands_in_sweeps, requirement_cells, spec_bands
+from .match import CRangeOpt, LRangeOpt, QCapacitorOpt, QInductorOpt, SeriesOpt
 from .plot import (
-    CRangeOpt,
-    LRangeOpt,
     PickOpt,
     ProposedMatch,
-    QCapacitorOpt,
-    QInductorOpt,
-    SeriesOpt,
     match_title,
     match_traces,
     propose_match,
