@@ -81,6 +81,14 @@ def band_containing(bands: list[Band], f_hz: float) -> Band | None:
     return None
 
 
+def sweep_covers(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float) -> bool:
+    """Whether a sweep (at least two samples, Hz) spans [f_low, f_high], allowing for the rounding
+    of a file's frequency unit (0.902 GHz * 1e9 may land a fraction of a micro-hertz off 902 MHz)."""
+    f = np.asarray(f_hz, dtype=float)
+    tol = 1e-9 * max(abs(float(f[-1])), 1.0)
+    return bool(f.size >= 2 and f_low_hz >= f[0] - tol and f_high_hz <= f[-1] + tol)
+
+
 def band_samples(f_hz: np.ndarray, y: np.ndarray, f_low_hz: float, f_high_hz: float) -> tuple[np.ndarray, np.ndarray]:
     """Samples of ``y`` (real or complex) over [f_low, f_high], with the edge values linearly
     interpolated and included, so that a worst case over the band never misses the edges.

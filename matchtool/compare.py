@@ -21,7 +21,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from . import reflection as rf
-from .bands import Band, band_containing, band_samples, find_bands
+from .bands import Band, band_containing, band_samples, find_bands, sweep_covers
 from .errors import UsageError
 from .summary import best_index
 from .sweep import Sweep
@@ -91,8 +91,7 @@ def band_worst(f_hz: np.ndarray, gamma: np.ndarray, bands: Iterable[BandSpec]) -
         if not hi > lo:
             raise UsageError(f"band {name!r} has its high edge at or below its low edge", expected="LOW < HIGH")
         lim = None if limit is None else float(limit)
-        tol = 1e-9 * max(abs(float(f[-1])), 1.0)  # a file's frequency unit rounding (as matchtool.spec)
-        if lo < f[0] - tol or hi > f[-1] + tol:
+        if not sweep_covers(f, lo, hi):
             out.append(BandWorst(name, lo, hi, lim, covered=False,
                                  reason=f"the sweep ({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz) does not cover "
                                         f"{lo / 1e6:.6g} to {hi / 1e6:.6g} MHz"))

@@ -53,7 +53,7 @@ from typing import Any
 import numpy as np
 
 from . import reflection as rf
-from .bands import band_samples
+from .bands import band_samples, sweep_covers
 from .errors import MatchtoolError, SpecError
 from .sweep import Sweep, load
 
@@ -444,7 +444,7 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
         raise SpecError(f"golden file unusable: {exc}", path=path, key="golden.file") from None
     band = next(b for b in bands if b.name == g["band"])
     f = sw.f_hz
-    if not _covers(f, band.f_low_hz, band.f_high_hz):
+    if not sweep_covers(f, band.f_low_hz, band.f_high_hz):
         raise SpecError(f"golden sweep ({f[0]:g} to {f[-1]:g} Hz) does not cover band {band.name!r} "
                         f"({band.f_low_hz:g} to {band.f_high_hz:g} Hz)", path=path, key="golden.file")
     warnings.extend(sw.warnings)
@@ -481,13 +481,6 @@ def _rl_db(gamma: np.ndarray) -> np.ndarray:
     return np.minimum(rf.return_loss_db(gamma), _CAP_DB)
 
 
-def _covers(f: np.ndarray, lo: float, hi: float) -> bool:
-    """Whether the sweep spans [lo, hi], allowing for the rounding of a file's frequency unit
-    (0.902 GHz * 1e9 may land a fraction of a micro-hertz off 902 MHz)."""
-    tol = 1e-9 * max(abs(float(f[-1])), 1.0)
-    return bool(f.size >= 2 and lo >= f[0] - tol and hi <= f[-1] + tol)
-
-
 def _not_covered(name: str, key: str, limit: float, lo: float, hi: float, f: np.ndarray) -> RequirementResult:
     reason = (f"the sweep ({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz) does not cover the band "
               f"({lo / 1e6:.6g} to {hi / 1e6:.6g} MHz)")
@@ -498,7 +491,7 @@ def _not_covered(name: str, key: str, limit: float, lo: float, hi: float, f: np.
 def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
                   warnings: list[str]) -> list[RequirementResult]:
     lo, hi = b.f_low_hz, b.f_high_hz
-    if not _covers(f, lo, hi):
+    if not sweep_covers(f, lo, hi):
         out = [_not_covered(b.name, b.limit_key, b.limit, lo, hi, f)]
         if b.max_mismatch_loss_db is not None:
             out.append(_not_covered(f"{b.name} mismatch loss", "max_mismatch_loss_db", b.max_mismatch_loss_db, lo, hi, f))
@@ -538,7 +531,7 @@ def _band_results(b: BandSpec, f: np.ndarray, gamma: np.ndarray, where: str,
 def _golden_result(g: GoldenSpec, b: BandSpec, f: np.ndarray, gamma: np.ndarray) -> RequirementResult:
     name = f"{b.name} deviation from golden"
     lo, hi = b.f_low_hz, b.f_high_hz
-    if not _covers(f, lo, hi):
+    if not sweep_covers(f, lo, hi):
         return _not_covered(name, "max_deviation_db", g.max_deviation_db, lo, hi, f)
     lo, hi = max(lo, f[0]), min(hi, f[-1])
     fu, gu = band_samples(f, gamma, lo, hi)

@@ -61,3 +61,12 @@ def test_band_samples_include_interpolated_edges():
     fs, ys = band_samples(f, y, 5.0, 25.0)
     assert list(fs) == [5.0, 10.0, 20.0, 25.0]
     assert list(ys) == [5.0, 10.0, 20.0, 25.0]
+
+
+def test_sweep_covers_allows_unit_rounding_only():
+    from matchtool.bands import sweep_covers
+
+    f = np.linspace(0.9e9, 0.93e9, 31)
+    assert sweep_covers(f, 0.9e9 * (1 - 1e-12), 0.93e9)       # GHz-unit rounding of the edge
+    assert not sweep_covers(f, 0.899e9, 0.93e9)               # a real 1 MHz gap is not covered
+    assert not sweep_covers(f[:1], 0.9e9, 0.9e9)              # one sample spans nothing
