@@ -55,7 +55,7 @@ import numpy as np
 from . import reflection as rf
 from .bands import band_samples, sweep_covers
 from .errors import MatchtoolError, SpecError
-from .sweep import Sweep, load
+from .sweep import Sweep, load, load_reflection
 
 LIMIT_KEYS = ("min_return_loss_db", "max_vswr", "max_s11_db")
 """The three equivalent ways to state a band's reflection limit."""
@@ -592,28 +592,6 @@ def evaluate(sweep: Sweep, spec: Spec) -> UnitResult:
     return evaluate_arrays(sweep.f_hz, sweep.gamma, spec, file=sweep.path, warnings=sweep.warnings)
 
 
-def _load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple[np.ndarray, np.ndarray, list[str]]:
-    """(f_hz, gamma of ``port``, warnings) of a file, read once.
-
-    Same checks and results as :func:`matchtool.sweep.load`, without building an ``skrf.Network``
-    in the common case (no renormalisation, nothing to warn about |Gamma| > 1): for a lot of a
-    thousand sweeps the Network objects cost more than the evaluation itself.
-    """
-    from .sweep import parse_touchstone, ports_from_name, read_text, sweep_from_arrays
-
-    ts = parse_touchstone(read_text(path), path, ports_from_name(path))
-    n = ts.s.shape[1]
-    fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n
-            and (z0_ohm is None or np.allclose(ts.z0_ohm, z0_ohm)))
-    if fast:
-        g = ts.s[:, port - 1, port - 1]
-        if not (np.abs(g) > 1.0).any():
-            return ts.f_hz, g, list(ts.warnings)
-    sw = sweep_from_arrays(ts.f_hz, ts.s, ts.z0_ohm, path=str(path), port=port, z0_ohm=z0_ohm,
-                           warnings=ts.warnings, version=ts.version)
-    return sw.f_hz, sw.gamma, list(sw.warnings)
-
-
 SPECIAL_FILE = "is not a regular file (a FIFO, socket or device)"
 
 
@@ -641,7 +619,7 @@ def check_file(path: str | Path, spec: Spec) -> UnitResult:
     if special is not None:
         return UnitResult(file=str(path), passed=False, error=special)
     try:
-        f_hz, gamma, warnings = _load_reflection(path, spec.port, spec.z0_ohm)
+        f_hz, gamma, warnings = load_reflection(path, spec.port, spec.z0_ohm)
         return evaluate_arrays(f_hz, gamma, spec, file=str(path), warnings=warnings)
     except MatchtoolError as exc:
         return UnitResult(file=str(path), passed=False, error=str(exc))

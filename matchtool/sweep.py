@@ -758,6 +758,26 @@ def load(path: str | Path, port: int = 1, z0_ohm: float | None = None, max_bytes
                              warnings=ts.warnings, version=ts.version)
 
 
+def load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple[np.ndarray, np.ndarray, list[str]]:
+    """(f_hz, gamma of ``port`` (1-based), warnings) of a file, read once.
+
+    Same checks and results as :func:`matchtool.sweep.load`, without building an ``skrf.Network``
+    in the common case (no renormalisation, nothing to warn about |Gamma| > 1): for a lot of a
+    thousand sweeps the Network objects cost more than the evaluation itself.
+    """
+    ts = parse_touchstone(read_text(path), path, ports_from_name(path))
+    n = ts.s.shape[1]
+    fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n
+            and (z0_ohm is None or np.allclose(ts.z0_ohm, z0_ohm)))
+    if fast:
+        g = ts.s[:, port - 1, port - 1]
+        if not (np.abs(g) > 1.0).any():
+            return ts.f_hz, g, list(ts.warnings)
+    sw = sweep_from_arrays(ts.f_hz, ts.s, ts.z0_ohm, path=str(path), port=port, z0_ohm=z0_ohm,
+                           warnings=ts.warnings, version=ts.version)
+    return sw.f_hz, sw.gamma, list(sw.warnings)
+
+
 def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray | float, path: str = "<arrays>",
                       port: int = 1, z0_ohm: float | None = None, warnings: list[str] | None = None,
                       version: str = "1") -> Sweep:

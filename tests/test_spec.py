@@ -16,7 +16,7 @@ from helpers import gamma_of, series_rlc_z, write_rlc
 
 from matchtool import spec as sp
 from matchtool.errors import SpecError
-from matchtool.sweep import gamma_at, load, sweep_from_arrays
+from matchtool.sweep import gamma_at, load, load_reflection, sweep_from_arrays
 
 BAND = '[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\n'
 
@@ -302,12 +302,12 @@ def test_fast_loader_agrees_with_sweep_load(tmp_path):
     hot = tmp_path / "hot.s1p"
     hot.write_text("# MHz S RI R 50\n900 0.5 0\n915 1.2 0\n930 0.5 0\n")
     for path, port, z0 in ((two, 1, None), (two, 2, None), (two, 2, 75.0), (hot, 1, None)):
-        fh, g, w = sp._load_reflection(path, port, z0)
+        fh, g, w = load_reflection(path, port, z0)
         ref = load(path, port=port, z0_ohm=z0)
         assert np.array_equal(fh, ref.f_hz) and np.allclose(g, ref.gamma, rtol=0, atol=1e-15) and w == ref.warnings
-    assert any("> 1" in x for x in sp._load_reflection(hot, 1, None)[2])
+    assert any("> 1" in x for x in load_reflection(hot, 1, None)[2])
     with pytest.raises(Exception, match="port 3"):
-        sp._load_reflection(two, 3, None)
+        load_reflection(two, 3, None)
 
 
 def test_sweep_in_ghz_exactly_spanning_the_band_is_covered(tmp_path):
