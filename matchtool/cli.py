@@ -101,7 +101,9 @@ def main(argv: list[str] | None = None) -> int:
     except MatchtoolError as exc:
         if debug:
             raise
-        print(f"error: {exc}", file=sys.stderr)
+        from .commands.options import PARAMETER_FLAGS
+
+        print(f"error: {exc.message_for(PARAMETER_FLAGS)}", file=sys.stderr)
         return ExitStatus.ERROR
     except (KeyboardInterrupt, typer.Abort):
         if debug:

@@ -100,6 +100,47 @@ class Sweep:
     def name(self) -> str:
         return Path(self.path).name
 
+    @classmethod
+    def from_network(cls, network: skrf.Network, port: int = 1, z0_ohm: float | None = None,
+                     path: str | None = None) -> Sweep:
+        """A Sweep of an ``skrf.Network`` (any number of ports; ``port`` 1-based).
+
+        ``z0_ohm`` renormalises every port to that real impedance (ohms); otherwise the network's own
+        reference is kept (a per-port reference must then be real and constant over frequency).
+        ``path`` names it in messages (default: the network's name).
+        """
+        if not isinstance(network, skrf.Network):
+            raise UsageError(f"expected an skrf.Network, got {type(network).__name__}", parameter="network")
+        z0 = np.asarray(network.z0)
+        ref = z0[0] if z0.ndim == 2 else z0
+        if z0_ohm is None and not (np.allclose(z0, ref) and np.allclose(np.imag(ref), 0)):
+            raise UsageError("reference impedance varies with frequency or is complex", parameter="network",
+                             expected="z0_ohm= to renormalise to a real system impedance")
+        name = path if path is not None else (network.name or "<network>")
+        if z0_ohm is not None and not np.allclose(z0, ref):
+            s = skrf.network.renormalize_s(network.s, z0, np.full(network.nports, float(z0_ohm)))
+            return sweep_from_arrays(network.f, s, float(z0_ohm), path=name, port=port)
+        return sweep_from_arrays(network.f, network.s, np.real(ref), path=name, port=port, z0_ohm=z0_ohm)
+
+
+def as_sweep(obj: Sweep | skrf.Network | str | Path, port: int | None = None, z0_ohm: float | None = None) -> Sweep:
+    """Accept what every core entry point accepts: a loaded Sweep, an ``skrf.Network`` or a path.
+
+    A Sweep is returned as it is unless another ``port`` or a ``z0_ohm`` is asked for.
+    """
+    if isinstance(obj, Sweep):
+        if (port is None or port == obj.port) and (z0_ohm is None or math.isclose(z0_ohm, obj.z0_ohm)):
+            return obj
+        z0 = np.asarray(obj.network.z0)
+        return sweep_from_arrays(obj.f_hz, obj.network.s, np.real(z0[0]), path=obj.path,
+                                 port=obj.port if port is None else port, z0_ohm=z0_ohm,
+                                 warnings=list(obj.warnings), version=obj.version)
+    if isinstance(obj, skrf.Network):
+        return Sweep.from_network(obj, port=1 if port is None else port, z0_ohm=z0_ohm)
+    if isinstance(obj, str | Path):
+        return load(obj, port=1 if port is None else port, z0_ohm=z0_ohm)
+    raise UsageError(f"expected a Sweep, an skrf.Network or a path, got {type(obj).__name__}", parameter="sweep")
+
 
 def _max_bytes(max_bytes: int | None) -> int:
     if max_bytes is not None:
@@ -802,7 +843,8 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
         raise UsageError("reference impedance must be positive and finite", path=path)
     if z0_ohm is not None:
         if not (math.isfinite(z0_ohm) and z0_ohm > 0):
-            raise UsageError(f"--z0 {z0_ohm:g} ohm", expected="a positive, finite impedance")
+            raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z0_ohm:g} ohm",
+                             expected="a positive, finite impedance")
         if not np.allclose(z0_file, z0_ohm):
             s = skrf.network.renormalize_s(s, z0_file, np.full(n, float(z0_ohm)))
         z0_file = np.full(n, float(z0_ohm))

@@ -1,0 +1,33 @@
+"""Terminal views: one module per command, each with ``render(result)``. Shared pieces here:
+the console, number formatting, warnings on stderr."""
+
+from __future__ import annotations
+
+import math
+import sys
+
+
+def console():
+    """A rich Console on the current stdout (created per call so tests can capture it)."""
+    from rich.console import Console
+
+    width = None if sys.stdout.isatty() else 140
+    return Console(file=sys.stdout, highlight=False, soft_wrap=False, width=width)
+
+
+def fmt(x: float | None, digits: int = 2, unit: str = "") -> str:
+    """A number for a table: fixed digits, 'inf' / 'n/a' for non-finite values, never '-0.00'."""
+    if x is None or (isinstance(x, float) and math.isnan(x)):
+        return "n/a"
+    if math.isinf(x):
+        return "inf" if x > 0 else "-inf"
+    text = f"{x:.{digits}f}"
+    if text.startswith("-") and float(text) == 0:  # no "-0.00" for a value that rounds to zero
+        text = text[1:]
+    return f"{text}{(' ' + unit) if unit else ''}"
+
+
+def warn(messages) -> None:
+    """Print warnings to stderr, one line each."""
+    for m in messages:
+        print(f"warning: {' '.join(str(m).split())}", file=sys.stderr)
