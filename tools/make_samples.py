@@ -204,6 +204,26 @@ def module_fixture_s(f_hz: np.ndarray) -> np.ndarray:
     return s_from_2[:, ::-1, ::-1].copy()
 
 
+def chip_part_s(f_hz: np.ndarray, kind: str, value: float) -> np.ndarray:
+    """A 0402 chip part measured in series on a test fixture (pads de-embedded to 0.03 pF each):
+    capacitor C + ESL 0.4 nH + ESR from Q 60 at 1 GHz; inductor (L + R from Q 40 at 1 GHz) in
+    parallel with 0.1 pF (about 5 GHz self-resonance for 10 nH). Values typical of the trade
+    (common practice, no source)."""
+    w = _w(f_hz)
+    if kind == "capacitor":
+        z = 1.0 / (2 * math.pi * 1e9 * value * 60.0) + 1j * w * 0.4e-9 + 1.0 / (1j * w * value)
+    else:
+        zl = 2 * math.pi * 1e9 * value / 40.0 + 1j * w * value
+        z = zl / (1.0 + 1j * w * 0.1e-12 * zl)
+    pad = abcd_shunt(1.0 / (1j * w * 0.03e-12))
+    return np.asarray(skrf.network.a2s(pad @ abcd_series(z) @ pad, 50.0))
+
+
+PART_FILES = (("part_c1p0.s2p", "capacitor", 1.0e-12), ("part_c2p2.s2p", "capacitor", 2.2e-12),
+              ("part_c3p3.s2p", "capacitor", 3.3e-12), ("part_c4p7.s2p", "capacitor", 4.7e-12),
+              ("part_l8n2.s2p", "inductor", 8.2e-9), ("part_l15n.s2p", "inductor", 15e-9))
+
+
 # --------------------------------------------------------------------------------------------
 # files
 
@@ -284,6 +304,16 @@ def build(out_dir: Path) -> dict[str, str]:
     files["ant_r3_via_cable.s1p"] = touchstone_text(f_a, g_in, 50.0, header(
         "PCB antenna r3 measured at the analyzer end of cable_3m.s2p (the cable's port 2 on the antenna):",
         "the exact cascade of ant_r3.s1p behind cable_3m.s2p; de-embedding the cable returns ant_r3.s1p."))
+
+    fp = np.linspace(100e6, 3e9, 581)
+    for k, (name, kind, value) in enumerate(PART_FILES, start=20):
+        s = chip_part_s(fp, kind, value)
+        s = s + noise(rng(k), s.shape, -70.0)
+        what = f"{value * 1e12:g} pF capacitor" if kind == "capacitor" else f"{value * 1e9:g} nH inductor"
+        files[name] = touchstone_text(fp, s, 50.0, header(
+            f"0402 {what} measured in series between port 1 and port 2 (fixture pads de-embedded);",
+            "used by sample_sweeps/parts_0402_kit.toml.",
+            setup.format("100 MHz to 3 GHz", 581, "fixture's coaxial ports")))
     return files
 
 
