@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 from corpus import Case, cases, pickle_payload
 
-from matchtool import sweep as sweep_mod
+from matchtool import inputs as inputs_mod
 from matchtool.errors import MatchtoolError, TouchstoneError
 from matchtool.sweep import load
 
@@ -115,7 +115,7 @@ def test_unreadable_file(tmp_path, monkeypatch, cli):
     def refuse(*a, **k):
         raise PermissionError(errno.EACCES, "Permission denied", str(p))
 
-    monkeypatch.setattr(sweep_mod, "open", refuse, raising=False)
+    monkeypatch.setattr(inputs_mod, "open", refuse, raising=False)
     with pytest.raises(TouchstoneError, match="Permission denied"):
         load(p)
     r = cli("inspect", p)
