@@ -33,7 +33,7 @@ from .touchstone import (
 )
 from .units import format_frequency
 
-__all__ = ["DEFAULT_MAX_BYTES", "Sweep", "Touchstone", "as_sweep", "decode_text", "gamma_at", "gamma_at_many",
+__all__ = ["DEFAULT_MAX_BYTES", "SYSTEM_Z0_OHM", "Sweep", "Touchstone", "as_sweep", "decode_text", "gamma_at", "gamma_at_many",
            "load", "load_reflection", "parse_touchstone", "ports_from_name", "read_text", "sweep_from_arrays",
            "touchstone_text", "write_touchstone"]
 
@@ -76,21 +76,15 @@ class Sweep:
         """A Sweep of an ``skrf.Network`` (any number of ports; ``port`` 1-based).
 
         ``z0_ohm`` renormalises every port to that real impedance (ohms); otherwise the network's own
-        reference is kept (a per-port reference must then be real and constant over frequency).
-        ``path`` names it in messages (default: the network's name).
+        reference is kept where it is real and constant over frequency per port, and a reference
+        that varies with frequency or is complex is renormalised to :data:`SYSTEM_Z0_OHM` with a
+        warning. ``path`` names it in messages (default: the network's name).
         """
         if not isinstance(network, skrf.Network):
             raise UsageError(f"expected an skrf.Network, got {type(network).__name__}", parameter="network")
-        z0 = np.asarray(network.z0)
-        ref = z0[0] if z0.ndim == 2 else z0
-        if z0_ohm is None and not (np.allclose(z0, ref) and np.allclose(np.imag(ref), 0)):
-            raise UsageError("reference impedance varies with frequency or is complex", parameter="network",
-                             expected="z0_ohm= to renormalise to a real system impedance")
         name = path if path is not None else (network.name or "<network>")
-        if z0_ohm is not None and not np.allclose(z0, ref):
-            s = skrf.network.renormalize_s(network.s, z0, np.full(network.nports, float(z0_ohm)))
-            return sweep_from_arrays(network.f, s, float(z0_ohm), path=name, port=port)
-        return sweep_from_arrays(network.f, network.s, np.real(ref), path=name, port=port, z0_ohm=z0_ohm)
+        return sweep_from_arrays(network.f, network.s, np.asarray(network.z0), path=name, port=port,
+                                 z0_ohm=z0_ohm, s_def=getattr(network, "s_def", "power"))
 
 
 def as_sweep(obj: Sweep | skrf.Network | str | Path, port: int | None = None, z0_ohm: float | None = None) -> Sweep:
@@ -112,43 +106,87 @@ def as_sweep(obj: Sweep | skrf.Network | str | Path, port: int | None = None, z0
     raise UsageError(f"expected a Sweep, an skrf.Network or a path, got {type(obj).__name__}", parameter="sweep")
 
 
+def _file_reference(ts: Touchstone) -> np.ndarray:
+    """The reference the data of a parsed file are at: (N,) real, or (n, N) complex per frequency
+    where the file's comments give the port impedances."""
+    return ts.z0_ohm if ts.port_z0_ohm is None else ts.port_z0_ohm
+
 
 def load(path: str | Path, port: int = 1, z0_ohm: float | None = None, max_bytes: int | None = None) -> Sweep:
     """Load a Touchstone sweep and choose the port whose reflection S_pp is analysed.
 
     ``port`` is 1-based; ``z0_ohm`` renormalises every port to that real impedance (ohms);
-    otherwise the file's reference impedance is kept. Raises TouchstoneError or UsageError.
+    otherwise the file's reference impedance is kept (a reference that varies with frequency or
+    is complex, e.g. a simulator's port impedances, is renormalised to :data:`SYSTEM_Z0_OHM` with
+    a warning). ``max_bytes`` is the input limit (default :func:`matchtool.inputs.default_max_bytes`).
+    Raises TouchstoneError or UsageError.
     """
     text = read_text(path, max_bytes)
     ts = parse_touchstone(text, path, ports_from_name(path))
-    return sweep_from_arrays(ts.f_hz, ts.s, ts.z0_ohm, path=str(path), port=port, z0_ohm=z0_ohm,
-                             warnings=ts.warnings, version=ts.version)
+    return sweep_from_arrays(ts.f_hz, ts.s, _file_reference(ts), path=str(path), port=port, z0_ohm=z0_ohm,
+                             warnings=ts.warnings, version=ts.version, s_def=ts.s_def)
 
 
 def load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple[np.ndarray, np.ndarray, list[str]]:
     """(f_hz, gamma of ``port`` (1-based), warnings) of a file, read once.
 
-    Same checks and results as :func:`matchtool.sweep.load`, without building an ``skrf.Network``
-    in the common case (no renormalisation, nothing to warn about |Gamma| > 1): for a lot of a
-    thousand sweeps the Network objects cost more than the evaluation itself.
+    Same checks, results and warnings as :func:`matchtool.sweep.load`, without building an
+    ``skrf.Network`` in the common case (no renormalisation, nothing to warn about |Gamma| > 1):
+    for a lot of a thousand sweeps the Network objects cost more than the evaluation itself.
     """
     ts = parse_touchstone(read_text(path), path, ports_from_name(path))
     n = ts.s.shape[1]
-    fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n
+    fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n and ts.port_z0_ohm is None
             and (z0_ohm is None or np.allclose(ts.z0_ohm, z0_ohm)))
     if fast:
         g = ts.s[:, port - 1, port - 1]
         if not (np.abs(g) > 1.0).any():
-            return ts.f_hz, g, list(ts.warnings)
-    sw = sweep_from_arrays(ts.f_hz, ts.s, ts.z0_ohm, path=str(path), port=port, z0_ohm=z0_ohm,
-                           warnings=ts.warnings, version=ts.version)
+            warnings = list(ts.warnings)
+            _port_warnings(warnings, str(path), g, port, float(ts.z0_ohm[port - 1]), z0_ohm is None)
+            return ts.f_hz, g, warnings
+    sw = sweep_from_arrays(ts.f_hz, ts.s, _file_reference(ts), path=str(path), port=port, z0_ohm=z0_ohm,
+                           warnings=ts.warnings, version=ts.version, s_def=ts.s_def)
     return sw.f_hz, sw.gamma, list(sw.warnings)
+
+
+SYSTEM_Z0_OHM = 50.0
+"""The system impedance a sweep is renormalised to when its own reference cannot be used as one
+real value per port (varies with frequency, or complex) and no ``z0_ohm`` is given."""
+
+USUAL_Z0_OHM = (10.0, 300.0)
+"""A file reference outside this range (ohms) is far from every usual system impedance (50 and
+75 ohm coax, 100 ohm differential, up to 300 ohm twin lead; common practice, no source)."""
+
+
+def _add(warnings: list[str], text: str) -> None:
+    if text not in warnings:
+        warnings.append(text)
+
+
+def _port_warnings(warnings: list[str], path: str, g_file: np.ndarray, port: int, z_sys: float,
+                   from_file: bool) -> None:
+    """Warnings about the chosen port that a bench engineer must not miss: a reflection that is
+    exactly zero at every frequency (never measured), and an analysis at a reference impedance
+    far from any usual system impedance (the file's own, e.g. ``R 1``)."""
+    if g_file.size and not np.any(g_file):
+        _add(warnings, f"{path}: port {port} reflection is 0 everywhere: not measured? (its return loss, bands "
+                       "and pass/fail mean nothing)")
+    lo, hi = USUAL_Z0_OHM
+    if from_file and not lo <= z_sys <= hi:
+        _add(warnings, f"{path}: analysed at a {z_sys:.4g} ohm reference (the file's own); did you mean --z0 50?")
 
 
 def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray | float, path: str = "<arrays>",
                       port: int = 1, z0_ohm: float | None = None, warnings: list[str] | None = None,
-                      version: str = "1") -> Sweep:
-    """Build a Sweep from arrays: ``f_hz`` (n,), ``s`` (n,) or (n, N, N), reference ``z0_file_ohm``."""
+                      version: str = "1", s_def: str = "power") -> Sweep:
+    """Build a Sweep from arrays: ``f_hz`` (n,), ``s`` (n,) or (n, N, N) at reference
+    ``z0_file_ohm`` (ohms: one value, (N,) per port, or (n, N) per frequency and port, complex
+    allowed, with wave definition ``s_def`` as scikit-rf names it).
+
+    ``z0_ohm`` renormalises every port to that real system impedance; without it a reference
+    that is real and constant per port is kept, and any other is renormalised to
+    :data:`SYSTEM_Z0_OHM` with a warning (through ``skrf.network.renormalize_s``).
+    """
     f_hz = np.asarray(f_hz, dtype=float)
     s = np.asarray(s, dtype=complex)
     if s.ndim == 1:
@@ -160,34 +198,51 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
         raise UsageError("non-finite frequency or S-parameter", path=path, expected="finite numbers")
     if np.any(f_hz < 0) or np.any(np.diff(f_hz) <= 0):
         raise UsageError("frequencies are negative or do not strictly increase", path=path)
-    n = s.shape[1]
+    m, n = s.shape[0], s.shape[1]
     warnings = list(warnings or [])
     if isinstance(port, bool) or not isinstance(port, int | np.integer) or not 1 <= port <= n:
         raise UsageError(f"port {port} does not exist", path=path, expected=f"a port from 1 to {n}")
-    z0_file = np.broadcast_to(np.asarray(z0_file_ohm, dtype=float), (n,)).copy()
-    if not (np.isfinite(z0_file).all() and np.all(z0_file > 0)):
+    z_in = np.asarray(z0_file_ohm, dtype=complex)
+    try:
+        z_full = np.broadcast_to(z_in if z_in.ndim != 1 or z_in.size != n else z_in[None, :], (m, n))
+    except ValueError:
+        raise UsageError(f"a reference impedance of shape {z_in.shape} does not fit {m} points of {n} ports",
+                         path=path, expected="one value, (N,) or (n, N)") from None
+    if not (np.isfinite(z_full).all() and np.all(z_full.real > 0)):
         raise UsageError("reference impedance must be positive and finite", path=path)
-    if z0_ohm is not None:
-        if not (math.isfinite(z0_ohm) and z0_ohm > 0):
-            raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z0_ohm:g} ohm",
-                             expected="a positive, finite impedance")
-        if not np.allclose(z0_file, z0_ohm):
+    if z0_ohm is not None and not (math.isfinite(z0_ohm) and z0_ohm > 0):
+        raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z0_ohm:g} ohm",
+                         expected="a positive, finite impedance")
+    g_file = s[:, port - 1, port - 1]
+    usable = bool(np.all(z_full.imag == 0) and np.all(z_full == z_full[:1]))
+    if usable:
+        z0_file = z_full[0].real.copy()
+        if z0_ohm is not None and not np.allclose(z0_file, z0_ohm):
             s = skrf.network.renormalize_s(s, z0_file, np.full(n, float(z0_ohm)))
+    else:
+        target = SYSTEM_Z0_OHM if z0_ohm is None else float(z0_ohm)
+        if z0_ohm is None:
+            _add(warnings, f"{path}: the reference impedance varies with frequency or is complex; renormalised to "
+                           f"{target:g} ohm (the system impedance; --z0 chooses another)")
+        s = skrf.network.renormalize_s(s, np.array(z_full), np.full(n, target), s_def=s_def, s_def_old=s_def)
+        z0_file = np.full(n, target)
+    if z0_ohm is not None:
         z0_file = np.full(n, float(z0_ohm))
     freq = skrf.Frequency.from_f(f_hz, unit="Hz")
     # a (nports,) z0 would be read by scikit-rf as one value per frequency when nfreq == nports
-    z0_full = np.broadcast_to(z0_file, (len(f_hz), n)).copy()
-    net = skrf.Network(frequency=freq, s=s, z0=z0_full, name=Path(path).stem)
+    z0_net = np.broadcast_to(z0_file, (m, n)).copy()
+    net = skrf.Network(frequency=freq, s=s, z0=z0_net, name=Path(path).stem)
     g = np.abs(s[:, port - 1, port - 1])
     over = g > 1.0
     if over.any():
         k = int(np.argmax(g))
         sign = ("; most points are above 0 dB: does the file hold return loss (positive) where S11 in dB "
                 "(negative) belongs?") if over.mean() > 0.5 else ""
-        warnings.append(
-            f"{path}: {int(over.sum())} point(s) with |S{port}{port}| > 1 (up to {g[k]:.4f} at "
-            f"{format_frequency(float(f_hz[k]))}): a passive antenna cannot reflect more than it receives; "
-            f"check the calibration or de-embedding{sign}")
+        _add(warnings,
+             f"{path}: {int(over.sum())} point(s) with |S{port}{port}| > 1 (up to {g[k]:.4f} at "
+             f"{format_frequency(float(f_hz[k]))}): a passive antenna cannot reflect more than it receives; "
+             f"check the calibration or de-embedding{sign}")
+    _port_warnings(warnings, str(path), g_file, int(port), float(z0_file[port - 1]), z0_ohm is None and usable)
     return Sweep(network=net, port=int(port), path=str(path), z0_ohm=float(z0_file[port - 1]),
                  warnings=warnings, version=version)
 

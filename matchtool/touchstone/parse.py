@@ -23,7 +23,8 @@ import numpy as np
 import skrf
 
 from ..errors import TouchstoneError
-from .numbers import Lines, check_rows, controls, numbers, positive, show
+from .comments import PortImpedances, port_impedances, renormalisation_statement
+from .numbers import _NUMBER, Lines, check_rows, controls, numbers, positive, show
 
 _UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 _PARAMS = {"s", "y", "z", "h", "g"}
@@ -45,6 +46,11 @@ class Touchstone:
     parameter: str
     noise_points: int
     warnings: list[str] = field(default_factory=list)
+    port_z0_ohm: np.ndarray | None = None
+    """(n, N) complex: the impedances the data are really at, per frequency and port, where the
+    file's comments give them and say the data are not renormalised (else None: ``z0_ohm``)."""
+    s_def: str = "power"
+    """Wave definition of ``port_z0_ohm`` where it is complex (scikit-rf's names)."""
 
     @property
     def nports(self) -> int:
@@ -53,13 +59,18 @@ class Touchstone:
 
 @dataclass(frozen=True)
 class _Option:
-    """The option line: frequency multiplier to Hz, parameter (S Y Z H G), format (RI MA DB), R."""
+    """The option line: frequency multiplier to Hz, parameter (S Y Z H G), format (RI MA DB), R
+    (one value, or one per port: Touchstone 2.1, the "version 1.1" option line)."""
 
     unit: float
     param: str
     fmt: str
-    r_ohm: float
+    r_ports: tuple[float, ...]
     line: int
+
+    @property
+    def r_ohm(self) -> float:
+        return self.r_ports[0]
 
 
 @dataclass
@@ -117,15 +128,18 @@ def _option_line(text: str, path: str, line: int) -> _Option:
             if i + 1 >= len(tokens):
                 raise TouchstoneError("option line has R without a value", path, line,
                                       expected="R followed by the reference impedance in ohms")
-            r = positive(tokens[i + 1], path, line, "reference impedance R")
+            r = [positive(tokens[i + 1], path, line, "reference impedance R")]
             i += 1
+            while i + 1 < len(tokens) and _NUMBER.fullmatch(tokens[i + 1]):  # one R per port
+                r.append(positive(tokens[i + 1], path, line, "reference impedance R"))
+                i += 1
         else:
             raise TouchstoneError(
                 f"unknown option-line token {show(tokens[i])}", path, line,
                 expected="a unit (Hz kHz MHz GHz), a parameter (S Y Z H G), a format (RI MA DB) or R <ohms>")
         i += 1
     return _Option(_UNITS[unit or "ghz"], (param or "s").upper(), (fmt or "ma").upper(),
-                   50.0 if r is None else r, line)
+                   (50.0,) if r is None else tuple(r), line)
 
 
 def _on_option_line(st: _State, ctrl: str, ln: int) -> None:
@@ -328,8 +342,17 @@ def _port_count(st: _State, nports: int | None, text_len: int) -> int:
 
 
 def _references(st: _State, n: int) -> np.ndarray:
-    """Reference impedance of each port (ohms): [Reference] if given, else the option line's R."""
-    z0 = np.full(n, st.option.r_ohm)
+    """Reference impedance of each port (ohms): [Reference] if given, else the option line's R
+    (one value for every port, or one per port)."""
+    opt = st.option
+    if len(opt.r_ports) not in (1, n):
+        raise TouchstoneError(f"option line gives {len(opt.r_ports)} reference impedances for {n} port"
+                              f"{'s' if n > 1 else ''}", st.path, opt.line,
+                              expected=f"R and one impedance for all ports, or {n} (one per port)")
+    z0 = np.full(n, opt.r_ohm) if len(opt.r_ports) == 1 else np.array(opt.r_ports, dtype=float)
+    if st.version == "1" and opt.param != "S" and len(set(opt.r_ports)) > 1:
+        raise TouchstoneError(f"per-port R with version 1 {opt.param}-parameters (normalised to R) is not read",
+                              st.path, opt.line, expected="S-parameters, or one R for every port")
     ref_chunks = [c for c in st.chunks if c.section == "reference"]
     if ref_chunks:
         vals = []
@@ -428,6 +451,37 @@ def _count_keywords(st: _State, points: int, noise_rows: int) -> None:
                                   f"{noise_rows}", path, ln)
 
 
+def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) -> PortImpedances | None:
+    """The port impedances of simulator comments, where the data are at them and not at the
+    file's reference ``z0`` (see :mod:`matchtool.touchstone.comments`); None otherwise.
+
+    A file that says its data are renormalised, or whose comment impedances equal its reference,
+    loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
+    ignored; a file that says its data are not renormalised but gives no impedances is refused.
+    """
+    if "mpedance" not in text and "normali" not in text:
+        return None
+    stated, stated_line = renormalisation_statement(text)
+    pz = port_impedances(text, st.path, n, m)
+    if pz is None:
+        if stated is False and st.option.param == "S":
+            raise TouchstoneError("the file says its data are not renormalised but gives no port impedances",
+                                  st.path, stated_line,
+                                  expected="data exported renormalised to one reference impedance (e.g. 50 ohm), "
+                                           "or 'Port Impedance' comments")
+        return None
+    if st.option.param != "S" or stated is True:
+        return None
+    if np.allclose(pz.z_ohm, z0[None, :], rtol=1e-9, atol=0):
+        return None
+    mag = np.abs(pz.z_ohm)
+    ref = "[Reference]" if "reference" in st.kw else f"the option line's R {st.option.r_ohm:g}"
+    st.warnings.append(f"{st.path}: the data are not renormalised: they are at the port impedances of the "
+                       f"file's 'Port Impedance' comments (|Z| {mag.min():.4g} to {mag.max():.4g} ohm), "
+                       f"not at {ref}")
+    return pz
+
+
 def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None = None) -> Touchstone:
     """Parse Touchstone text (v1 or v2) into S-parameters.
 
@@ -447,7 +501,8 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     net_chunks = [c for c in st.chunks if c.section == "network"]
     if not net_chunks:
         raise TouchstoneError("no data", path, expected="at least one frequency row")
-    records, rec_lines, noise_rows = _assemble(net_chunks, n, per, st.version, path)
+    records, rec_lines, noise_rows = _assemble(net_chunks, n, per, st.version, path,
+                                               from_name="number of ports" not in st.kw)
     noise_rows += _noise_rows(st, n)
 
     f_hz = _frequencies_hz(records[:, 0], opt.unit, rec_lines, path)
@@ -461,20 +516,94 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
             f"{opt.param}-parameters with no finite S-parameter equivalent"
         raise TouchstoneError(f"{what} at {f_hz[i]:g} Hz", path, int(rec_lines[i]))
 
+    port_z = _comment_reference(text, st, n, len(f_hz), z0)
     _count_keywords(st, len(f_hz), noise_rows)
     if len(f_hz) == 1:
         st.warnings.append(f"{path}: a single frequency point; bands and interpolation need more")
     if f_hz[0] == 0:
         st.warnings.append(f"{path}: the sweep includes a 0 Hz point")
     return Touchstone(f_hz=f_hz, s=s, z0_ohm=z0, version=st.version, parameter=opt.param,
-                      noise_points=noise_rows, warnings=st.warnings)
+                      noise_points=noise_rows, warnings=st.warnings,
+                      port_z0_ohm=None if port_z is None else port_z.z_ohm,
+                      s_def="power" if port_z is None else port_z.s_def)
 
 
 # ------------------------------------------------------------------ records of network data
 
-def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
+def _row_error(counts: np.ndarray, first_line: int, per: int, n: int, path: str, from_name: bool) -> None:
+    """Raise for the first line whose count is not ``per`` (one record per line); when the port
+    count came from the file name and the count fits another port count, say so."""
+    wrong = np.flatnonzero((counts != 0) & (counts != per))
+    if not wrong.size:
+        return
+    k = int(wrong[0])
+    found = int(counts[k])
+    hint = ""
+    other = math.isqrt(max(found - 1, 0) // 2)
+    if from_name and other >= 1 and other != n and found == 1 + 2 * other * other:
+        hint = f" (a row of {found} numbers is {other}-port data: is this a .s{other}p file?)"
+    raise TouchstoneError(f"expected {per} numbers for a {n}-port row, found {found}{hint}", path, first_line + k)
+
+
+def _join_split_two_port_records(values: np.ndarray, counts: np.ndarray, last_f: float) -> None:
+    """A version 1 two-port record may be written over two lines, split after the first two pairs
+    (frequency N11 N21 / N12 N22: 5 then 4 numbers, as circuit simulators write it): count the
+    pair as one 9-number row on its first line (the numbers themselves are already in order).
+    From the first frequency that does not rise (where the noise block starts) nothing is joined:
+    noise rows hold 5 numbers too."""
+    if not (counts == 4).any():
+        return
+    nz = np.flatnonzero(counts)
+    c = counts[nz]
+    pair = (c[:-1] == 5) & (c[1:] == 4)
+    if not pair.any():
+        return
+    heads, conts = nz[:-1][pair], nz[1:][pair]
+    counts[heads] = 9
+    counts[conts] = 0
+    starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
+    rows = np.flatnonzero(counts)
+    row_f = values[starts[rows]]
+    falls = np.flatnonzero(row_f <= np.concatenate(([last_f], row_f[:-1])))
+    if falls.size:
+        undo = heads >= rows[falls[0]]
+        counts[heads[undo]] = 5
+        counts[conts[undo]] = 4
+
+
+def _wrapped_records(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray, n: int, per: int,
+                     path: str) -> np.ndarray:
+    """Records that may wrap over several lines (version 1 N >= 3, every version 2 record); no
+    line may hold parts of two records. Returns the line of each record's first number."""
+    nz = np.flatnonzero(counts)
+    c = counts[nz]
+    if n <= 2 and c.size and (np.any(c == per) or np.all(c == c[0])) and np.any(c != per):
+        # one record per line is what this file does (or every line is of one wrong width): the
+        # offending line is reported as a row, as for version 1
+        _row_error(counts, int(line_no[0]), per, n, path, from_name=False)
+    cum = np.cumsum(c)
+    before = cum - c  # numbers of this chunk before each line
+    straddle = np.flatnonzero(before // per != (cum - 1) // per)
+    heads = nz[before % per == 0]  # lines that begin a record
+    if straddle.size:
+        k = int(straddle[0])
+        past = int(cum[k] - (before[k] // per + 1) * per)
+        start = heads[np.searchsorted(heads, nz[k], side="right") - 1] if heads.size else nz[k]
+        since = f" that starts on line {int(line_no[start])}" if start != nz[k] else ""
+        raise TouchstoneError(f"a {n}-port record needs {per} numbers; line ends {past} past the record{since}",
+                              path, int(line_no[nz[k]]))
+    if cum.size and cum[-1] % per:
+        raise TouchstoneError(f"incomplete {n}-port record ({int(cum[-1] % per)} of {per} numbers)", path,
+                              int(line_no[heads[-1]]))
+    return line_no[heads]
+
+
+def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, from_name: bool = False):
     """Group the numbers of the network-data chunks into records of ``per`` numbers.
 
+    Version 1 one- and two-ports hold one record per line (Touchstone 1.1; a two-port record may
+    be split after its first two pairs, common practice of circuit simulators); version 1 N-ports
+    with N >= 3 and every version 2 record may wrap (Touchstone 2.0, network data).
     Returns (records (m, per), line of each record, number of v1 noise rows skipped).
     """
     recs, lines_out = [], []
@@ -484,15 +613,19 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
     for c in chunks:
         values, counts = numbers(c.text, c.line, path, "network data")
         line_no = c.line + np.arange(counts.size)
-        if n <= 2 and not in_noise:
-            if n == 2 and version == "1":
+        if in_noise:
+            check_rows(counts, c.line, 5, path, "noise row")
+            noise_rows += int(np.count_nonzero(counts))
+        elif version == "1" and n <= 2:
+            if n == 2:
+                _join_split_two_port_records(values, counts, last_f)
                 # a v1 two-port switches to noise data at the first frequency not above the last
                 starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
                 rows = np.flatnonzero(counts)
                 row_f = values[starts[rows]] if values.size else np.empty(0)
                 full = counts[rows] == per
                 # first row whose frequency is not above the one before (vectorised; a short or
-                # long row before it ends the search and is reported by _check_rows below)
+                # long row before it ends the search and is reported by _row_error below)
                 prev_f = np.concatenate(([last_f], row_f[:-1]))
                 falls = row_f <= prev_f
                 stop = np.flatnonzero(falls | ~full)
@@ -504,7 +637,7 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
                         in_noise = True
                         noise_rows += int(after.size)
                         keep = rows[:noise_at]
-                        check_rows(counts[: rows[noise_at]], c.line, per, path, f"{n}-port row")
+                        _row_error(counts[: rows[noise_at]], c.line, per, n, path, from_name)
                         if keep.size:
                             block = values[: starts[rows[noise_at]]].reshape(-1, per)
                             recs.append(block)
@@ -520,31 +653,14 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str):
                     k = int(bad[0]) if bad.size else int(rows[noise_at])
                     raise TouchstoneError(f"expected 5 numbers for a noise row, found {int(counts[k])}",
                                           path, int(line_no[k]))
-            check_rows(counts, c.line, per, path, f"{n}-port row")
+            _row_error(counts, c.line, per, n, path, from_name)
             block = values.reshape(-1, per)
             recs.append(block)
             lines_out.append(line_no[counts != 0])
             if block.size:
                 last_f = float(block[-1, 0])
-        elif in_noise:
-            check_rows(counts, c.line, 5, path, "noise row")
-            noise_rows += int(np.count_nonzero(counts))
         else:
-            # N >= 3: a record may wrap over several lines; no line may hold parts of two records
-            nz = np.flatnonzero(counts)
-            cum = np.cumsum(counts[nz])
-            before = cum - counts[nz]  # numbers of this chunk before each line
-            straddle = np.flatnonzero(before // per != (cum - 1) // per)
-            if straddle.size:
-                k = int(straddle[0])
-                past = int(cum[k] - (before[k] // per + 1) * per)
-                raise TouchstoneError(f"a {n}-port record needs {per} numbers; line ends {past} past the record",
-                                      path, int(line_no[nz[k]]))
-            heads = nz[before % per == 0]  # lines that begin a record
-            if cum.size and cum[-1] % per:
-                raise TouchstoneError(f"incomplete {n}-port record ({int(cum[-1] % per)} of {per} numbers)", path,
-                                      int(line_no[heads[-1]]))
-            lines_out.append(line_no[heads])
+            lines_out.append(_wrapped_records(values, counts, line_no, n, per, path))
             recs.append(values.reshape(-1, per))
     records = np.concatenate(recs) if recs else np.empty((0, per))
     if records.shape[0] == 0:
