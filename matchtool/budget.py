@@ -35,6 +35,7 @@ from numpy.typing import ArrayLike
 
 from .errors import BudgetError, MatchtoolError, OutOfRangeError
 from .feedline import matched_loss_db
+from .inputs import read_text, special_file_error
 from .reflection import gamma_mag_from_vswr, mismatch_loss_db
 from .reflection import vswr as vswr_of_gamma
 from .units import parse_frequency, parse_length
@@ -507,22 +508,9 @@ def parse_budget(data: dict[str, Any], path: str = "<budget>") -> BudgetInput:
 
 def read_budget_file(path: str | Path) -> BudgetInput:
     """Read and validate a budget TOML file (see :func:`parse_budget`)."""
-    p = Path(path)
-    try:
-        with p.open("rb") as fh:  # never more than the limit into memory
-            raw = fh.read(MAX_FILE_BYTES + 1)
-    except FileNotFoundError:
-        raise BudgetError("no such file", path=str(path), expected="a budget file (TOML)") from None
-    except IsADirectoryError:
-        raise BudgetError("is a directory", path=str(path), expected="a budget file (TOML)") from None
-    except OSError as exc:
-        raise BudgetError(f"cannot be read ({exc.strerror})", path=str(path)) from None
-    if len(raw) > MAX_FILE_BYTES:
-        raise BudgetError(f"is larger than {MAX_FILE_BYTES} bytes", path=str(path), expected="a small TOML file")
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        raise BudgetError("is not UTF-8 text", path=str(path), expected="a budget file (TOML)") from None
+    # one input policy (matchtool/inputs.py): size limit, special files, UTF-8 / UTF-16 decoding
+    text = read_text(path, kind="toml", max_bytes=MAX_FILE_BYTES, what="a budget file (TOML)",
+                     error=BudgetError)
     try:
         data = tomllib.loads(text)
     except RecursionError:  # arrays or inline tables nested thousands deep
@@ -547,7 +535,6 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
          ) -> tuple[np.ndarray, np.ndarray, str]:
     """Return (|Gamma| array, mismatch loss dB array, source) for one end."""
     if side.sweep_path is not None:
-        from .spec import special_file_error
         from .sweep import gamma_at_many, load
 
         sp = Path(side.sweep_path)

@@ -77,12 +77,45 @@ def _one_line(text: str) -> str:
     return " ".join(str(text).split())
 
 
+def _input_limit_from_env() -> int | None:
+    """The input limit in bytes from ``MATCHTOOL_MAX_INPUT_MB`` (None when unset); the core never
+    reads the environment, the CLI passes this to :func:`matchtool.inputs.set_default_max_bytes`."""
+    import math
+
+    from .errors import UsageError
+
+    env = os.environ.get("MATCHTOOL_MAX_INPUT_MB")
+    if env is None or not env.strip():
+        return None
+    try:
+        mb = float(env)
+    except ValueError:
+        mb = math.nan
+    if not (math.isfinite(mb) and mb > 0):
+        shown = repr(env if len(env) <= 40 else env[:40] + "...")
+        raise UsageError(f"MATCHTOOL_MAX_INPUT_MB={shown} is not a positive number of megabytes",
+                         expected="e.g. MATCHTOOL_MAX_INPUT_MB=2000")
+    return int(mb * 1024 * 1024)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the CLI with ``argv`` (default: ``sys.argv[1:]``) and return the exit status."""
-    args = list(sys.argv[1:] if argv is None else argv)
+    from . import inputs
+
+    before = inputs.default_max_bytes()
+    try:
+        return _main(list(sys.argv[1:] if argv is None else argv))
+    finally:  # the limit from the environment holds for this run only (in-process callers, tests)
+        inputs.set_default_max_bytes(before)
+
+
+def _main(args: list[str]) -> int:
     debug = "--debug" in args
     args = [a for a in args if a != "--debug"]
+    from . import inputs
+
     try:
+        inputs.set_default_max_bytes(_input_limit_from_env())
         app = build_app(_command_named(args))
         try:
             with warnings.catch_warnings():

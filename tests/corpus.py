@@ -177,8 +177,32 @@ def cases(tmp: Path) -> list[Case]:
     c.append(_warn("|S11| > 1", "gain.s1p", text(GOOD_HEAD, *rows_ri(s=big)), r"\|S11\| > 1", s=big))
     # -- port count
     r2, s2 = two_port_rows()
-    c.append(_err("2-port data in .s1p", "two.s1p", text("# GHz S RI R 50", *r2), "expected 3 numbers", 2))
+    c.append(_err("2-port data in .s1p", "two.s1p", text("# GHz S RI R 50", *r2),
+                  r"expected 3 numbers.*found 9 \(a row of 9 numbers is 2-port data: is this a \.s2p file\?\)", 2))
     c.append(_err("1-port data in .s2p", "one.s2p", text(GOOD_HEAD, *r), "expected 9 numbers", 2))
+    # -- as instruments and simulators write it (Touchstone 1.1 / 2.0 / 2.1; see tests/test_sweep.py)
+    split = [half for row in r2 for half in (" ".join(row.split()[:5]), "   " + " ".join(row.split()[5:]))]
+    c.append(Case("v1 two-port record over two lines", "split.s2p", text("# GHz S RI R 50", *split), "ok",
+                  check=lambda sw, s2=s2: np.allclose(sw.network.s, s2)))
+    c.append(_err("v1 two-port split record with a number missing", "split_bad.s2p",
+                  text("# GHz S RI R 50", *split[:4], split[4].rsplit(" ", 1)[0], *split[5:]),
+                  "expected 9 numbers for a 2-port row, found 4", 6))
+    c.append(Case("per-port R on the option line", "ppr.s2p", text("# GHz S RI R 50 75", *r2), "ok",
+                  check=lambda sw: np.allclose(np.real(sw.network.z0[0]), [50, 75])))
+    c.append(_err("per-port R count wrong", "ppr.s1p", text("# MHz S RI R 50 75", *r),
+                  "2 reference impedances for 1 port", 1))
+    c.append(_err("not renormalised, no port impedances", "notrenorm.s1p",
+                  text("! Data is not renormalized", *g), "not renormalised but gives no port impedances", 1))
+    c.append(_warn("port impedances in comments", "portz.s1p",
+                   text("! Data is not renormalized", GOOD_HEAD,
+                        *[ln for row in r for ln in (row, "! Port Impedance 50 0")]).replace(
+                       b"! Port Impedance 50 0\n", b"! Port Impedance 75 0\n", 1),
+                   "data are not renormalised", s=None))
+    c.append(_warn("1 ohm reference", "r1.s1p", text("# MHz S RI R 1", *r), "analysed at a 1 ohm reference",
+                   z0=1.0))
+    c.append(_warn("reflection never measured", "zeros.s1p",
+                   text(GOOD_HEAD, *[f"{f:g} 0 0" for f in F_MHZ]), "port 1 reflection is 0 everywhere",
+                   s=np.zeros(5, dtype=complex)))
     c.append(Case("v1 two-port", "good.s2p", text("# GHz S RI R 50", *r2), "ok",
                   check=lambda sw, s2=s2: np.allclose(sw.network.s, s2)))
     noise = ["1.5 1.2 0.3 45 0.4", "2.5 1.4 0.35 50 0.45"]
@@ -242,7 +266,7 @@ def cases(tmp: Path) -> list[Case]:
     c.append(_ok("UTF-8 BOM", "bom.s1p", b"\xef\xbb\xbf" + text(*g)))
     c.append(_ok("Latin-1 comment", "latin1.s1p", b"! Messung 25\xb0C, \xb5A\n" + text(*g)))
     c.append(_ok("UTF-8 comment", "utf8.s1p", "! 25 °C, µ, Ω\n".encode() + text(*g)))
-    c.append(_err("UTF-16", "utf16.s1p", "\n".join(g).encode("utf-16"), "UTF-16"))
+    c.append(_ok("UTF-16 with a byte-order mark", "utf16.s1p", "\n".join(g).encode("utf-16")))
     c.append(_err("UTF-16 without BOM", "utf16le.s1p", "\n".join(g).encode("utf-16-le"), "binary", 1))
     c.append(_err("no-break space in data", "nbsp.s1p", text(GOOD_HEAD, r[0]) + b"200\xa00.2 -0.3\n"
                   + text(*r[2:]), "200", 3))

@@ -215,9 +215,9 @@ def test_toml_syntax_errors(cli, workdir, text):
     assert "TOML" in _refused(cli, p, None)
 
 
-@pytest.mark.parametrize("raw", [b"", toml_text(valid_budget()).encode("utf-16"), bytes(range(256)) * 8,
+@pytest.mark.parametrize("raw", [b"", toml_text(valid_budget()).encode("utf-16-le"), bytes(range(256)) * 8,
                                  b"# " + b"x" * (bd.MAX_FILE_BYTES + 1)],
-                         ids=["empty", "UTF-16", "binary", "huge"])
+                         ids=["empty", "UTF-16 without BOM", "binary", "huge"])
 def test_unreadable_budget_bytes(cli, workdir, raw):
     p = workdir / "link.toml"
     p.write_bytes(raw)
@@ -229,11 +229,16 @@ def test_missing_and_directory_budget(cli, workdir):
     _refused(cli, workdir, None)
 
 
-def test_utf8_bom_budget_is_accepted(cli, workdir):
+@pytest.mark.parametrize("encoding", ["utf-8-sig", "utf-16"], ids=["UTF-8 BOM", "UTF-16 with BOM"])
+def test_byte_order_mark_budget_is_accepted(cli, workdir, encoding):
+    # one decoding rule for every input file (docs/input-policy.md): a byte-order mark is honoured
+    plain = workdir / "plain.toml"
+    plain.write_text(toml_text(valid_budget()))
     p = workdir / "link.toml"
-    p.write_bytes(b"\xef\xbb\xbf" + toml_text(valid_budget()).replace("\n", "\r\n").encode())
+    p.write_bytes(toml_text(valid_budget()).replace("\n", "\r\n").encode(encoding))
     r = cli("budget", p, "--json")
     assert r.code == 0, r.err
+    assert r.json()["rows"] == cli("budget", plain, "--json").json()["rows"]
 
 
 EXTREME = {

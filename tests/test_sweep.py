@@ -154,3 +154,243 @@ def test_second_option_line_warns():
     assert ts.f_hz.tolist() == [1e6, 2e6] and any("second option line" in w for w in ts.warnings)
 
 
+
+
+# ------------------------------------------------------------------------------------------------
+# Touchstone as instruments and simulators write it. Each file is written here by hand from the
+# Touchstone specification's own descriptions (Touchstone File Format Specification 2.0, IBIS
+# Open Forum 2009: option line, [Reference], [Matrix Format] Full/Upper/Lower, network data that
+# continue on further lines; Touchstone 1.1 for the one-line 1- and 2-port records; Touchstone 2.1
+# / TSIRD 5.1 for one R per port on the option line) or, where marked, from common practice.
+# scikit-rf 2.2 (skrf.Network) is the independent reader: f, S and reference must agree.
+
+RNG = np.random.default_rng(1414)
+
+
+def _random_s(m: int, n: int, symmetric: bool = False) -> np.ndarray:
+    s = (RNG.uniform(-0.45, 0.45, (m, n, n)) + 1j * RNG.uniform(-0.45, 0.45, (m, n, n))).round(6)
+    return (s + s.transpose(0, 2, 1)) / 2 if symmetric else s
+
+
+def _ri(vals, digits: int = 6) -> list[str]:
+    return [f"{v.real:.{digits}g} {v.imag:.{digits}g}" for v in vals]
+
+
+def _same_as_skrf(path, sw_or_net, z0=None):
+    ref = skrf.Network(str(path))
+    net = sw_or_net.network if hasattr(sw_or_net, "network") else sw_or_net
+    assert np.allclose(net.f, ref.f, rtol=1e-15, atol=0)
+    assert np.allclose(net.s, ref.s, rtol=0, atol=1e-15)
+    assert np.allclose(net.z0, ref.z0 if z0 is None else z0, rtol=1e-15)
+
+
+def test_per_port_r_on_the_option_line(tmp_path):
+    # Touchstone 2.1 (TSIRD 5.1, "version 1.1" option line): one R per port
+    s = _random_s(3, 2)
+    p = tmp_path / "pp.s2p"
+    rows = [f"{k + 1} " + " ".join(_ri([s[k, 0, 0], s[k, 1, 0], s[k, 0, 1], s[k, 1, 1]])) for k in range(3)]
+    p.write_text("# GHz S RI R 50 75\n" + "\n".join(rows) + "\n")
+    sw = load(p, port=2)
+    assert sw.z0_ohm == 75.0 and np.allclose(sw.network.s, s)
+    _same_as_skrf(p, sw)
+    assert load(p, port=1).z0_ohm == 50.0
+    one = tmp_path / "pp.s1p"
+    one.write_text("# GHz S RI R 50 75\n1 0.1 0.2\n")
+    with pytest.raises(TouchstoneError, match="line 1: option line gives 2 reference impedances for 1 port"):
+        load(one)
+
+
+def test_two_port_record_split_after_the_first_two_pairs(tmp_path):
+    # common practice of circuit simulators: frequency S11 S21 on one line, S12 S22 on the next;
+    # the Touchstone 1.1 rule is one line per record, but the reading is unambiguous
+    s = _random_s(4, 2)
+    lines = ["! written as a circuit simulator does", "# GHz S RI R 50"]
+    for k in range(4):
+        lines.append(f"{k + 1} " + " ".join(_ri([s[k, 0, 0], s[k, 1, 0]])))
+        lines.append("    " + " ".join(_ri([s[k, 0, 1], s[k, 1, 1]])))
+    p = tmp_path / "split.s2p"
+    p.write_text("\n".join(lines) + "\n")
+    sw = load(p)
+    assert np.allclose(sw.network.s, s) and sw.warnings == []
+    _same_as_skrf(p, sw)
+    # a wrong count is still an error naming the record's first line
+    bad = lines[:6] + [lines[6] + " 0.5"] + lines[7:]
+    p.write_text("\n".join(bad) + "\n")
+    with pytest.raises(TouchstoneError, match=r"line 7: expected 9 numbers for a 2-port row, found 6"):
+        load(p)
+
+
+@pytest.mark.parametrize("layout", ["Full", "Upper", "Lower"])
+def test_version_2_records_wrapped_anywhere(tmp_path, layout):
+    # Touchstone 2.0, [Matrix Format] and [Network Data]: a record may continue on further lines
+    n = 2
+    s = _random_s(3, n, symmetric=layout != "Full")
+    idx = {"Upper": np.triu_indices(n), "Lower": np.tril_indices(n)}.get(layout)
+    lines = ["[Version] 2.0", "# GHz S RI R 50", f"[Number of Ports] {n}", "[Two-Port Data Order] 12_21",
+             "[Number of Frequencies] 3", f"[Matrix Format] {layout}", "[Network Data]"]
+    for k in range(3):
+        vals = s[k].ravel() if idx is None else s[k][idx]
+        nums = [f"{k + 1}"] + " ".join(_ri(vals)).split()
+        cut = [0, 5, len(nums)] if k != 1 else [0, 2, 4, len(nums)]  # wrapped between numbers
+        lines += [" ".join(nums[a:b]) for a, b in zip(cut[:-1], cut[1:], strict=True)]
+    lines.append("[End]")
+    p = tmp_path / f"wrap_{layout}.ts"
+    p.write_text("\n".join(lines) + "\n")
+    sw = load(p)
+    assert np.allclose(sw.network.s, s) and sw.warnings == []
+    _same_as_skrf(p, sw)
+    # one number missing from the last record: the error names that record's first line
+    short = lines[:-2] + [lines[-2].rsplit(" ", 1)[0], "[End]"]
+    p.write_text("\n".join(short) + "\n")
+    first = len(lines) - (2 if k != 1 else 3)
+    with pytest.raises(TouchstoneError, match=rf"line {first}: incomplete 2-port record"):
+        load(p)
+
+
+def test_a_frequency_alone_on_its_line_starts_the_record():
+    # Touchstone 2.0 lets a record continue after any number, even the frequency alone (scikit-rf
+    # 2.2 then takes the next number as the frequency; the expected values are the ones written)
+    text = ("[Version] 2.0\n# GHz S RI R 50\n[Number of Ports] 1\n[Network Data]\n1\n0.1 0.2\n2 0.3\n"
+            "0.4\n[End]\n")
+    ts = parse_touchstone(text, "a.ts", None)
+    assert np.array_equal(ts.f_hz, [1e9, 2e9]) and np.allclose(ts.s[:, 0, 0], [0.1 + 0.2j, 0.3 + 0.4j])
+
+
+def _hfss_like(path, f_ghz, s, z_port, stated="! Data is not renormalized", per_line=None):
+    """A simulator export whose data are at the per-frequency port impedances ``z_port`` (m, N),
+    given in 'Port Impedance' comments (common practice of field-solver exports, no source)."""
+    m, n, _ = s.shape
+    lines = [stated, "# GHz S RI R 50"]
+    for k in range(m):
+        if n == 2:
+            vals = [s[k, 0, 0], s[k, 1, 0], s[k, 0, 1], s[k, 1, 1]]
+        else:
+            vals = s[k].ravel()
+        lines.append(f"{f_ghz[k]:g} " + " ".join(_ri(vals, 15)))
+        lines.append("! Gamma ! " + " ".join("0.001 20.9" for _ in range(n)))
+        zs = _ri(z_port[k], 15)
+        if per_line:
+            lines.append("! Port Impedance " + " ".join(zs[:per_line]))
+            lines += ["!  " + z for z in zs[per_line:]]
+        else:
+            lines.append("! Port Impedance " + " ".join(zs))
+    path.write_text("\n".join(lines) + "\n")
+
+
+def test_port_impedances_in_comments_are_used_and_renormalised(tmp_path):
+    # Two uncoupled resistive loads, 75 ohm on port 1 and 20 ohm on port 2, written at port
+    # impedances that vary with frequency: S_pp = (R_L - Z_p) / (R_L + Z_p) (reflection
+    # coefficient at a real reference, Pozar, Microwave Engineering, 4th ed., eq. 2.35), S21 = 0.
+    f = np.array([1.0, 1.5, 2.0])
+    zp = np.column_stack([[29.0, 31.5, 33.0], [376.0, 380.0, 390.0]]).astype(complex)
+    rl = np.array([75.0, 20.0])
+    s = np.zeros((3, 2, 2), dtype=complex)
+    for p in range(2):
+        s[:, p, p] = (rl[p] - zp[:, p]) / (rl[p] + zp[:, p])
+    path = tmp_path / "sim.s2p"
+    _hfss_like(path, f, s.round(12), zp, per_line=1)
+    sw = load(path)
+    assert sw.z0_ohm == 50.0
+    assert np.allclose(sw.gamma, (75 - 50) / (75 + 50), atol=1e-9)  # derived: the load seen at 50 ohm
+    assert np.allclose(load(path, port=2).gamma, (20 - 50) / (20 + 50), atol=1e-9)
+    joined = " | ".join(sw.warnings)
+    assert "not renormalised" in joined and "29 to 390 ohm" in joined and "renormalised to 50 ohm" in joined
+    # --z0 75 renormalises to 75 ohm instead (the 75 ohm load is then matched)
+    assert np.allclose(load(path, z0_ohm=75.0).gamma, 0, atol=1e-9)
+    # scikit-rf reads the same comments; its renormalisation to 50 ohm gives the same network
+    ref = skrf.Network(str(path))
+    assert np.allclose(ref.z0, zp)
+    ref.renormalize(50)
+    assert np.allclose(sw.network.s, ref.s, atol=1e-12)
+
+
+def test_complex_port_impedances_follow_scikit_rf(tmp_path):
+    # complex, frequency-dependent port impedances (a waveguide-like port): the same f, S and,
+    # once renormalised by skrf.Network.renormalize, the same S at 50 ohm
+    f = np.array([2.0, 2.5, 3.0, 3.5])
+    s = _random_s(4, 2)
+    zp = np.column_stack([42.6 + 1j * np.array([-3, -1, 1, 4]), 376.0 - 1j * np.array([10, 12, 15, 20])])
+    path = tmp_path / "wg.s2p"
+    _hfss_like(path, f, s, zp)
+    sw = load(path)
+    ref = skrf.Network(str(path))
+    assert np.allclose(ref.z0, zp) and np.allclose(ref.f, sw.f_hz)
+    ref.renormalize(50)
+    assert np.allclose(sw.network.s, ref.s, atol=1e-12)
+    assert np.allclose(sw.network.z0, 50)
+
+
+def test_port_impedances_where_the_data_are_renormalised_load_as_before(tmp_path):
+    f = np.array([1.0, 2.0])
+    s = _random_s(2, 1)
+    zp = np.array([[29.0 + 0j], [31.0 + 0j]])
+    said = tmp_path / "said.s1p"
+    _hfss_like(said, f, s, zp, stated="! Data is renormalized to 50 ohms")
+    sw = load(said)
+    assert sw.z0_ohm == 50 and np.allclose(sw.gamma, s[:, 0, 0]) and sw.warnings == []
+    same = tmp_path / "same.s1p"
+    _hfss_like(same, f, s, np.full((2, 1), 50.0 + 0j), stated="! Data is not renormalized")
+    sw = load(same)
+    assert np.allclose(sw.gamma, s[:, 0, 0]) and sw.warnings == []
+
+
+def test_not_renormalised_without_impedances_or_with_the_wrong_count_is_refused(tmp_path):
+    p = tmp_path / "a.s1p"
+    p.write_text("! Data is not renormalized\n# GHz S RI R 50\n1 0.1 0.2\n2 0.2 0.1\n")
+    with pytest.raises(TouchstoneError, match="line 1: the file says its data are not renormalised but gives no "
+                                              "port impedances; expected data exported renormalised"):
+        load(p)
+    p.write_text("! Data is not renormalized\n# GHz S RI R 50\n1 0.1 0.2\n! Port Impedance 30 0\n2 0.2 0.1\n")
+    with pytest.raises(TouchstoneError, match="line 4: 1 'Port Impedance' comments for 2 frequencies"):
+        load(p)
+    p.write_text("! Data is not renormalized\n# GHz S RI R 50\n1 0.1 0.2\n! Port Impedance 30 0 5\n")
+    with pytest.raises(TouchstoneError, match="line 4: 'Port Impedance' comment gives 3 numbers for a 1-port"):
+        load(p)
+
+
+def test_reference_far_from_any_system_impedance_warns(tmp_path, cli):
+    # a measured antenna saved as Z-parameters with R 1: version 1 Z data are normalised to R
+    # (Touchstone 2.0, option line), so the numbers are ohms here and S is analysed at 1 ohm
+    f = np.linspace(800e6, 1000e6, 21)
+    z = series_rlc_z(f, 50.0, 40e-9, 900e6)
+    p = tmp_path / "ant.s1p"
+    p.write_text("# Hz Z RI R 1\n" + "".join(f"{fi:.9g} {zi.real:.9g} {zi.imag:.9g}\n" for fi, zi in zip(f, z,
+                                                                                                      strict=True)))
+    sw = load(p)
+    assert sw.z0_ohm == 1.0
+    assert any("analysed at a 1 ohm reference" in w and "--z0 50" in w for w in sw.warnings), sw.warnings
+    assert load(p, z0_ohm=50).warnings == []
+    assert np.allclose(load(p, z0_ohm=50).gamma, gamma_of(z, 50.0), atol=1e-9)
+    r = cli("inspect", p, "--json")
+    assert r.code == 0 and any("1 ohm reference" in w for w in r.json()["warnings"])
+    assert any("1 ohm reference" in ln for ln in r.err_lines)
+
+
+def test_reflection_never_measured_warns_everywhere(tmp_path, cli):
+    # S22 exactly 0 at every frequency: port 2 was never measured, not a perfect match
+    s = _random_s(3, 2)
+    s[:, 1, 1] = 0
+    p = tmp_path / "oneway.s2p"
+    p.write_text("# GHz S RI R 50\n" + "".join(
+        f"{k + 1} " + " ".join(_ri([s[k, 0, 0], s[k, 1, 0], s[k, 0, 1], s[k, 1, 1]])) + "\n" for k in range(3)))
+    want = "port 2 reflection is 0 everywhere: not measured?"
+    assert any(want in w for w in load(p, port=2).warnings)
+    assert not any(want in w for w in load(p, port=1).warnings)
+    from matchtool.sweep import load_reflection
+    assert any(want in w for w in load_reflection(p, 2, None)[2])
+    r = cli("inspect", p, "--port", "2", "--json")
+    assert r.code == 0 and any(want in w for w in r.json()["warnings"]), r.out
+    spec = tmp_path / "spec.toml"
+    spec.write_text('port = 2\n[[band]]\nname = "b"\nf_low = "1 GHz"\nf_high = "3 GHz"\nmin_return_loss_db = 10\n')
+    r = cli("check", p, "--spec", spec, "--json")
+    assert any(want in ln for ln in r.err_lines), r.err
+
+
+def test_two_port_rows_in_an_s1p_name_say_so(tmp_path):
+    s = _random_s(2, 2)
+    p = tmp_path / "mislabelled.s1p"
+    p.write_text("# GHz S RI R 50\n" + "".join(
+        f"{k + 1} " + " ".join(_ri(s[k].T.ravel())) + "\n" for k in range(2)))
+    with pytest.raises(TouchstoneError, match=r"line 2: expected 3 numbers for a 1-port row, found 9 \(a row of 9 "
+                                              r"numbers is 2-port data: is this a \.s2p file\?\)"):
+        load(p)

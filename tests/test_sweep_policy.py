@@ -294,3 +294,66 @@ def test_many_repeated_option_lines_are_one_warning_and_linear():
     with pytest.raises(TouchstoneError, match="found 2") as ei:
         parse_touchstone(bad, "a.s1p", 1)
     assert ei.value.line == 1 + 2 * (n // 2)
+
+
+# ---------------------------------------------------------------- one input policy (inputs.py)
+
+def test_one_decoding_rule_for_touchstone_and_toml(tmp_path):
+    # UTF-16 with a byte-order mark is decoded for every kind of input; without one it is refused
+    # (docs/input-policy.md; the marks are those of the Unicode standard, ch. 23.8, from memory)
+    from matchtool import inputs
+    from matchtool.errors import SpecError
+
+    rows = "# MHz S RI R 50\n100 0.5 0.1\n200 0.2 -0.3\n"
+    plain, wide = tmp_path / "a.s1p", tmp_path / "b.s1p"
+    plain.write_text(rows)
+    wide.write_bytes(rows.replace("\n", "\r\n").encode("utf-16"))
+    assert np.array_equal(load(plain).gamma, load(wide).gamma)
+    toml = 'name = "x"\n'
+    for enc in ("utf-8", "utf-8-sig", "utf-16"):
+        p = tmp_path / f"{enc}.toml"
+        p.write_bytes(toml.encode(enc))
+        assert inputs.read_text(p, kind="toml", error=SpecError) == toml
+    latin = tmp_path / "latin.toml"
+    latin.write_bytes(b'x = 1\n# caf\xe9\n')
+    with pytest.raises(SpecError, match="line 2: byte 0xe9 is not UTF-8"):
+        inputs.read_text(latin, kind="toml", error=SpecError)
+    # Latin-1 only in Touchstone comments: a Latin-1 byte among the numbers is refused
+    bad = tmp_path / "c.s1p"
+    bad.write_bytes(b"# MHz S RI R 50\n100 0.5\xb5 0.1\n")
+    with pytest.raises(TouchstoneError, match="line 2"):
+        load(bad)
+
+
+def test_special_files_refused_by_every_reader(tmp_path):
+    import os
+
+    from matchtool import inputs
+    from matchtool.errors import BudgetError
+
+    fifo = tmp_path / "p.toml"
+    os.mkfifo(fifo)
+    assert inputs.is_special_file(fifo) and not inputs.is_special_file(tmp_path)
+    with pytest.raises(BudgetError, match="not a regular file"):
+        inputs.read_text(fifo, kind="toml", error=BudgetError)
+    with pytest.raises(TouchstoneError, match="not a regular file"):
+        inputs.read_text(fifo)
+
+
+def test_input_limit_is_a_parameter_and_the_cli_sets_it_for_one_run(tmp_path, monkeypatch):
+    from matchtool import inputs
+    from matchtool.cli import main
+
+    p = tmp_path / "a.s1p"
+    p.write_text("# MHz S RI R 50\n" + "".join(f"{100 + k} 0.1 0.2\n" for k in range(2000)))
+    monkeypatch.setenv("MATCHTOOL_MAX_INPUT_MB", "0.01")  # the core never reads it
+    assert load(p).f_hz.size == 2000
+    assert main(["inspect", str(p)]) == 2
+    assert inputs.default_max_bytes() == inputs.DEFAULT_MAX_BYTES  # restored after the run
+    inputs.set_default_max_bytes(100)
+    try:
+        with pytest.raises(TouchstoneError, match="over the input limit of 0.0 MB"):
+            load(p)
+        assert load(p, max_bytes=10**6).f_hz.size == 2000
+    finally:
+        inputs.set_default_max_bytes(None)

@@ -1,0 +1,145 @@
+"""Tokens and numbers of Touchstone text: line bookkeeping, control-line scanning, and the
+vectorised conversion of data chunks to numbers (one C-speed ``np.fromstring`` per chunk, with
+the count of numbers on each line found by numpy byte arithmetic)."""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+
+from ..errors import TouchstoneError
+
+_NOT_NUMERIC = re.compile(r"[^0-9eE+\-. \t\n\v\f]")
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+_DATA_BYTES = b"0123456789eE+-. \t\n\v\f"
+
+
+class Lines:
+    """Maps character offsets in the text to 1-based line numbers (monotonic queries are cheap)."""
+
+    def __init__(self, text: str) -> None:
+        self.text = text
+        self.pos = 0
+        self.line = 1
+
+    def at(self, offset: int) -> int:
+        if offset < self.pos:
+            self.pos, self.line = 0, 1
+        self.line += self.text.count("\n", self.pos, offset)
+        self.pos = offset
+        return self.line
+
+
+
+def show(token: str, limit: int = 40, quote: bool = True) -> str:
+    """A file's text for an error message: quoted, at most ``limit`` characters (one line)."""
+    t = token if len(token) <= limit else token[:limit] + "..."
+    return repr(t) if quote else t
+
+
+def positive(token: str, path: str, line: int, what: str) -> float:
+    if not _NUMBER.fullmatch(token):
+        raise TouchstoneError(f"{what} {show(token)} is not a number", path, line)
+    value = float(token)
+    if not (math.isfinite(value) and value > 0):
+        raise TouchstoneError(f"{what} is {show(token)}", path, line, expected="a positive number of ohms")
+    return value
+
+
+def bad_token(chunk: str, first_line: int, path: str, what: str) -> TouchstoneError:
+    """Find the first token of ``chunk`` that is not a plain decimal number and describe it."""
+    for k, text in enumerate(chunk.split("\n")):
+        for tok in re.split(r"[ \t\v\f]+", text):
+            if not tok:
+                continue
+            if not _NUMBER.fullmatch(tok):
+                low = tok.lower()
+                if low.lstrip("+-") in ("nan", "inf", "infinity"):
+                    return TouchstoneError(f"non-finite value {show(tok)} in {what}", path, first_line + k,
+                                           expected="finite numbers")
+                if low.startswith("["):
+                    return TouchstoneError(f"keyword {show(tok)} out of place", path, first_line + k)
+                return TouchstoneError(f"expected a number in {what}, found {show(tok)}", path, first_line + k)
+    m = _NOT_NUMERIC.search(chunk)
+    if m:
+        return TouchstoneError(f"unexpected character {m.group()!r} in {what}", path,
+                               first_line + chunk.count("\n", 0, m.start()))
+    return TouchstoneError(f"unreadable numbers in {what}", path, first_line)
+
+
+def numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndarray, np.ndarray]:
+    """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised).
+
+    Every token must be a plain finite decimal number; anything else raises TouchstoneError with
+    the line of the first bad token. Memory stays a few bytes per character of the chunk.
+    """
+    try:
+        data = chunk.encode("ascii")
+    except UnicodeEncodeError:
+        raise bad_token(chunk, first_line, path, what) from None
+    if data.translate(None, _DATA_BYTES):  # something other than digits, signs, '.', 'e' and blanks
+        raise bad_token(chunk, first_line, path, what)
+    raw = np.frombuffer(data, dtype=np.uint8)
+    newline_at = np.flatnonzero(raw == 10)
+    if raw.size == 0:
+        return np.empty(0), np.zeros(1, dtype=np.int64)
+    filled = raw > 32  # only digits, signs, '.', 'e'/'E' and blanks are left at this point
+    start = filled.copy()
+    start[1:] &= ~filled[:-1]
+    del filled
+    token_at = np.flatnonzero(start)
+    del start
+    counts = np.bincount(np.searchsorted(newline_at, token_at), minlength=newline_at.size + 1)
+    del token_at
+    try:
+        values = np.fromstring(chunk, dtype=float, sep=" ") if counts.sum() else np.empty(0)
+    except ValueError:  # numpy 2 refuses a token it cannot read to its end ('1.2.3', '1e', '1-2')
+        raise bad_token(chunk, first_line, path, what) from None
+    if values.size != counts.sum():
+        raise bad_token(chunk, first_line, path, what)
+    if not np.isfinite(values).all():  # '1e999' reads as inf
+        k = int(np.argmin(np.isfinite(values)))
+        line = first_line + int(np.searchsorted(np.cumsum(counts), k, side="right"))
+        raise TouchstoneError(f"number out of range in {what}", path, line,
+                              expected="finite numbers (magnitude below 1e308)")
+    return values, counts
+
+
+def controls(body: str):
+    """Yield (line start, line end, stripped text) of every line that begins (after blanks) with
+    '#' or '['. Uses str.find, which is far faster than a regex scan of a large file."""
+    found = []
+    for ch in "#[":
+        k = body.find(ch)
+        while k >= 0:
+            found.append(k)
+            k = body.find(ch, k + 1)
+    found.sort()
+    last_end = -1
+    prev = -1
+    for k in found:
+        if k < last_end:  # inside a control line already yielded
+            continue
+        if prev >= 0 and body.find("\n", prev, k) < 0:
+            prev = k
+            continue  # same line as an earlier '#'/'[' that is not at its start (keeps this linear)
+        prev = k
+        start = body.rfind("\n", 0, k) + 1
+        if body[start:k].strip(" \t\f\v"):
+            continue  # not at the start of its line: the data checks report it
+        end = body.find("\n", k)
+        end = len(body) if end < 0 else end
+        last_end = end
+        yield start, end, body[k:end].strip()
+
+
+
+
+def check_rows(counts: np.ndarray, first_line: int, per: int, path: str, what: str) -> None:
+    wrong = np.flatnonzero((counts != 0) & (counts != per))
+    if wrong.size:
+        k = int(wrong[0])
+        raise TouchstoneError(f"expected {per} numbers for a {what}, found {int(counts[k])}", path, first_line + k)
+
