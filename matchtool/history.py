@@ -255,7 +255,7 @@ def _series(stores, lot, since, spec):
     rows = []
     for st in stores:
         with st.engine.connect() as conn:
-            rows += conn.execute(select(R.c.checked_at, R.c.uid, R.c.position, R.c.lot, R.c.name, R.c.key, R.c.worst,
+            rows += conn.execute(select(R.c.checked_at, R.c.seq, R.c.position, R.c.lot, R.c.name, R.c.key, R.c.worst,
                                         R.c.limit_value, R.c.f_low_hz, R.c.f_high_hz)
                                  .where(and_(True, *_filters(R, lot, since, spec)))).all()
     rows.sort(key=lambda r: (r[0], r[1], r[2]))

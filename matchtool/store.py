@@ -14,7 +14,8 @@ Layout (schema version :data:`SCHEMA_VERSION`, created on first use):
   ``worst_f_hz``, ``margin_db``, ``margin_hz``, ``relative_margin`` (see
   :func:`matchtool.batch.relative_margin`), the band or window edges ``f_low_hz``/``f_high_hz``, and
   the nullable ``port`` / ``ports`` (a JSON list) of multi-port specs. ``lot``, ``spec_name`` and
-  ``checked_at`` are repeated from the unit so that the history's aggregates need no join.
+  ``checked_at`` are repeated from the unit so that the history's aggregates need no join; ``seq``
+  is the unit's place in its run (the trend plot's order within one check).
 
 Key: ``uid`` is derived from the sweep's SHA-256, the spec's SHA-256, the lot and the station (for
 an unreadable file, from its path instead of its hash), so checking the same file again with the
@@ -105,6 +106,7 @@ def _tables():
         Column("lot", String(200), nullable=False),
         Column("spec_name", String(200), nullable=False),
         Column("checked_at", DateTime, nullable=False),
+        Column("seq", Integer, nullable=False),
         Column("name", String(200), nullable=False),
         Column("key", String(40), nullable=False),
         Column("passed", Boolean, nullable=False),
@@ -303,7 +305,7 @@ class Store:
         spec_name = spec.name or Path(spec.path).stem
         when = _utc_naive(checked_at)
         urows, rrows = [], []
-        for c in units:
+        for seq, c in enumerate(units):
             u = c.result
             uid = unit_uid(c.sha256, u.file, spec_hash, lot, station)
             urows.append({"uid": uid, "lot": lot, "station": station, "file": _clean(u.file), "sweep_sha256": c.sha256,
@@ -314,7 +316,7 @@ class Store:
                 port = getattr(r, "port", None)
                 ports = getattr(r, "ports", None)
                 rrows.append({"uid": uid, "position": k, "lot": lot, "spec_name": spec_name, "checked_at": when,
-                              "name": r.name, "key": r.key, "passed": bool(r.passed), "limit_value": _f(r.limit),
+                              "seq": seq, "name": r.name, "key": r.key, "passed": bool(r.passed), "limit_value": _f(r.limit),
                               "worst": _f(r.worst), "worst_f_hz": _f(r.worst_f_hz), "margin_db": _f(r.margin_db),
                               "margin_hz": _f(r.margin_hz), "relative_margin": _f(relative_margin(r)),
                               "f_low_hz": _f(r.f_low_hz), "f_high_hz": _f(r.f_high_hz),
