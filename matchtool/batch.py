@@ -440,8 +440,8 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
 
     Failing units: first, for each requirement that some unit fails, the unit that misses it by
     most in that requirement's own unit (dB, or MHz for the resonance window), requirements in
-    spec order, so the worst unit of every requirement is always listed (a near-open unit is never
-    crowded out by many small misses of another kind); then the remaining places go to the failing
+    spec order (their place in the units' requirement lists), so the worst unit of every requirement
+    is always listed (a near-open unit is never crowded out by many small misses of another kind); then the remaining places go to the failing
     units with the smallest :func:`relative_margin`. A requirement that could not be evaluated
     (band not covered) ranks after every evaluated miss. At least ``n_worst`` entries, more when
     more requirements fail. A lot where every unit passes lists the ``n_worst`` units closest to
@@ -452,11 +452,11 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
     if not failing:
         ranked = sorted(((_worst_of(u)[1], n) for n, u in enumerate(ok)), key=lambda t: (math.isnan(t[0]), t[0], t[1]))
         return tuple(_entry(ok[n], _worst_of(ok[n])[0]) for _, n in ranked[:n_worst])
-    names: list[str] = []
-    for u in failing:
-        for r in u.requirements:
-            if not r.passed and r.name not in names:
-                names.append(r.name)
+    order: dict[str, int] = {}
+    for u in ok:
+        for k, r in enumerate(u.requirements):
+            order[r.name] = min(order.get(r.name, k), k)
+    names = sorted({r.name for u in failing for r in u.requirements if not r.passed}, key=lambda n: (order[n], n))
     chosen: list[tuple[int, RequirementResult]] = []
     taken: set[int] = set()
     for name in names:

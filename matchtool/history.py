@@ -372,7 +372,8 @@ def _history(opened, lot, since_t, spec, n_worst, series) -> HistoryResult:
             lots[lt]["stations"].add(sta)
     if len(opened) > 1:
         warnings += _overlap_warnings(opened, lot, since_t, spec)
-    failing_names = {lt: [nm for (nm, _k), r in sorted(d["reqs"].items(), key=lambda kv: kv[1]["pos"]) if r["p"] < r["n"]]
+    failing_names = {lt: [nm for (nm, _k), r in sorted(d["reqs"].items(), key=lambda kv: (kv[1]["pos"], kv[0][0]))
+                         if r["p"] < r["n"]]
                      for lt, d in lots.items()}
     cands = [_worst_candidates(st, list(lots), failing_names, lot, since_t, spec, n_worst) for st in opened]
     out = []
