@@ -440,17 +440,20 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
 
     Failing units: first, for each requirement that some unit fails, the unit that misses it by
     most in that requirement's own unit (dB, or MHz for the resonance window), requirements in
-    spec order (their place in the units' requirement lists), so the worst unit of every requirement
-    is always listed (a near-open unit is never crowded out by many small misses of another kind); then the remaining places go to the failing
-    units with the smallest :func:`relative_margin`. A requirement that could not be evaluated
-    (band not covered) ranks after every evaluated miss. At least ``n_worst`` entries, more when
-    more requirements fail. A lot where every unit passes lists the ``n_worst`` units closest to
-    failing (smallest relative margin). Ties go to the earlier unit.
+    spec order (their place in the units' requirement lists), so the worst unit of every
+    requirement is always listed (a near-open unit is never crowded out by many small misses of
+    another kind); then the remaining places go to the failing units with the smallest
+    :func:`relative_margin`. A requirement that could not be evaluated (band not covered) ranks
+    after every evaluated miss. At least ``n_worst`` entries, more when more requirements fail. A
+    lot where every unit passes lists the ``n_worst`` units closest to failing (smallest relative
+    margin). Ties go to the unit that fails more requirements, then to the file name in
+    code-point order (not the input order, so a store of shards ranks alike).
     """
     ok = [u for u in results if u.error is None]
     failing = [u for u in ok if not u.passed]
     if not failing:
-        ranked = sorted(((_worst_of(u)[1], n) for n, u in enumerate(ok)), key=lambda t: (math.isnan(t[0]), t[0], t[1]))
+        ranked = sorted(((_worst_of(u)[1], n) for n, u in enumerate(ok)),
+                        key=lambda t: (math.isnan(t[0]), t[0], ok[t[1]].file, t[1]))
         return tuple(_entry(ok[n], _worst_of(ok[n])[0]) for _, n in ranked[:n_worst])
     order: dict[str, int] = {}
     for u in ok:
@@ -465,7 +468,7 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
             for r in u.requirements:
                 if r.name == name and not r.passed:
                     m = r.margin_hz if r.key == "resonance" else r.margin_db
-                    k = (1, 0.0, n) if m is None else (0, m, n)
+                    k = (1, 0.0, u.file, n) if m is None else (0, m, u.file, n)
                     if best_k is None or k < best_k:
                         best, best_k = (n, r), k
         if best is not None and best[0] not in taken:
@@ -475,7 +478,8 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
     for n, u in enumerate(failing):
         if n not in taken:
             r, rel = _worst_of(u)
-            rest.append(((math.isnan(rel), 0.0 if math.isnan(rel) else rel, -sum(not q.passed for q in u.requirements), n), n, r))
+            rest.append(((math.isnan(rel), 0.0 if math.isnan(rel) else rel, -sum(not q.passed for q in u.requirements),
+                          u.file, n), n, r))
     rest.sort(key=lambda t: t[0])
     for _, n, r in rest[:max(0, n_worst - len(chosen))]:
         chosen.append((n, r))

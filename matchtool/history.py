@@ -32,6 +32,9 @@ from datetime import datetime
 from .errors import UsageError
 
 MIN_CPK_UNITS = 5
+TIE_WINDOW = 20
+"""Worst-unit candidates fetched beyond the places to fill, so that ties are broken by file name
+(as ``check`` does) rather than by the store's key."""
 LOWER_KEYS = ("min_return_loss_db",)
 UPPER_KEYS = ("max_vswr", "max_s11_db", "max_mismatch_loss_db", "max_deviation_db")
 
@@ -216,19 +219,24 @@ def _worst_candidates(st, lots, failing_names, lot_f, since, spec, n_worst):
             per_req = {}
             for name in failing_names.get(lot, ()):
                 m = case((R.c.key == "resonance", R.c.margin_hz), else_=R.c.margin_db)
-                row = conn.execute(select(R.c.uid, m, R.c.margin_db, R.c.margin_hz, R.c.relative_margin)
+                # a few more than one: ties are broken by file name below, as check does
+                got = conn.execute(select(R.c.uid, m, R.c.margin_db, R.c.margin_hz, R.c.relative_margin)
                                    .where(and_(*base, R.c.name == name))
-                                   .order_by(m.is_(None), m, R.c.uid).limit(1)).first()
-                if row is not None:
-                    per_req[name] = row
+                                   .order_by(m.is_(None), m, R.c.uid).limit(TIE_WINDOW)).all()
+                if got:
+                    per_req[name] = got
             rel = func.min(R.c.relative_margin)
             rows = conn.execute(select(R.c.uid, rel, func.count()).where(and_(*base)).group_by(R.c.uid)
-                                .order_by(rel.is_(None), rel, func.count().desc(), R.c.uid).limit(n_worst)).all()
-            uids = {r[0] for r in per_req.values()} | {r[0] for r in rows}
+                                .order_by(rel.is_(None), rel, func.count().desc(), R.c.uid)
+                                .limit(n_worst + TIE_WINDOW)).all()
+            uids = {r[0] for got in per_req.values() for r in got} | {r[0] for r in rows}
             info = {}
             if uids:
                 for u in conn.execute(select(U.c.uid, U.c.file, U.c.station, U.c.checked_at).where(U.c.uid.in_(uids))):
                     info[u[0]] = (u[1], u[2], u[3])
+            per_req = {name: min(got, key=lambda r: (r[1] is None, r[1] if r[1] is not None else 0.0,
+                                                     info.get(r[0], ("",))[0]))
+                       for name, got in per_req.items()}
             # the requirement each filling unit misses most
             detail = {}
             if rows:
@@ -408,7 +416,7 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
             per_req, _ = c.get(lt, ({}, []))
             if name in per_req:
                 row, info = per_req[name]
-                k = (row[1] is None, row[1] if row[1] is not None else 0.0, info[2] if info else datetime.min)
+                k = (row[1] is None, row[1] if row[1] is not None else 0.0, info[0] if info else "")
                 if best is None or k < best[0]:
                     best = (k, row, info)
         if best is not None and best[2] is not None:
@@ -423,7 +431,7 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
         for rel, negcount, det, info in rows:
             if det is None or info is None or (info[0], info[1]) in taken:
                 continue
-            fill.append(((rel is None, rel if rel is not None else 0.0, negcount, info[2]), det, info))
+            fill.append(((rel is None, rel if rel is not None else 0.0, negcount, info[0]), det, info))
     fill.sort(key=lambda t: t[0])
     for _, det, info in fill:
         if len(chosen) >= n_worst:
