@@ -1,32 +1,44 @@
-"""Checking many sweeps against one spec: input expansion, parallel evaluation, lot summary.
+"""Checking many sweeps against one spec: input expansion, shards, parallel evaluation (local
+processes or a Dask cluster), lot summary. The one entry point is :func:`check_lot`.
 
 Inputs may be files, glob patterns (``**`` recurses) and directories (searched recursively for
 Touchstone files). The order is deterministic: the inputs in the order given, each expanded in
-natural order (``u2`` before ``u10``), duplicates dropped. ``jobs`` > 1 evaluates in worker
-processes in chunks; the results are identical to ``jobs = 1`` (same pure function, same order).
+natural order (``u2`` before ``u10``), duplicates dropped. ``shard=(k, n)`` keeps the k-th of n
+shares of that list (entry ``i``, 0-based, belongs to share ``i % n + 1``), so n hosts that see
+the same files split a lot with no coordination. ``jobs`` > 1 evaluates in worker processes in
+chunks, a ``scheduler`` address on a Dask cluster in batches of files per task; the results are
+identical to ``jobs = 1`` (same pure function, same order).
 """
 
 from __future__ import annotations
 
 import contextlib
 import glob
+import hashlib
 import math
 import os
 import re
+import time
 from collections.abc import Callable, Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
 
+from .errors import InputError, UsageError
 from .spec import RequirementResult, Spec, UnitResult, check_file
 
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)$", re.I)
 IN_PROCESS_MAX = 64
+"""Lots of at most this many files run in-process whatever ``jobs`` says (a pool costs more)."""
+IN_PROCESS_S = 0.5
+"""A larger lot also starts in-process; worker processes take over the rest only once this many
+seconds have passed and the rest would still take longer than :data:`POOL_MIN_S` (so a lot that
+is quick anyway never pays for starting a pool: two jobs are never slower than one)."""
+POOL_MIN_S = 0.4
 MAX_JOBS_PER_CORE = 4
 """``--jobs`` above this many processes per usable core is lowered to it (``--jobs 100000`` on a lot
 of a thousand files would otherwise fork a thousand processes on a shared machine)."""
-"""Lots of at most this many files run in-process whatever ``jobs`` says (a pool costs more)."""
 
 _GLOB_CHARS = re.compile(r"[*?\[]")
 
@@ -80,7 +92,63 @@ def expand_inputs(items: Iterable[str | Path]) -> list[Input]:
     return out
 
 
+# ------------------------------------------------------------------------------------------ shards
+
+def parse_shard(text: str) -> tuple[int, int]:
+    """``"K/N"`` -> (K, N) with 1 <= K <= N. Raises UsageError (parameter ``shard``)."""
+    m = re.fullmatch(r"\s*(\d+)\s*/\s*(\d+)\s*", str(text))
+    if not m:
+        raise UsageError("is not of the form K/N", parameter="shard", value=text, expected="e.g. 3/8 (the 3rd of 8 shares)")
+    k, n = int(m.group(1)), int(m.group(2))
+    if n < 1 or not 1 <= k <= n:
+        raise UsageError(f"needs 1 <= K <= N (got K={k}, N={n})", parameter="shard", value=text,
+                         expected="e.g. 1/4 ... 4/4")
+    return k, n
+
+
+def select_shard(items: list, shard: tuple[int, int] | None) -> list:
+    """The ``k``-th of ``n`` shares of ``items``: entry ``i`` (0-based) is in share ``i % n + 1``.
+
+    Round robin rather than contiguous blocks, so files of one folder (often one fixture or one day)
+    spread over all shares. The shares are disjoint and together hold every entry once.
+    """
+    if shard is None:
+        return list(items)
+    k, n = shard
+    return [x for i, x in enumerate(items) if i % n == k - 1]
+
+
 # ------------------------------------------------------------------------------------------ running
+
+@dataclass(frozen=True)
+class CheckedUnit:
+    """One unit's verdicts plus what the store needs: the SHA-256 (hex) of the sweep file's bytes
+    (None when not asked for or the file could not be read) and the evaluation time in seconds."""
+
+    result: UnitResult
+    sha256: str | None = None
+    time_s: float = 0.0
+
+
+def file_sha256(path: str | Path) -> str | None:
+    """SHA-256 (hex) of a file's bytes, None when it cannot be read (or is not a regular file)."""
+    from .spec import is_special_file
+
+    if is_special_file(path):
+        return None
+    try:
+        with open(path, "rb") as fh:
+            return hashlib.file_digest(fh, "sha256").hexdigest()
+    except (OSError, ValueError):
+        return None
+
+
+def _check_one(path: str, spec: Spec, hashes: bool) -> CheckedUnit:
+    t0 = time.perf_counter()
+    u = check_file(path, spec)
+    digest = file_sha256(path) if hashes else None
+    return CheckedUnit(u, digest, time.perf_counter() - t0)
+
 
 _WORKER_SPEC: Spec | None = None
 
@@ -113,8 +181,13 @@ def _init_worker(spec: Spec, tune: bool = False) -> None:
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and stops the pool
 
 
-def _work(path: str) -> UnitResult:
-    return check_file(path, _WORKER_SPEC)
+def _work_chunk(paths: list[str], hashes: bool = False) -> list[CheckedUnit]:
+    return [_check_one(p, _WORKER_SPEC, hashes) for p in paths]
+
+
+def check_chunk(paths: list[str], spec: Spec, hashes: bool = False) -> list[CheckedUnit]:
+    """Check a batch of files (the task a Dask worker runs)."""
+    return [_check_one(p, spec, hashes) for p in paths]
 
 
 def default_jobs() -> int:
@@ -125,48 +198,21 @@ def default_jobs() -> int:
         return max(1, os.cpu_count() or 1)
 
 
-def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None,
-              progress: Callable[[int], None] | None = None, fast_malloc: bool = False) -> list[UnitResult]:
-    """Evaluate every input against ``spec``; one UnitResult per input, in input order.
-
-    ``jobs`` None means :func:`default_jobs` (at most :data:`MAX_JOBS_PER_CORE` per core are used);
-    ``progress(n)`` is called after each ``n`` files;
-    ``fast_malloc`` calls :func:`tune_malloc` (in this process and the workers) for a large lot.
-    Unreadable files give results with ``error`` set; they never stop the others. Ctrl-C stops the
-    workers and propagates KeyboardInterrupt.
-    """
-    items = [i if isinstance(i, Input) else Input(str(i)) for i in inputs]
-    jobs = default_jobs() if jobs is None else int(jobs)
-    todo = [i.path for i in items if i.error is None]
-    tune = fast_malloc and len(todo) > 16
-    if tune:
-        tune_malloc()
-    if jobs <= 1 or len(todo) <= IN_PROCESS_MAX:
-        results = []
-        for it in items:
-            if it.error is not None:
-                results.append(UnitResult(file=it.path, passed=False, error=it.error))
-            else:
-                results.append(check_file(it.path, spec))
-            if progress:
-                progress(1)
-        return results
+def _run_pool(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
+              progress: Callable[[int], None] | None) -> list[CheckedUnit]:
     import multiprocessing as mp
     from concurrent.futures import ProcessPoolExecutor
 
     ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
-    jobs = min(jobs, len(todo), MAX_JOBS_PER_CORE * default_jobs())
-    chunk = max(1, min(64, math.ceil(len(todo) / (jobs * 8))))
-    done = {}
+    jobs = min(jobs, len(paths), MAX_JOBS_PER_CORE * default_jobs())
+    chunk = max(1, min(64, math.ceil(len(paths) / (jobs * 8))))
     pool = ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker, initargs=(spec, tune))
+    out: list[CheckedUnit] = []
     try:
-        futures = []
-        for k in range(0, len(todo), chunk):
-            futures.append(pool.submit(_work_chunk, todo[k:k + chunk]))
-        results_flat: list[UnitResult] = []
+        futures = [pool.submit(_work_chunk, paths[k:k + chunk], hashes) for k in range(0, len(paths), chunk)]
         for fut in futures:
             part = fut.result()
-            results_flat.extend(part)
+            out.extend(part)
             if progress:
                 progress(len(part))
     except BaseException:
@@ -182,14 +228,104 @@ def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None
                 proc.join(timeout=2)
         raise
     pool.shutdown(wait=True)
-    it_res = iter(results_flat)
-    for n, it in enumerate(items):
-        done[n] = UnitResult(file=it.path, passed=False, error=it.error) if it.error is not None else next(it_res)
-    return [done[n] for n in range(len(items))]
+    return out
 
 
-def _work_chunk(paths: list[str]) -> list[UnitResult]:
-    return [_work(p) for p in paths]
+def _run_local(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
+               progress: Callable[[int], None] | None) -> list[CheckedUnit]:
+    """In-process first; hand the rest to worker processes only when it is worth it (see
+    :data:`IN_PROCESS_S`)."""
+    out: list[CheckedUnit] = []
+    t0 = time.perf_counter()
+    k = 0
+    while k < len(paths):
+        out.append(_check_one(paths[k], spec, hashes))
+        k += 1
+        if progress:
+            progress(1)
+        if jobs > 1 and len(paths) > IN_PROCESS_MAX and k >= min(IN_PROCESS_MAX, 16) and k < len(paths):
+            if IN_PROCESS_S <= 0:
+                break
+            elapsed = time.perf_counter() - t0
+            if elapsed >= IN_PROCESS_S and elapsed / k * (len(paths) - k) > POOL_MIN_S:
+                break
+    if k < len(paths):
+        out.extend(_run_pool(paths[k:], spec, jobs, tune, hashes, progress))
+    return out
+
+
+def _run_dask(paths: list[str], spec: Spec, address: str, hashes: bool, batch_size: int | None,
+              progress: Callable[[int], None] | None) -> list[CheckedUnit]:
+    """Evaluate on an existing Dask distributed cluster, ``batch_size`` files per task (default:
+    about four tasks per worker thread, 8 to 1000 files each). The workers must see the files
+    under the same paths (a shared file system, or absolute paths on identical mounts)."""
+    try:
+        from distributed import Client
+    except ImportError:
+        raise UsageError("needs the optional Dask extra", parameter="scheduler", value=address,
+                         expected="pip install 'matchtool[dask]'") from None
+    try:
+        client = Client(address, timeout="20s", set_as_default=False)
+    except (OSError, TimeoutError, ValueError, TypeError) as exc:
+        raise InputError(f"cannot reach the Dask scheduler ({type(exc).__name__})", parameter="scheduler",
+                         value=address, expected="the address of a running dask scheduler, e.g. tcp://host:8786") from None
+    try:
+        threads = sum(w.get("nthreads", 1) for w in client.scheduler_info().get("workers", {}).values()) or 1
+        size = batch_size or max(8, min(1000, math.ceil(len(paths) / (4 * threads))))
+        spec_f = client.scatter(spec, broadcast=True)
+        futures = client.map(check_chunk, [paths[k:k + size] for k in range(0, len(paths), size)],
+                             spec=spec_f, hashes=hashes, pure=False)
+        out: list[CheckedUnit] = []
+        for fut in futures:
+            part = fut.result()
+            out.extend(part)
+            if progress:
+                progress(len(part))
+        return out
+    finally:
+        client.close()
+
+
+def run_units(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None,
+              progress: Callable[[int], None] | None = None, fast_malloc: bool = False, hashes: bool = False,
+              scheduler: str | None = None, batch_size: int | None = None) -> list[CheckedUnit]:
+    """Evaluate every input against ``spec``; one CheckedUnit per input, in input order.
+
+    ``jobs`` None means :func:`default_jobs` (at most :data:`MAX_JOBS_PER_CORE` per core are used);
+    ``scheduler`` runs on that Dask cluster instead (``jobs`` is then ignored); ``progress(n)`` is
+    called after each ``n`` files; ``hashes`` computes each file's SHA-256; ``fast_malloc`` calls
+    :func:`tune_malloc` (in this process and the workers) for a large lot. Unreadable files give
+    results with ``error`` set; they never stop the others. Ctrl-C stops the workers and
+    propagates KeyboardInterrupt.
+    """
+    items = [i if isinstance(i, Input) else Input(str(i)) for i in inputs]
+    jobs = default_jobs() if jobs is None else int(jobs)
+    if jobs < 1:
+        raise UsageError("must be at least 1", parameter="jobs", value=jobs, expected="a number of processes >= 1")
+    todo = [i.path for i in items if i.error is None]
+    tune = fast_malloc and len(todo) > 16
+    if tune:
+        tune_malloc()
+    if scheduler:
+        done = _run_dask(todo, spec, scheduler, hashes, batch_size, progress) if todo else []
+    else:
+        done = _run_local(todo, spec, jobs, tune, hashes, progress)
+    it_res = iter(done)
+    out = []
+    for it in items:
+        if it.error is not None:
+            out.append(CheckedUnit(UnitResult(file=it.path, passed=False, error=it.error)))
+            if progress and not scheduler:
+                progress(1)
+        else:
+            out.append(next(it_res))
+    return out
+
+
+def run_batch(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None,
+              progress: Callable[[int], None] | None = None, fast_malloc: bool = False) -> list[UnitResult]:
+    """Like :func:`run_units`, returning the UnitResults only."""
+    return [c.result for c in run_units(inputs, spec, jobs, progress, fast_malloc)]
 
 
 # -------------------------------------------------------------------------------------- lot summary
@@ -209,14 +345,17 @@ class RequirementYield:
 
 @dataclass(frozen=True)
 class WorstUnit:
-    """A unit with its smallest margin (dB; None when a requirement could not be evaluated) and the
-    requirement that failed (or, for a passing unit, where the smallest margin occurs)."""
+    """A unit and the requirement it misses most (or, for a passing unit, where its smallest margin
+    lies): ``margin_db`` (dB) or ``margin_hz`` (Hz) in that requirement's own unit, None when it
+    could not be evaluated; ``relative_margin`` is the margin over the limit's scale (see
+    :func:`relative_margin`)."""
 
     file: str
     requirement: str
     margin_db: float | None
     passed: bool
     margin_hz: float | None = None
+    relative_margin: float | None = None
 
 
 @dataclass(frozen=True)
@@ -239,27 +378,116 @@ class LotSummary:
         return self.passed / self.units if self.units else 0.0
 
 
-def _unit_key(u: UnitResult) -> tuple[bool, float, RequirementResult | None, int]:
-    """Sort key of a unit, worst first: failing before passing, then the smallest margin in dB.
+RL_KEYS = ("min_return_loss_db", "max_vswr", "max_s11_db")
 
-    For a failing unit only its failing requirements count, and of those the ones with a margin in
-    dB; a unit whose only failures have no dB margin (not evaluated, or outside the resonance
-    window) counts as -inf. Ties go to the unit that fails more requirements. The requirement is
-    returned too.
+
+def limit_scale(r: RequirementResult) -> float | None:
+    """The size of a requirement's limit that margins are compared against: the limit as return
+    loss in dB for the three reflection keys, the limit in dB for mismatch loss and golden-unit
+    deviation, half the window's width in Hz for the resonance. None when it is not positive."""
+    if r.key == "resonance":
+        s = (r.f_high_hz - r.f_low_hz) / 2
+    elif r.key in RL_KEYS:
+        if r.worst_return_loss_db is None or r.margin_db is None:
+            from .reflection import return_loss_from_vswr
+
+            if r.limit is None:
+                return None
+            s = {"min_return_loss_db": r.limit, "max_s11_db": -r.limit}.get(r.key)
+            if s is None:
+                s = float(return_loss_from_vswr(r.limit))
+        else:
+            s = r.worst_return_loss_db - r.margin_db
+    else:
+        s = r.limit if r.limit is not None else 0.0
+    return float(s) if s is not None and math.isfinite(s) and s > 0 else None
+
+
+def relative_margin(r: RequirementResult) -> float | None:
+    """A requirement's margin over its :func:`limit_scale` (dimensionless; negative = failing), so
+    that misses of different kinds compare: 8 dB return loss against a 10 dB limit is -0.2, a best
+    match 2 MHz outside a 20 MHz wide window is -0.2. None when it could not be evaluated; a
+    limit with no positive scale gives the margin itself."""
+    m = r.margin_hz if r.key == "resonance" else r.margin_db
+    if m is None or not math.isfinite(m):
+        return None if m is None else (-math.inf if m < 0 else math.inf)
+    s = limit_scale(r)
+    return m / s if s else m
+
+
+def _worst_of(u: UnitResult) -> tuple[RequirementResult | None, float]:
+    """The requirement a unit misses most (failing ones first; smallest relative margin; one that
+    could not be evaluated counts after every evaluated failure) and its relative margin."""
+    fails = [r for r in u.requirements if not r.passed]
+    pool = fails or list(u.requirements)
+    best, key = None, (2, math.inf)
+    for r in pool:
+        rel = relative_margin(r)
+        k = (1, 0.0) if rel is None else (0, rel)
+        if best is None or k < key:
+            best, key = r, k
+    return best, (key[1] if key[0] == 0 else math.nan)
+
+
+def _entry(u: UnitResult, r: RequirementResult | None) -> WorstUnit:
+    if r is None:
+        return WorstUnit(u.file, "", None, u.passed)
+    return WorstUnit(u.file, r.name, r.margin_db, u.passed, r.margin_hz, relative_margin(r))
+
+
+def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit, ...]:
+    """The units that miss the spec by most, worst first.
+
+    Failing units: first, for each requirement that some unit fails, the unit that misses it by
+    most in that requirement's own unit (dB, or MHz for the resonance window), requirements in
+    spec order (their place in the units' requirement lists), so the worst unit of every
+    requirement is always listed (a near-open unit is never crowded out by many small misses of
+    another kind); then the remaining places go to the failing units with the smallest
+    :func:`relative_margin`. A requirement that could not be evaluated (band not covered) ranks
+    after every evaluated miss. At least ``n_worst`` entries, more when more requirements fail. A
+    lot where every unit passes lists the ``n_worst`` units closest to failing (smallest relative
+    margin). Ties go to the unit that fails more requirements, then to the file name in
+    code-point order (not the input order, so a store of shards ranks alike).
     """
-    reqs = [r for r in u.requirements if not r.passed] or [r for r in u.requirements if r.margin_db is not None]
-    in_db = [r for r in reqs if r.margin_db is not None]
-    reqs = in_db or reqs  # rank on dB margins when the unit has any; a MHz miss alone counts as -inf
-    worst, m = None, math.inf
-    for r in reqs:
-        x = r.margin_db if r.margin_db is not None else -math.inf
-        if worst is None or x < m:
-            worst, m = r, x
-    return (u.passed, m, worst, -sum(1 for r in u.requirements if not r.passed))
+    ok = [u for u in results if u.error is None]
+    failing = [u for u in ok if not u.passed]
+    if not failing:
+        ranked = sorted(((_worst_of(u)[1], n) for n, u in enumerate(ok)),
+                        key=lambda t: (math.isnan(t[0]), t[0], ok[t[1]].file, t[1]))
+        return tuple(_entry(ok[n], _worst_of(ok[n])[0]) for _, n in ranked[:n_worst])
+    order: dict[str, int] = {}
+    for u in ok:
+        for k, r in enumerate(u.requirements):
+            order[r.name] = min(order.get(r.name, k), k)
+    names = sorted({r.name for u in failing for r in u.requirements if not r.passed}, key=lambda n: (order[n], n))
+    chosen: list[tuple[int, RequirementResult]] = []
+    taken: set[int] = set()
+    for name in names:
+        best, best_k = None, None
+        for n, u in enumerate(failing):
+            for r in u.requirements:
+                if r.name == name and not r.passed:
+                    m = r.margin_hz if r.key == "resonance" else r.margin_db
+                    k = (1, 0.0, u.file, n) if m is None else (0, m, u.file, n)
+                    if best_k is None or k < best_k:
+                        best, best_k = (n, r), k
+        if best is not None and best[0] not in taken:
+            taken.add(best[0])
+            chosen.append(best)
+    rest = []
+    for n, u in enumerate(failing):
+        if n not in taken:
+            r, rel = _worst_of(u)
+            rest.append(((math.isnan(rel), 0.0 if math.isnan(rel) else rel, -sum(not q.passed for q in u.requirements),
+                          u.file, n), n, r))
+    rest.sort(key=lambda t: t[0])
+    for _, n, r in rest[:max(0, n_worst - len(chosen))]:
+        chosen.append((n, r))
+    return tuple(_entry(failing[n], r) for n, r in chosen)
 
 
 def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
-    """The lot summary of ``results`` (see :class:`LotSummary`)."""
+    """The lot summary of ``results`` (see :class:`LotSummary` and :func:`worst_units`)."""
     ok = [u for u in results if u.error is None]
     names: list[str] = []
     counts: dict[str, list[int]] = {}
@@ -272,13 +500,73 @@ def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
             counts[r.name][0] += int(r.passed)
     f_best = np.array([u.best_f_hz for u in ok if u.best_f_hz is not None], dtype=float)
     spread = (float(f_best.min()), float(np.median(f_best)), float(f_best.max())) if f_best.size else (None,) * 3
-    ranked = sorted(((_unit_key(u), n, u) for n, u in enumerate(ok)), key=lambda t: (t[0][0], t[0][1], t[0][3], t[1]))
-    worst = tuple(WorstUnit(u.file, k[2].name if k[2] else "", k[2].margin_db if k[2] else None, u.passed,
-                            k[2].margin_hz if k[2] else None)
-                  for k, _, u in ranked[:n_worst])
     passed = sum(1 for u in results if u.passed)
     errors = len(results) - len(ok)
     return LotSummary(units=len(results), passed=passed, failed=len(results) - passed - errors, errors=errors,
                       yields=tuple(RequirementYield(n, *counts[n]) for n in names),
                       resonance_min_hz=spread[0], resonance_median_hz=spread[1], resonance_max_hz=spread[2],
-                      worst=worst)
+                      worst=worst_units(results, n_worst))
+
+
+# ------------------------------------------------------------------------------------ the one entry
+
+@dataclass(frozen=True)
+class LotResult:
+    """A checked lot: the spec, one :class:`CheckedUnit` per input (input order, after the shard
+    is taken), the lot summary, ``shard`` (k, n) or None, ``inputs_total`` the number of inputs
+    before the shard was taken, ``started_at`` (UTC, ISO 8601) and ``elapsed_s``."""
+
+    spec: Spec
+    units: tuple[CheckedUnit, ...]
+    summary: LotSummary
+    shard: tuple[int, int] | None = None
+    inputs_total: int = 0
+    started_at: str = ""
+    elapsed_s: float = 0.0
+    warnings: tuple[str, ...] = field(default=())
+
+    @property
+    def results(self) -> list[UnitResult]:
+        return [c.result for c in self.units]
+
+    @property
+    def passed(self) -> bool:
+        return all(c.result.passed for c in self.units)
+
+    @property
+    def errors(self) -> list[str]:
+        return [c.result.error for c in self.units if c.result.error is not None]
+
+
+def check_lot(inputs: Iterable[str | Path | Input], spec: Spec, jobs: int | None = None,
+              shard: tuple[int, int] | str | None = None, scheduler: str | None = None,
+              progress: Callable[[int], None] | None = None, hashes: bool = False, fast_malloc: bool = False,
+              batch_size: int | None = None, n_worst: int = 5) -> LotResult:
+    """Check a lot: expand ``inputs`` (see :func:`expand_inputs`), keep ``shard`` (k, n) or "K/N",
+    evaluate locally with ``jobs`` processes or on the Dask cluster at ``scheduler``, summarise.
+
+    Raises UsageError when nothing is left to check.
+    """
+    from datetime import UTC, datetime
+
+    if isinstance(shard, str):
+        shard = parse_shard(shard)
+    given = list(inputs)
+    items = given if all(isinstance(i, Input) for i in given) else expand_inputs(
+        [i.path if isinstance(i, Input) else i for i in given])
+    total = len(items)
+    if not items:
+        raise UsageError("no sweep to check", expected="files, glob patterns or directories of Touchstone files")
+    mine = select_shard(items, shard)
+    started = datetime.now(UTC)
+    t0 = time.perf_counter()
+    units = run_units(mine, spec, jobs, progress=progress, fast_malloc=fast_malloc, hashes=hashes,
+                      scheduler=scheduler, batch_size=batch_size)
+    elapsed = time.perf_counter() - t0
+    results = [c.result for c in units]
+    warnings = tuple(spec.warnings) + tuple(w for u in results for w in u.warnings)
+    if shard is not None and not mine:
+        warnings += (f"shard {shard[0]}/{shard[1]} holds no file (the lot has {total} inputs)",)
+    return LotResult(spec=spec, units=tuple(units), summary=summarize_lot(results, n_worst), shard=shard,
+                     inputs_total=total, started_at=started.strftime("%Y-%m-%dT%H:%M:%S"), elapsed_s=elapsed,
+                     warnings=warnings)

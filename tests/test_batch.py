@@ -52,6 +52,7 @@ def test_parallel_equals_serial(tmp_path, spec, monkeypatch):
     (tmp_path / "broken.s1p").write_text("# MHz S RI R 50\n900 0.1 0.2\n910 0.3\n")
     inputs = batch.expand_inputs([tmp_path])
     monkeypatch.setattr(batch, "IN_PROCESS_MAX", 4)  # force the process pool for this small lot
+    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)
     calls = []
     par = batch.run_batch(inputs, spec, jobs=3, progress=calls.append)
     ser = batch.run_batch(inputs, spec, jobs=1)
@@ -78,20 +79,16 @@ def test_lot_summary(tmp_path, spec):
     rl_worst = [(-20 * np.log10(np.abs(gamma_of(series_rlc_z(edges, 50.0, 150e-9, f0))))).min() for f0 in f0s]
     ism = next(y for y in s.yields if y.name == "ism")
     assert ism.passed == sum(r >= 10 for r in rl_worst) and 0 < ism.passed < len(f0s)
-    # worst units: the failing ones first, each group by its smallest dB margin
-    # (a failing unit by its failing requirements only, and of those by the ones with a dB margin;
-    # a unit whose only failures have no dB margin, e.g. a resonance miss in MHz, counts as -inf)
-    def key(u):
-        reqs = [r for r in u.requirements if not r.passed] or u.requirements
-        in_db = [r.margin_db for r in reqs if r.margin_db is not None]
-        worst = min(in_db) if in_db else -np.inf
-        return (u.passed, worst, -sum(not r.passed for r in u.requirements))
-
-    order = sorted(range(len(results)), key=lambda k: key(results[k]))
-    assert [w.file for w in s.worst] == [results[k].file for k in order]
-    assert [w.passed for w in s.worst] == sorted(w.passed for w in s.worst)
-    for w, k in zip(s.worst, order, strict=True):  # the named requirement is one that failed
-        assert w.passed or w.requirement in {r.name for r in results[k].requirements if not r.passed}
+    # worst units: for each failing requirement the unit with the most negative margin in that
+    # requirement's own unit (computed here from the results), then the rest by relative margin
+    failing = [u for u in results if not u.passed]
+    assert {w.file for w in s.worst} <= {u.file for u in failing} and all(not w.passed for w in s.worst)
+    for name in ("ism", "resonance"):
+        cands = [(r.margin_hz if r.key == "resonance" else r.margin_db, u.file)
+                 for u in failing for r in u.requirements if r.name == name and not r.passed]
+        if cands:
+            assert min(cands)[1] in [w.file for w in s.worst]
+    assert len(s.worst) == min(5, len(failing))
     assert s.units == 5 and s.passed + s.failed + s.errors == 5 and s.errors == 0
 
 
@@ -129,6 +126,77 @@ def test_absurd_job_count_is_capped_per_core(tmp_path, spec, monkeypatch):
 
     monkeypatch.setattr(concurrent.futures, "ProcessPoolExecutor", recording)
     monkeypatch.setattr(batch, "default_jobs", lambda: 1)
+    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)  # hand the rest to the pool at once
     results = batch.run_batch(files, spec, jobs=100_000)
     assert seen == [batch.MAX_JOBS_PER_CORE]
     assert [r.file for r in results] == [str(f) for f in files] and all(r.error is None for r in results)
+
+
+def _rl(name, rl_db, limit=12.0):
+    from matchtool.spec import RequirementResult
+
+    return RequirementResult(name=name, key="min_return_loss_db", passed=rl_db >= limit, limit=limit, worst=rl_db,
+                             worst_f_hz=902e6, margin_db=rl_db - limit, f_low_hz=902e6, f_high_hz=928e6,
+                             worst_return_loss_db=rl_db)
+
+
+def _res(f_hz):
+    from matchtool.spec import RequirementResult
+
+    m = min(f_hz - 905e6, 925e6 - f_hz)
+    return RequirementResult(name="resonance", key="resonance", passed=m >= 0, limit=None, worst=f_hz, worst_f_hz=f_hz,
+                             margin_db=None, f_low_hz=905e6, f_high_hz=925e6, margin_hz=m)
+
+
+def _unit(name, *reqs):
+    from matchtool.spec import UnitResult
+
+    return UnitResult(file=name, passed=all(r.passed for r in reqs), requirements=reqs, best_f_hz=reqs[-1].worst)
+
+
+def test_a_near_open_unit_is_never_left_out():
+    # the lot of the report: a near-open unit (2.14 dB return loss against 12 dB: margin -9.86 dB),
+    # units 27 MHz outside the resonance window, and many that miss it by 0.5-1 MHz while passing
+    # every dB requirement
+    lot = [_unit(f"near{k}.s1p", _rl("ism", 15.0), _res(925e6 + (0.5 + 0.1 * k) * 1e6)) for k in range(6)]
+    lot += [_unit(f"far{k}.s1p", _rl("ism", 14.0), _res(952e6 + k * 1e3)) for k in range(6)]
+    lot.insert(7, _unit("open.s1p", _rl("ism", 2.14), _res(915e6)))
+    for n in (1, 3, 5):
+        w = batch.worst_units(lot, n)
+        files = [x.file for x in w]
+        assert "open.s1p" in files
+        first = {x.requirement: x.file for x in reversed(w)}
+        assert first["ism"] == "open.s1p" and w[files.index("open.s1p")].margin_db == pytest.approx(-9.86)
+        assert files[files.index("open.s1p") + 1 if files[0] == "open.s1p" else 0].startswith("far")
+        # the units 27 MHz outside rank before any that miss by 0.5-1 MHz
+        near = [i for i, f in enumerate(files) if f.startswith("near")]
+        far = [i for i, f in enumerate(files) if f.startswith("far")]
+        assert not near or not far or max(far) < min(near)
+        assert len(w) == max(n, 2)  # every failing requirement's worst unit, then up to n
+    # relative margins compare the kinds: -9.86 / 12 dB against -27 MHz / 10 MHz half window
+    assert batch.relative_margin(_rl("ism", 2.14)) == pytest.approx(-9.86 / 12)
+    assert batch.relative_margin(_res(952e6)) == pytest.approx(-27 / 10)
+
+
+def test_shards_are_disjoint_and_cover_the_lot():
+    items = list(range(23))
+    for n in (1, 2, 5, 23, 30):
+        parts = [batch.select_shard(items, (k, n)) for k in range(1, n + 1)]
+        assert sorted(x for p in parts for x in p) == items
+        assert max(map(len, parts)) - min(map(len, parts)) <= 1
+    assert batch.parse_shard("3/8") == (3, 8)
+    for bad in ("0/3", "4/3", "3", "a/b", "1/0"):
+        with pytest.raises(batch.UsageError):
+            batch.parse_shard(bad)
+
+
+def test_dask_cluster_gives_the_local_results(tmp_path, spec):
+    distributed = pytest.importorskip("distributed", reason="the optional Dask extra is not installed")
+    files = make_lot(tmp_path, np.linspace(895e6, 935e6, 37), r_ohm=45.0)
+    (tmp_path / "bad.s1p").write_text("not a sweep\n")
+    inputs = [str(f) for f in files] + [str(tmp_path / "bad.s1p"), str(tmp_path / "missing.s1p")]
+    local = batch.check_lot(inputs, spec, jobs=1, hashes=True)
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None) as cl:
+        remote = batch.check_lot(inputs, spec, scheduler=cl.scheduler_address, hashes=True, batch_size=5)
+    assert remote.results == local.results and remote.summary == local.summary
+    assert [c.sha256 for c in remote.units] == [c.sha256 for c in local.units]

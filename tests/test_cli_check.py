@@ -222,14 +222,15 @@ def test_interrupt_in_a_worker_process_stops_the_lot(cli, tmp_path, monkeypatch)
     for k in range(8):
         write_rlc(tmp_path / f"u{k}.s1p", n=101)
     monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
-    real = batch._work
+    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)
+    real = batch._check_one
 
-    def work(path):  # runs in the forked workers
+    def work(path, spec, hashes):  # runs in the forked workers
         if path.endswith("u5.s1p"):
             raise KeyboardInterrupt
-        return real(path)
+        return real(path, spec, hashes)
 
-    monkeypatch.setattr(batch, "_work", work)
+    monkeypatch.setattr(batch, "_check_one", work)
     r = cli("check", tmp_path, "--spec", spec, "--jobs", "2", "--csv", tmp_path / "r.csv")
     assert r.code == 130 and not (tmp_path / "r.csv").exists()
     assert not [p for p in tmp_path.iterdir() if p.name.endswith(".part")]
@@ -259,7 +260,7 @@ def test_file_names_are_never_truncated_a_common_folder_is_named_once(cli, tmp_p
     assert "…" not in r.out and "..." not in r.out
     assert f"(files in {samples}/)" in r.out
     for name in ("ant_r2_coarse.s1p", "ant_r3_via_cable.s1p", "dualband_wifi.s1p", "module_port2.s2p"):
-        assert f" {name} " in r.out, name
+        assert any(ln.startswith(f"{name}: ") for ln in r.out.splitlines()), name
 
 
 def test_a_long_single_file_name_is_wrapped_not_cut(cli, tmp_path):
@@ -280,8 +281,8 @@ def test_limit_has_its_unit_and_the_footer_names_every_margin_unit(cli, tmp_path
     good = write_rlc(tmp_path / "good.s1p", r_ohm=50.0)
     r = cli("check", good, "--spec", spec)
     assert r.code == 0, r.err
-    assert "10.00 dB return loss" in r.out  # the limit, not a bare 10.00
-    assert "0.50 dB" in r.out and "3.000 ratio" in r.out
+    assert ">= 10.00 dB" in r.out  # the limit with its direction and unit, not a bare 10.00
+    assert "<= 0.50 dB" in r.out and "<= 3.000 VSWR" in r.out
     footer = " ".join(r.out[r.out.index("Margins are"):r.out.index("Verdict")].split())
     assert "dB of return loss" in footer and "(a VSWR limit converted to it)" in footer
     assert "dB of mismatch loss" in footer and "resonance margin in MHz" in footer
@@ -293,10 +294,154 @@ def test_worst_units_lists_only_failing_units(cli, lot):
     other = write_rlc(d / "good2.s1p", r_ohm=45.0)
     r = cli("check", good, bad, other, "--spec", spec)
     assert r.code == 1
-    (line,) = [x for x in r.out.splitlines() if x.startswith("Worst failing units")]
-    assert "detuned.s1p" in line and "good.s1p" not in line and "good2.s1p" not in line
+    lines = r.out.splitlines()
+    k = next(i for i, x in enumerate(lines) if x.startswith("Worst failing units"))
+    listed = [x.strip() for x in lines[k + 1:] if x.startswith("  ")]
+    assert listed and all(x.startswith("detuned.s1p:") for x in listed)
     r = cli("check", good, other, "--spec", spec)
     assert r.code == 0
     assert "Worst failing units" not in r.out and "Worst units" not in r.out
-    (line,) = [x for x in r.out.splitlines() if x.startswith("Closest to failing")]
-    assert "good" in line
+    lines = r.out.splitlines()
+    k = next(i for i, x in enumerate(lines) if x.startswith("Closest to failing"))
+    assert lines[k + 1].strip().startswith("good")
+
+
+# ----------------------------------------------------------------- layout, margins, errors, JUnit
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_tables_fit_and_no_word_is_broken(cli, lot, monkeypatch, width):
+    from matchtool.render.text.check import requirement_cells
+
+    d, spec, good, bad, broken = lot
+    s2 = d / "spec2.toml"
+    s2.write_text(SPEC + '[resonance]\nf_low = "905 MHz"\nf_high = "925 MHz"\n')
+    monkeypatch.setenv("COLUMNS", str(width))
+    r = cli("check", good, bad, "--spec", s2)
+    assert r.code == 1
+    lines = r.out.splitlines()
+    assert all(len(ln) <= width for ln in lines if not ln.startswith("Check against")), width
+    words = set(r.out.split())
+    doc = cli("check", good, bad, "--spec", s2, "--json").json()
+    from matchtool.spec import RequirementResult
+
+    for f in doc["files"]:
+        for q in f["requirements"]:
+            rr = RequirementResult(name=q["name"], key=q["key"], passed=q["pass"], limit=q["limit"], worst=q["worst"],
+                                   worst_f_hz=q["worst_f_hz"], margin_db=q["margin_db"], f_low_hz=q["f_low_hz"],
+                                   f_high_hz=q["f_high_hz"], margin_hz=q["margin_hz"])
+            for cell in (q["name"], *requirement_cells(rr)):
+                for word in cell.split():
+                    assert word in words, (width, word)  # every word of every cell shown whole
+    for word in ("requirement", "verdict", "margin", "905.0", "925.0"):
+        assert word in words
+
+
+def test_a_failing_margin_never_reads_zero(cli, lot, tmp_path):
+    d, spec, good, *_ = lot
+    one = tmp_path / "one.toml"
+    one.write_text('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
+    worst = cli("check", good, "--spec", one, "--json").json()["files"][0]["requirements"][0]["worst"]
+    # a limit 0.004 dB above the unit's worst return loss: it fails by 0.004 dB
+    one.write_text(f'[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = {worst + 0.004!r}\n')
+    r = cli("check", good, "--spec", one)
+    assert r.code == 1
+    row = next(ln for ln in r.out.splitlines() if ln.strip().startswith("ism"))
+    assert "FAIL" in row and "-0.004 dB" in row and "0.00 dB" not in row.replace("-0.004", "")
+    cells = row.split()
+    w, lim = cells[2], cells[6]  # worst and limit must differ in the digits shown
+    assert w != lim
+    junit = tmp_path / "r.xml"
+    cli("check", good, "--spec", one, "--junit", junit)
+    msg = ET.parse(junit).getroot().find(".//failure").get("message")
+    assert "margin -0.004 dB" in msg
+
+
+def test_margins_carry_their_sign():
+    from matchtool.render.text.check import signed
+
+    assert signed(1.234) == "+1.23" and signed(-1.234) == "-1.23" and signed(0.0) == "+0.00"
+    assert signed(-0.004) == "-0.004" and signed(-0.0004) == "-0.0004"
+    assert signed(-0.00004) == "-4.0e-05" and signed(-4e-9) == "-4.0e-09"
+    assert signed(-0.0) == "+0.00"  # a zero margin passes (margin >= 0)
+
+
+def test_a_missing_file_is_an_error_not_a_fail(cli, lot):
+    d, spec, good, *_ = lot
+    missing = d / "nope.s1p"
+    r = cli("check", good, missing, "--spec", spec)
+    assert r.code == 2
+    assert "Verdict: ERROR (1 file could not be read)" in r.out and "Verdict: FAIL" not in r.out
+    row = next(ln for ln in r.out.splitlines() if ln.startswith("nope.s1p") or "nope.s1p:" in ln)
+    assert "ERROR" in row and "no such file" not in r.out  # the reason is on stderr, not in a margin column
+    assert any("nope.s1p" in ln and ln.startswith("error:") for ln in r.err_lines)
+
+
+def test_junit_times_and_timestamp(cli, lot):
+    from datetime import datetime
+
+    d, spec, good, bad, broken = lot
+    junit = d / "r.xml"
+    cli("check", good, bad, broken, "--spec", spec, "--junit", junit)
+    root = ET.parse(junit).getroot()
+    suites = root.findall("testsuite")
+    for s in suites:
+        datetime.fromisoformat(s.get("timestamp"))  # ISO 8601
+        assert float(s.get("time")) >= 0
+        assert float(s.get("time")) == pytest.approx(sum(float(c.get("time")) for c in s.findall("testcase")), abs=1e-5)
+    assert all(float(c.get("time")) >= 0 for c in root.iter("testcase"))
+
+
+def test_junit_lot_level(cli, lot):
+    d, spec, good, bad, broken = lot
+    junit = d / "r.xml"
+    r = cli("check", good, bad, broken, "--spec", spec, "--junit", junit, "--junit-level", "lot", "--lot", "L7",
+            "--json")
+    assert r.code == 2
+    root = ET.parse(junit).getroot()
+    (suite,) = root.findall("testsuite")
+    cases = suite.findall("testcase")
+    assert [c.get("name") for c in cases] == ["ism", "ism mismatch loss", "guard", "unreadable files"]
+    assert all(c.get("classname") == "L7" for c in cases)
+    y = {q["name"]: q for q in r.json()["summary"]["yield"]}
+    for c in cases[:3]:
+        fail = c.find("failure")
+        q = y[c.get("name")]
+        assert (fail is not None) == (q["passed"] < q["evaluated"])
+        if fail is not None:
+            assert f"({q['passed']} of {q['evaluated']} units passed" in fail.get("message")
+            assert "detuned.s1p" in fail.get("message")
+    assert cases[3].find("error") is not None and "broken.s1p" in cases[3].find("error").get("message")
+    assert suite.get("timestamp") and int(root.get("errors")) == 1
+
+
+def test_bad_new_options(cli, lot):
+    d, spec, good, *_ = lot
+    for args, words in ((["--shard", "4/3"], "--shard"), (["--junit-level", "file"], "--junit-level"),
+                        (["--store", str(d / "r.db")], "--store needs --lot"),
+                        (["--jobs", "2", "--scheduler", "tcp://127.0.0.1:1"], "--scheduler")):
+        r = cli("check", good, "--spec", spec, *args)
+        assert r.code == 2 and len(r.err_lines) == 1 and words in r.err, (args, r.err)
+
+
+def test_an_unreachable_scheduler_is_one_line(cli, lot):
+    pytest.importorskip("distributed", reason="the optional Dask extra is not installed")
+    import socket
+
+    d, spec, good, *_ = lot
+    with socket.socket() as s:  # a port on this machine that nothing listens on
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    r = cli("check", good, "--spec", spec, "--scheduler", f"tcp://127.0.0.1:{port}")
+    assert r.code == 2 and len(r.err_lines) == 1 and "--scheduler" in r.err and "Dask scheduler" in r.err
+
+
+def test_jobs_two_is_the_same_lot(cli, tmp_path, monkeypatch):
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    for k in range(12):
+        write_rlc(tmp_path / f"u{k}.s1p", n=101, f0_hz=880e6 + 6e6 * k)
+    one = cli("check", tmp_path, "--spec", spec, "--json", "--jobs", "1").json()
+    monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
+    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)  # worker processes take over after the first files
+    two = cli("check", tmp_path, "--spec", spec, "--json", "--jobs", "2").json()
+    assert one == two

@@ -24,7 +24,12 @@ def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
     link.write_text('f_hz = "915 MHz"\ndistance_m = 100\ntx_power_dbm = 14\ntx_gain_dbi = 2\ntx_cable_loss_db = 0.5\n'
                     'rx_gain_dbi = 2\nrx_cable_loss_db = 0.5\npolarization_angle_deg = 0\n'
                     'rx_sensitivity_dbm = -110\ntx_sweep = "u.s1p"\n')
-    for argv in (["--help"], ["inspect", str(p), "--json"], ["inspect", str(p)],
+    spec = tmp_path / "spec.toml"
+    spec.write_text('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
+    db = str(tmp_path / "r.db")
+    for argv in (["--help"], ["check", str(p), str(q), "--spec", str(spec), "--store", db, "--lot", "L"],
+                 ["history", "--store", db], ["history", "--store", db, "--json"],
+                 ["inspect", str(p), "--json"], ["inspect", str(p)],
                  ["compare", str(p), str(q)], ["match", str(q), "--band", "902MHz:928MHz"],
                  ["feedline", str(p), "--delay", "100ps", "--toward", "radio"], ["budget", str(link)],
                  ["match", "--help"], ["report", "--help"], ["plot", "--help"]):

@@ -8,11 +8,11 @@ import typer
 
 from ..compare import BandSpec, Comparison, band_name, compare, order_with_baseline
 from ..errors import ExitStatus, OutOfRangeError, UsageError
+from ..render.json_contract import requirement_doc
 from ..spec import Spec, load_spec
 from ..summary import threshold_from_options
 from ..sweep import load
 from ..units import parse_band
-from .check import requirement_doc
 from .common import JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, console, emit_json, fmt, warn
 
 EPILOG = """Examples:

@@ -29,6 +29,12 @@ PARAMETER_FLAGS: dict[str, str] = {
     "max_vswr": "--max-vswr",
     "max_s11_db": "--max-s11-db",
     "jobs": "--jobs",
+    "shard": "--shard",
+    "scheduler": "--scheduler",
+    "store": "--store",
+    "lot": "--lot",
+    "since": "--since",
+    "junit_level": "--junit-level",
 }
 
 

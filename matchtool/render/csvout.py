@@ -31,7 +31,11 @@ def _cell(x) -> str:
 
 
 def csv_text(results: list[UnitResult]) -> str:
-    """The CSV document (RFC 4180 quoting, CRLF line ends) for ``results``."""
+    """The CSV document (RFC 4180 quoting, CRLF line ends) for ``results`` (a list of UnitResults
+    or a ``batch.LotResult``)."""
+    units = getattr(results, "units", None)
+    if units is not None:
+        results = [c.result for c in units]
     buf = io.StringIO()
     w = csv.writer(buf)
     w.writerow(COLUMNS)

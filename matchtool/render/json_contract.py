@@ -56,3 +56,92 @@ def inspect_doc(s) -> dict[str, Any]:
         "at": [point_doc(p) for p in s.at],
         "warnings": list(s.warnings),
     }
+
+
+# --- check ---------------------------------------------------------------------------------------
+
+def requirement_doc(r) -> dict[str, Any]:
+    """The contract's requirement entry (a ``spec.RequirementResult``; plus unit, band, reason and,
+    for multi-port specs, ``port`` / ``ports`` fields)."""
+    doc = {"name": r.name, "pass": r.passed, "limit": r.limit, "worst": r.worst, "worst_f_hz": r.worst_f_hz,
+           "margin_db": r.margin_db, "key": r.key, "unit": r.unit, "f_low_hz": r.f_low_hz, "f_high_hz": r.f_high_hz,
+           "worst_return_loss_db": r.worst_return_loss_db, "margin_hz": r.margin_hz, "samples": r.samples,
+           "reason": r.reason or None}
+    for k in ("port", "ports"):
+        v = getattr(r, k, None)
+        if v is not None:
+            doc[k] = list(v) if k == "ports" else v
+    return doc
+
+
+def unit_doc(u, sha256: str | None = None, time_s: float | None = None) -> dict[str, Any]:
+    """One ``files`` entry of ``check --json`` (a ``spec.UnitResult``)."""
+    doc = {"file": u.file, "pass": u.passed, "error": u.error, "best_f_hz": u.best_f_hz,
+           "best_return_loss_db": u.best_return_loss_db, "requirements": [requirement_doc(r) for r in u.requirements]}
+    if sha256 is not None:
+        doc["sha256"] = sha256
+    return doc
+
+
+def worst_doc(w) -> dict[str, Any]:
+    return {"file": w.file, "requirement": w.requirement, "margin_db": w.margin_db, "margin_hz": w.margin_hz,
+            "relative_margin": w.relative_margin, "pass": w.passed}
+
+
+def summary_doc(s) -> dict[str, Any]:
+    """The lot summary (a ``batch.LotSummary``)."""
+    return {"units": s.units, "passed": s.passed, "failed": s.failed, "errors": s.errors,
+            "yield_fraction": s.yield_fraction,
+            "yield": [{"name": y.name, "passed": y.passed, "evaluated": y.evaluated, "yield_fraction": y.yield_fraction}
+                      for y in s.yields],
+            "resonance_f_hz": {"min": s.resonance_min_hz, "median": s.resonance_median_hz, "max": s.resonance_max_hz},
+            "worst_units": [worst_doc(w) for w in s.worst]}
+
+
+def check_doc(lot, store_info=None, store_error: str | None = None, lot_name: str | None = None) -> dict[str, Any]:
+    """The ``check --json`` document of a ``batch.LotResult`` (keys per the interface contract,
+    plus the summary, the shard, and where the results were stored)."""
+    doc: dict[str, Any] = {"pass": lot.passed, "spec": lot.spec.path,
+                           "files": [unit_doc(c.result, c.sha256) for c in lot.units]}
+    if len(lot.units) > 1 or lot.shard is not None:
+        doc["summary"] = summary_doc(lot.summary)
+    if lot.shard is not None:
+        doc["shard"] = {"k": lot.shard[0], "n": lot.shard[1], "inputs_total": lot.inputs_total}
+    if lot_name is not None:
+        doc["lot"] = lot_name
+    if store_info is not None:
+        doc["store"] = {"url": store_info.url, "lot": store_info.lot, "station": store_info.station,
+                        "added": store_info.added, "duplicates": store_info.duplicates, "error": None}
+    elif store_error is not None:
+        doc["store"] = {"error": store_error}
+    doc["warnings"] = list(lot.warnings)
+    return doc
+
+
+# --- history -------------------------------------------------------------------------------------
+
+def _time(t) -> str | None:
+    return t.strftime("%Y-%m-%dT%H:%M:%SZ") if t is not None else None
+
+
+def history_doc(h) -> dict[str, Any]:
+    """The ``history --json`` document (a ``history.HistoryResult``)."""
+    lots = []
+    for lt in h.lots:
+        lots.append({
+            "lot": lt.lot, "units": lt.units, "passed": lt.passed, "failed": lt.failed, "errors": lt.errors,
+            "yield_fraction": lt.yield_fraction, "specs": list(lt.specs), "stations": list(lt.stations),
+            "first_at": _time(lt.first_at), "last_at": _time(lt.last_at),
+            "requirements": [{"name": r.name, "key": r.key, "evaluated": r.evaluated, "passed": r.passed,
+                              "yield_fraction": r.yield_fraction, "n_values": r.n_values, "mean": r.mean, "std": r.std,
+                              "min": r.min, "max": r.max, "limit": r.limit, "f_low_hz": r.f_low_hz,
+                              "f_high_hz": r.f_high_hz, "cpk": r.cpk, "cpk_side": r.cpk_side,
+                              "cpk_reason": r.cpk_reason or None} for r in lt.requirements],
+            "resonance_f_hz": {"n": lt.resonance_n, "mean": lt.resonance_mean_hz, "std": lt.resonance_std_hz,
+                               "min": lt.resonance_min_hz, "max": lt.resonance_max_hz},
+            "worst_units": [{"file": w.file, "station": w.station, "requirement": w.requirement,
+                             "margin_db": w.margin_db, "margin_hz": w.margin_hz, "relative_margin": w.relative_margin}
+                            for w in lt.worst],
+        })
+    return {"stores": list(h.stores), "filters": {"lot": h.lot, "since": _time(h.since), "spec": h.spec},
+            "lots": lots, "warnings": list(h.warnings)}
