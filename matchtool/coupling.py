@@ -25,7 +25,8 @@ Conventions (all frequencies in Hz, ports numbered from 1 as in the Touchstone f
   reference); ports not excited are terminated in the reference impedance and the power they absorb
   counts in ``b`` (it is not radiated). The relative phases are swept on a grid of ``phase_step_deg``
   (all combinations; with K ports that is (360 / step)^(K-1) excitations); when that exceeds
-  ``max_excitations`` the step is widened to the finest grid within the budget (a warning says so).
+  ``max_excitations`` the step is widened to the finest grid within the budget (the result's
+  ``phase_step_deg`` says which step was used).
   At every frequency the grid's most extreme excitations are then polished by exact
   one-phase-at-a-time optimisation (with the other phases held, TARC^2 is ``c + 2 Re(e^{-j theta_k}
   z_k)``, extreme at ``theta_k = arg z_k`` or opposite it), which only moves toward the extreme; for
@@ -100,6 +101,13 @@ def envelope_correlation(s: np.ndarray, i: int, j: int) -> tuple[np.ndarray, np.
         rho = np.where(undefined, 1.0, num / np.where(undefined, 1.0, di * dj))
     clipped = ~undefined & (rho > 1.0)
     return np.clip(rho, 0.0, 1.0), undefined, clipped
+
+
+def same_both_ways(s: np.ndarray, i: int, j: int) -> bool:
+    """Whether S_ij and S_ji (1-based) of ``s`` (n, N, N) are the same curve (to 1e-12 relative):
+    a reciprocal file (a symmetric ``[Matrix Format]`` stores them once) or a reciprocal model."""
+    s = np.asarray(s)
+    return bool(np.allclose(s[:, i - 1, j - 1], s[:, j - 1, i - 1], rtol=1e-12, atol=1e-15))
 
 
 def _phase_grid(k: int, step_deg: float, max_excitations: int) -> tuple[np.ndarray, float]:
@@ -248,6 +256,10 @@ class TarcResult:
     phase_step_deg: float
     requested_phase_step_deg: float
     excitations: int
+    band_worst_db: tuple[float, ...] = ()
+    """The worst TARC (dB) over phase and over each of the result's ``bands`` (edges included, S
+    interpolated in complex values there), at ``band_worst_f_hz``."""
+    band_worst_f_hz: tuple[float, ...] = ()
     polished: bool = True
 
 
@@ -323,11 +335,10 @@ def analyze_coupling(network: skrf.Network | Sweep | str | Path, pair: Sequence[
     s = np.asarray(sw.network.s, dtype=complex)
     n = s.shape[1]
     if n < 2:
-        raise UsageError(f"{sw.path} has {n} port; isolation, ECC and TARC need at least two",
-                         parameter="network", expected="a multi-port file (.s2p, .s4p, ...)")
+        raise UsageError(f"has {n} port; isolation, ECC and TARC need at least two", path=sw.path,
+                         expected="a multi-port file (.s2p, .s4p, ...)")
     if f.size < 2:
-        raise UsageError(f"{sw.path} holds a single frequency", parameter="network",
-                         expected="a sweep of at least two frequencies")
+        raise UsageError("holds a single frequency", path=sw.path, expected="a sweep of at least two frequencies")
     if not (math.isfinite(phase_step_deg) and 0 < phase_step_deg <= 180):
         raise UsageError("must lie in (0, 180] degrees", parameter="phase_step_deg", value=phase_step_deg,
                          expected="a phase step such as 1 or 5 degrees")
@@ -371,7 +382,7 @@ def analyze_coupling(network: skrf.Network | Sweep | str | Path, pair: Sequence[
                             "frequencies (inconsistent data); clipped to 1")
         pb = tuple(pair_band(f, s, i, j, lo, hi) for lo, hi in band_list)
         out.append(PairCoupling(ports=(i, j), isolation_db=np.minimum(iso_ij, iso_ji), isolation_ij_db=iso_ij,
-                                isolation_ji_db=iso_ji, reciprocal=bool(np.array_equal(s_ij, s_ji)), ecc=rho,
+                                isolation_ji_db=iso_ji, reciprocal=same_both_ways(s, i, j), ecc=rho,
                                 ecc_undefined=int(undefined.sum()), ecc_clipped=int(clipped.sum()), bands=pb))
     if tarc_ports is not None:
         ports_t = tuple(sorted({int(p) for p in tarc_ports}))
@@ -383,14 +394,20 @@ def analyze_coupling(network: skrf.Network | Sweep | str | Path, pair: Sequence[
     else:
         ports_t = tuple(range(1, n + 1))
     worst, best, step, n_exc = tarc_extremes(s, ports_t, phase_step_deg, int(max_excitations))
-    if step > phase_step_deg * (1 + 1e-9):
-        warnings.append(f"{sw.path}: TARC of {len(ports_t)} ports: a {phase_step_deg:g}-degree grid would need "
-                        f"{(360 / phase_step_deg) ** (len(ports_t) - 1):.3g} excitations per frequency; swept on a "
-                        f"{step:g}-degree grid ({n_exc} excitations), each frequency's worst and best then "
-                        "polished by exact one-phase-at-a-time optimisation")
     worst_db, best_db = _db20(worst), _db20(best)
+    b_worst, b_f = [], []
+    for lo, hi in band_list:
+        fb, sb = band_samples(f, s, max(lo, f[0]), min(hi, f[-1]))
+        fb[0], fb[-1] = lo, hi
+        inside = (f > lo) & (f < hi)
+        edge_worst = tarc_extremes(sb[[0, -1]], ports_t, phase_step_deg, int(max_excitations))[0]
+        wb = _db20(np.concatenate([edge_worst[:1], worst[inside], edge_worst[1:]]))
+        k = int(np.argmax(wb))
+        b_worst.append(float(wb[k]))
+        b_f.append(float(fb[k]))
     tarc = TarcResult(ports=ports_t, f_hz=f.copy(), worst_db=worst_db, best_db=best_db,
                       bands_10db=tuple(find_bands(f, -worst_db, 10.0)), phase_step_deg=float(step),
-                      requested_phase_step_deg=float(phase_step_deg), excitations=n_exc)
+                      requested_phase_step_deg=float(phase_step_deg), excitations=n_exc,
+                      band_worst_db=tuple(b_worst), band_worst_f_hz=tuple(b_f))
     return CouplingResult(path=sw.path, nports=n, z0_ohm=float(sw.z0_ohm), f_hz=f.copy(), bands=tuple(band_list),
                           pairs=tuple(out), tarc=tarc, warnings=tuple(warnings))

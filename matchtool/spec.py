@@ -475,12 +475,12 @@ class IsolationSpec(_PairSpec):
         return cls(name, pair, lo, hi, limit)
 
     def evaluate(self, ev: _Eval) -> list[RequirementResult]:
-        from .coupling import isolation_db
+        from .coupling import isolation_db, same_both_ways
 
         f, lo, hi = ev.f, self.f_low_hz, self.f_high_hz
         i, j = self.pair
         s = ev.matrix()
-        same = bool(np.array_equal(s[:, i - 1, j - 1], s[:, j - 1, i - 1]))
+        same = same_both_ways(s, i, j)
         checked = (f"{_s_name(i, j)} (equal to {_s_name(j, i)} in the file)" if same
                    else f"{_s_name(i, j)} and {_s_name(j, i)}")
         at = {"ports": self.pair, "checked": checked}

@@ -38,7 +38,18 @@ def requirement_doc(r: RequirementResult) -> dict[str, Any]:
     return {"name": r.name, "pass": r.passed, "limit": r.limit, "worst": r.worst, "worst_f_hz": r.worst_f_hz,
             "margin_db": r.margin_db, "key": r.key, "unit": r.unit, "f_low_hz": r.f_low_hz, "f_high_hz": r.f_high_hz,
             "worst_return_loss_db": r.worst_return_loss_db, "margin_hz": r.margin_hz, "samples": r.samples,
-            "reason": r.reason or None}
+            "reason": r.reason or None, **_where(r)}
+
+
+def _where(r: RequirementResult) -> dict[str, Any]:
+    """``port`` of a one-port requirement or ``ports`` of a two-port one (multi-port specs), with
+    what was read and the ECC margin where they apply."""
+    out: dict[str, Any] = {"port": r.port} if r.ports is None else {"ports": list(r.ports)}
+    if r.checked:
+        out["checked"] = r.checked
+    if r.margin_ecc is not None:
+        out["margin_ecc"] = r.margin_ecc
+    return out
 
 
 def unit_doc(u: UnitResult) -> dict[str, Any]:
@@ -84,8 +95,9 @@ def _worst_text(r: RequirementResult) -> tuple[str, str, str, str]:
     if r.key == "resonance":
         return (ff(r.worst), ff(r.worst), f"{r.f_low_hz / 1e6:.1f}-{r.f_high_hz / 1e6:.1f} MHz",
                 f"{r.margin_hz / 1e6:+.3f} MHz")
-    d = 3 if r.key == "max_vswr" else 2
-    return (f"{r.worst:.{d}f} {r.unit}", ff(r.worst_f_hz), f"{r.limit:.{d}f} {r.unit}", f"{fmt(r.margin_db, 2)} dB")
+    d = r.info.digits
+    margin = f"{r.margin_ecc:+.3f}" if r.margin_ecc is not None else f"{fmt(r.margin_db, 2)} dB"
+    return (f"{r.worst:.{d}f} {r.unit}", ff(r.worst_f_hz), f"{r.limit:.{d}f} {r.unit}", margin)
 
 
 _MARGIN_WORDS = {
@@ -106,6 +118,11 @@ def margin_footer(results: list[UnitResult]) -> str:
         parts.append("mismatch-loss limits in dB of mismatch loss")
     if "max_deviation_db" in keys:
         parts.append("the golden-unit limit in dB of deviation")
+    if "min_isolation_db" in keys:
+        parts.append("isolation limits in dB of isolation (-20 log10 |S_ij|, both directions)")
+    if "max_ecc" in keys:
+        parts.append("ECC limits as limit minus worst ECC (from S-parameters, lossless antennas assumed: "
+                     "optimistic for antennas of low efficiency)")
     if "resonance" in keys:
         parts.append("the resonance margin in MHz (how far the best match lies inside the window; negative: outside)")
     return "Margins are positive when passing: " + "; ".join(parts) + "." if parts else ""

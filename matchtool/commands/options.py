@@ -29,6 +29,9 @@ PARAMETER_FLAGS: dict[str, str] = {
     "max_vswr": "--max-vswr",
     "max_s11_db": "--max-s11-db",
     "jobs": "--jobs",
+    "pair": "--pair",
+    "band": "--band",
+    "phase_step_deg": "--phase-step",
 }
 
 

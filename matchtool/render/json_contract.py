@@ -56,3 +56,61 @@ def inspect_doc(s) -> dict[str, Any]:
         "at": [point_doc(p) for p in s.at],
         "warnings": list(s.warnings),
     }
+
+
+# --- coupling ------------------------------------------------------------------------------------
+
+ECC_NOTE = ("ECC is computed from S-parameters, which assumes lossless antennas (1 - sum |S_nk|^2 is taken as "
+            "the radiated power); it becomes optimistic (too low) as the radiation efficiency drops, and a "
+            "measured pattern is needed then")
+
+
+def tarc_note(t) -> str:
+    """How the excitation phases of a TARC were swept (a ``coupling.TarcResult``)."""
+    k = len(t.ports)
+    grid = (f"a = [1, e^(j theta)] with theta on a {t.phase_step_deg:g}-degree grid" if k == 2 else
+            f"unit amplitudes on ports {', '.join(map(str, t.ports))} with every combination of relative phases "
+            f"on a {t.phase_step_deg:g}-degree grid ({t.excitations} excitations)")
+    return (f"TARC = |S a| / |a| (other ports terminated): {grid}; each frequency's worst and best polished by exact "
+            "one-phase-at-a-time optimisation" + (" (exact for two ports)" if k == 2 else ""))
+
+
+def _band_range(b) -> dict[str, Any]:
+    return {"f_low_hz": b.f_low_hz, "f_high_hz": b.f_high_hz, "clipped_low": b.clipped_low,
+            "clipped_high": b.clipped_high}
+
+
+def _checked(p) -> str:
+    i, j = p.ports
+    return f"S{i}{j} (equal to S{j}{i} in the file)" if p.reciprocal else f"S{i}{j} and S{j}{i}"
+
+
+def coupling_doc(r) -> dict[str, Any]:
+    """The ``coupling --json`` document (a ``coupling.CouplingResult``)."""
+    t = r.tarc
+    doc: dict[str, Any] = {
+        "file": r.path, "nports": r.nports, "z0_ohm": r.z0_ohm, "points": int(r.f_hz.size),
+        "bands": [{"f_low_hz": lo, "f_high_hz": hi} for lo, hi in r.bands],
+        "f_hz": r.f_hz,
+        "pairs": [{
+            "ports": list(p.ports), "reciprocal": p.reciprocal, "checked": _checked(p),
+            "ecc_undefined_points": p.ecc_undefined, "ecc_clipped_points": p.ecc_clipped,
+            "bands": [{"f_low_hz": b.f_low_hz, "f_high_hz": b.f_high_hz, "min_isolation_db": b.min_isolation_db,
+                       "f_min_isolation_hz": b.f_min_isolation_hz,
+                       "isolation_from": f"S{b.isolation_direction[0]}{b.isolation_direction[1]}",
+                       "max_ecc": b.max_ecc, "f_max_ecc_hz": b.f_max_ecc_hz, "samples": b.samples}
+                      for b in p.bands],
+            "isolation_db": p.isolation_db, "ecc": p.ecc,
+        } for p in r.pairs],
+        "notes": [ECC_NOTE],
+    }
+    if t is not None:
+        doc["tarc"] = {"ports": list(t.ports), "f_hz": t.f_hz, "worst_db": t.worst_db, "best_db": t.best_db,
+                       "bands_10db": [_band_range(b) for b in t.bands_10db],
+                       "bands": [{"f_low_hz": lo, "f_high_hz": hi, "worst_db": w, "f_worst_hz": fw}
+                                 for (lo, hi), w, fw in zip(r.bands, t.band_worst_db, t.band_worst_f_hz,
+                                                            strict=True)],
+                       "phase_step_deg": t.phase_step_deg, "excitations": t.excitations}
+        doc["notes"].append(tarc_note(t))
+    doc["warnings"] = list(r.warnings)
+    return doc

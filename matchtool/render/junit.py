@@ -36,10 +36,18 @@ def requirement_message(r: RequirementResult) -> str:
     if r.key == "resonance":
         return (f"{r.name}: best match at {r.worst / 1e6:.4f} MHz, window {r.f_low_hz / 1e6:.4f} to "
                 f"{r.f_high_hz / 1e6:.4f} MHz, margin {_num(r.margin_hz / 1e6, 4)} MHz")
-    digits = 3 if r.key == "max_vswr" else 2
-    return (f"{r.name}: worst {r.worst:.{digits}f} {r.unit} at {r.worst_f_hz / 1e6:.4f} MHz, limit "
-            f"{r.limit:.{digits}f} {r.unit} ({r.key}), margin {r.margin_db:+.2f} dB"
-            + (" of return loss" if r.key in ("max_vswr", "max_s11_db", "min_return_loss_db") else ""))
+    info = r.info
+    digits = info.digits
+    where = f" (port {r.port})" if r.port is not None and r.ports is None else ""
+    where = f" (ports {r.ports[0]},{r.ports[1]})" if r.ports is not None else where
+    if r.margin_ecc is not None:
+        margin = f"margin {r.margin_ecc:+.3f}"
+    elif r.margin_db is not None:
+        margin = f"margin {r.margin_db:+.2f} {info.margin_unit}"
+    else:
+        margin = "margin n/a"
+    return (f"{r.name}{where}: worst {r.worst:.{digits}f} {r.unit} at {r.worst_f_hz / 1e6:.4f} MHz, limit "
+            f"{r.limit:.{digits}f} {r.unit} ({r.key}), {margin}")
 
 
 def junit_xml(results: list[UnitResult], suite_name: str = "matchtool check") -> str:
