@@ -58,6 +58,37 @@ def inspect_doc(s) -> dict[str, Any]:
     }
 
 
+def _port_line(s) -> dict[str, Any]:
+    """One port's best match and bands (a ``summary.SweepSummary``)."""
+    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands]}
+
+
+def inspect_overview_doc(m) -> dict[str, Any]:
+    """``inspect --json`` of an N-port file without ``--port`` (a ``summary.PortsSummary``): the
+    one-port document of ``detail_port``, plus ``nports`` and ``port_summary`` (every port's best
+    match and bands)."""
+    doc = inspect_doc(m.port(m.detail_port))
+    doc["nports"] = m.nports
+    doc["port_summary"] = [_port_line(s) for s in m.ports]
+    doc["warnings"] = list(m.warnings)
+    return doc
+
+
+def inspect_ports_doc(m) -> dict[str, Any]:
+    """``inspect --json --port all`` (a ``summary.PortsSummary``): the file-level keys once, and
+    ``ports`` [ {``port``, ...the one-port keys...} ]."""
+    first = m.ports[0]
+    ports = []
+    for s in m.ports:
+        d = inspect_doc(s)
+        d.pop("warnings")
+        ports.append(d)
+    return {"file": m.path, "nports": m.nports, "z0_ohm": first.z0_ohm, "points": first.points,
+            "f_start_hz": first.f_start_hz, "f_stop_hz": first.f_stop_hz,
+            "threshold_return_loss_db": first.threshold_return_loss_db, "ports": ports,
+            "warnings": list(m.warnings)}
+
+
 # --- coupling ------------------------------------------------------------------------------------
 
 ECC_NOTE = ("ECC is computed from S-parameters, which assumes lossless antennas (1 - sum |S_nk|^2 is taken as "
