@@ -861,7 +861,8 @@ def parse_spec(text: str, path: str | Path = "<spec>", port: int | None = None, 
                 keys = ["golden.band"]
             for key, n in zip(keys, names, strict=False):
                 if n in taken:
-                    raise SpecError(f"two requirements would both be named {n!r}", path=path, key=taken[n],
+                    raise SpecError(f"two requirements would both be named {n!r} (here and at {key})", path=path,
+                                    key=taken[n],
                                     expected="names that differ from each other, from 'resonance' and from "
                                              "'<band> mismatch loss'")
                 taken[n] = key
