@@ -11,7 +11,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-_CAP_DB = 400.0  # stands in for +inf return loss (a perfect sample) when interpolating
+from .errors import OutOfRangeError
+
+CAP_DB = 400.0
+"""Stands in for +inf return loss (a perfect sample, |Gamma| = 0) wherever a finite number is needed
+(interpolating, ranking); far above anything a network analyzer resolves."""
+_CAP_DB = CAP_DB  # the old private name, kept for callers not yet switched
+MIN_BAND_SAMPLES = 3
+"""A band holding fewer measured samples than this gets a warning: its worst case leans on the
+interpolation between samples (common practice, no source)."""
 
 
 @dataclass(frozen=True)
@@ -89,9 +97,26 @@ def sweep_covers(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float) -> bool:
     return bool(f.size >= 2 and f_low_hz >= f[0] - tol and f_high_hz <= f[-1] + tol)
 
 
+def interpolate(f_hz: np.ndarray, y: np.ndarray, f_query_hz: np.ndarray) -> np.ndarray:
+    """``y`` sampled at ``f_hz`` (strictly increasing, Hz) read at ``f_query_hz``, linear between the
+    bracketing samples (in complex values for complex ``y``: the contract's rule for any value between
+    samples). ``y`` may have trailing axes (an S-matrix per frequency, shape (n, N, N)); the queries
+    must lie inside the sweep (held at the end values otherwise; callers check coverage first)."""
+    f = np.asarray(f_hz, dtype=float)
+    y = np.asarray(y)
+    fq = np.atleast_1d(np.asarray(f_query_hz, dtype=float))
+    flat = y.reshape(y.shape[0], -1)
+    if np.iscomplexobj(flat):
+        cols = [np.interp(fq, f, c.real) + 1j * np.interp(fq, f, c.imag) for c in flat.T]
+    else:
+        cols = [np.interp(fq, f, c) for c in flat.T]
+    return np.stack(cols, axis=-1).reshape((fq.size, *y.shape[1:]))
+
+
 def band_samples(f_hz: np.ndarray, y: np.ndarray, f_low_hz: float, f_high_hz: float) -> tuple[np.ndarray, np.ndarray]:
-    """Samples of ``y`` (real or complex) over [f_low, f_high], with the edge values linearly
-    interpolated and included, so that a worst case over the band never misses the edges.
+    """Samples of ``y`` (real or complex, shape (n,) or (n, ...)) over [f_low, f_high], with the edge
+    values linearly interpolated and included, so that a worst case over the band never misses the
+    edges.
 
     The band must lie inside the sweep (callers check coverage first).
     """
@@ -99,8 +124,59 @@ def band_samples(f_hz: np.ndarray, y: np.ndarray, f_low_hz: float, f_high_hz: fl
     y = np.asarray(y)
     inside = (f > f_low_hz) & (f < f_high_hz)
     fe = np.array([f_low_hz, f_high_hz])
-    if np.iscomplexobj(y):
-        ye = np.interp(fe, f, y.real) + 1j * np.interp(fe, f, y.imag)
+    ye = interpolate(f, y, fe)
+    return (np.concatenate(([fe[0]], f[inside], [fe[1]])), np.concatenate((ye[:1], y[inside], ye[1:])))
+
+
+@dataclass(frozen=True)
+class BandWorst:
+    """The worst case of one curve over one band [f_low_hz, f_high_hz] (Hz).
+
+    ``worst_f_hz`` is where it occurs (a sample, or a band edge); ``value`` the curve there (complex
+    for a complex curve such as Gamma or S21, interpolated in complex values at an edge);
+    ``magnitude`` is ``abs(value)`` for a complex curve and ``value`` for a real one; ``samples``
+    counts the measured samples inside the band, edges included.
+    """
+
+    f_low_hz: float
+    f_high_hz: float
+    worst_f_hz: float
+    value: complex | float
+    magnitude: float
+    samples: int
+
+
+def worst_in_band(f_hz: np.ndarray, gamma_or_value: np.ndarray, f_low_hz: float, f_high_hz: float,
+                  largest: bool = True) -> BandWorst:
+    """The worst case of a curve over [f_low_hz, f_high_hz]: the samples inside the band and both
+    band edges, interpolated linearly between the bracketing samples (in complex values for a complex
+    curve).
+
+    For a complex curve (Gamma, S_ij) the worst is the largest magnitude: |Gamma| of a straight
+    segment in the complex plane is largest at one of its ends, so the samples plus the edges give the
+    exact worst case of the interpolated curve. For a real curve the worst is the largest value
+    (``largest=True``, e.g. an envelope correlation) or the smallest (``largest=False``, e.g. an
+    isolation in dB). Raises :class:`OutOfRangeError` when the sweep does not cover the band (it is
+    never extrapolated; an edge within the rounding of the sweep's end counts as inside).
+    """
+    f = np.asarray(f_hz, dtype=float)
+    y = np.asarray(gamma_or_value)
+    lo, hi = float(f_low_hz), float(f_high_hz)
+    if not hi > lo:
+        raise OutOfRangeError(f"band {lo:g} Hz to {hi:g} Hz is empty or reversed", parameter="f_high_hz",
+                              value=hi, expected="f_high_hz above f_low_hz")
+    if not sweep_covers(f, lo, hi):
+        raise OutOfRangeError(f"band {lo:g} Hz to {hi:g} Hz lies outside the sweep ({f[0]:g} Hz to {f[-1]:g} Hz)",
+                              parameter="f_low_hz", value=lo, expected="a band inside the sweep")
+    fb, yb = band_samples(f, y, max(lo, f[0]), min(hi, f[-1]))
+    fb[0], fb[-1] = lo, hi  # the band's own edges (they differ from the sweep's by rounding only)
+    if np.iscomplexobj(yb):
+        mag = np.abs(yb)
+        k = int(np.argmax(mag))
+        value: complex | float = complex(yb[k])
     else:
-        ye = np.interp(fe, f, y)
-    return (np.concatenate(([fe[0]], f[inside], [fe[1]])), np.concatenate(([ye[0]], y[inside], [ye[1]])))
+        mag = yb.astype(float)
+        k = int(np.argmax(mag) if largest else np.argmin(mag))
+        value = float(yb[k])
+    return BandWorst(f_low_hz=lo, f_high_hz=hi, worst_f_hz=float(fb[k]), value=value, magnitude=float(mag[k]),
+                     samples=int(np.count_nonzero((f >= lo) & (f <= hi))))

@@ -109,3 +109,44 @@ def summarize(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz: list[
                         threshold_return_loss_db=float(threshold_return_loss_db),
                         best=PointMetrics(float(f[i]), complex(g[i]), sweep.z0_ohm), bands=bands, at=at,
                         warnings=list(sweep.warnings))
+
+
+@dataclass(frozen=True)
+class PortsSummary:
+    """The inspect metrics of several ports of one N-port file: ``ports`` one SweepSummary per port
+    analysed, in port order; ``detail_port`` the port whose full details are shown (None when every
+    port's are); ``warnings`` those of the file and of each port, once each."""
+
+    path: str
+    nports: int
+    ports: tuple[SweepSummary, ...]
+    detail_port: int | None
+    warnings: tuple[str, ...] = ()
+
+    def port(self, n: int) -> SweepSummary:
+        return next(s for s in self.ports if s.port == n)
+
+
+def summarize_ports(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz: list[float] = (),
+                    detail_port: int | None = None) -> PortsSummary:
+    """The inspect metrics of every port of ``sweep`` (a loaded Sweep or an ``skrf.Network``).
+
+    ``detail_port`` None: every port in full (``at_hz`` for each); otherwise the values at
+    ``at_hz`` only for that port (the others get their best match and bands). Threshold in
+    positive dB of return loss.
+    """
+    from .sweep import as_sweep
+
+    base = as_sweep(sweep)
+    out = []
+    warnings: list[str] = []
+    for p in range(1, base.nports + 1):
+        sw = as_sweep(base, port=p)
+        s = summarize(sw, threshold_return_loss_db, at_hz if detail_port in (None, p) else [])
+        out.append(s)
+        warnings.extend(w for w in s.warnings if w not in warnings)
+    if detail_port is not None and not 1 <= detail_port <= base.nports:
+        raise UsageError(f"port {detail_port} does not exist", path=base.path, parameter="port",
+                         expected=f"a port from 1 to {base.nports}")
+    return PortsSummary(path=base.path, nports=base.nports, ports=tuple(out), detail_port=detail_port,
+                        warnings=tuple(warnings))

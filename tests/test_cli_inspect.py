@@ -98,3 +98,59 @@ def test_port_two_is_labelled_s22(cli, tmp_path):
     p.write_text("# GHz S RI R 50\n1 0.1 0 0.2 0 0.2 0 0.4 0\n2 0.1 0 0.2 0 0.2 0 0.5 0\n")
     r = cli("inspect", p, "--port", "2", "--at", "1.5GHz")
     assert "S22" in r.out and "S11" not in r.out
+
+
+# ------------------------------------------------------------------------------- N-port files
+
+def _four_port(tmp_path):
+    """Four series-RLC antennas (our own model) resonating at 880, 900, 915 and 940 MHz, uncoupled."""
+    import numpy as np
+    from helpers import gamma_of, series_rlc_z
+
+    from matchtool.sweep import touchstone_text
+
+    f = np.linspace(800e6, 1030e6, 461)
+    s = np.zeros((f.size, 4, 4), dtype=complex)
+    for k, f0 in enumerate((880e6, 900e6, 915e6, 940e6)):
+        s[:, k, k] = gamma_of(series_rlc_z(f, 50.0, 40e-9, f0))
+    p = tmp_path / "board.s4p"
+    p.write_text(touchstone_text(f, s, 50.0))
+    return p
+
+
+def test_n_port_without_port_lists_every_port_and_says_which_details(cli, tmp_path):
+    p = _four_port(tmp_path)
+    r = cli("inspect", p)
+    assert r.code == 0
+    for k in range(1, 5):
+        assert f"port {k}: best" in r.out
+    assert "Details for port 1" in r.out
+    doc = cli("inspect", p, "--json").json()
+    assert doc["port"] == 1 and doc["nports"] == 4  # the one-port document of port 1, plus the overview
+    assert [q["port"] for q in doc["port_summary"]] == [1, 2, 3, 4]
+    # each port's best sample lies at its own resonance (series RLC: |Gamma| = 0 at f0; 0.5 MHz grid)
+    assert [q["best"]["f_hz"] for q in doc["port_summary"]] == pytest.approx([880e6, 900e6, 915e6, 940e6])
+
+
+def test_port_all_gives_the_one_port_keys_per_port(cli, tmp_path):
+    p = _four_port(tmp_path)
+    r = cli("inspect", p, "--port", "all", "--json", "--at", "915MHz")
+    assert r.code == 0
+    doc = r.json()
+    assert [q["port"] for q in doc["ports"]] == [1, 2, 3, 4]
+    one = cli("inspect", p, "--port", "3", "--json", "--at", "915MHz").json()
+    third = doc["ports"][2]
+    for k in ("file", "port", "z0_ohm", "points", "f_start_hz", "f_stop_hz", "threshold_return_loss_db", "best",
+              "bands", "at"):
+        assert third[k] == one[k], k
+    assert "ports" not in one and "port_summary" not in one  # one port analysed: the document as it was
+    # -10 dB band of a series RLC with R = Z0: width (2/3) R / (2 pi L) (derived, references.md)
+    assert third["bands"][0]["bandwidth_hz"] == pytest.approx((2 / 3) * 50 / (2 * math.pi * 40e-9), rel=1e-3)
+    text = cli("inspect", p, "--port", "all")
+    assert text.out.count("Best match") == 4
+
+
+@pytest.mark.parametrize("value, words", [("5", "port 5 does not exist"), ("x", "--port x"), ("0", "--port 0")])
+def test_bad_port_values(cli, tmp_path, value, words):
+    r = cli("inspect", _four_port(tmp_path), "--port", value)
+    assert r.code == 2 and len(r.err_lines) == 1 and words in r.err

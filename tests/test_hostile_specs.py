@@ -325,3 +325,71 @@ def test_golden_file_that_is_a_directory_says_so(cli, workdir):
     spec = workdir / "spec.toml"
     spec.write_text(toml_text(_set(valid_doc(), "golden", "file", ".")))
     assert "is a directory" in _check_refused(cli, workdir, spec, "golden.file")
+
+
+# ------------------------------------------------------------------ multi-port tables, hostile
+
+PAIR_TABLES = {
+    "isolation": {"name": "iso", "ports": [1, 2], "f_low": "902 MHz", "f_high": "928 MHz", "min_isolation_db": 15},
+    "correlation": {"name": "ecc", "ports": [1, 2], "f_low": "902 MHz", "f_high": "928 MHz", "max_ecc": 0.5},
+}
+
+
+def _pair_text(table: str, **changes) -> str:
+    t = dict(PAIR_TABLES[table])
+    for k, v in changes.items():
+        if v is None:
+            t.pop(k, None)
+        else:
+            t[k] = v
+    body = "\n".join(f"{k} = {_value(v)}" for k, v in t.items())
+    return toml_text({"band": valid_doc()["band"]}) + f"[[{table}]]\n{body}\n"
+
+
+def pair_cases() -> list[tuple[str, str, str]]:
+    out = []
+    for table, limit in (("isolation", "min_isolation_db"), ("correlation", "max_ecc")):
+        key = f"{table}[1]."
+        for label, bad in {**WRONG_TYPES, "nan": math.nan, "inf": math.inf, "negative": -1, "zero": 0}.items():
+            if label != "date-like":
+                out.append((f"{table}.{limit}={label}", _pair_text(table, **{limit: bad}), key + limit))
+        for label, bad in {"one port": [1], "three ports": [1, 2, 3], "same port": [2, 2], "zero": [0, 1],
+                           "strings": ["1", "2"], "floats": [1.0, 2.0], "bools": [True, False], "number": 1,
+                           "table": {"a": 1}}.items():
+            out.append((f"{table}.ports={label}", _pair_text(table, ports=bad), key + "ports"))
+        for k in ("name", "ports", "f_low", "f_high", limit):
+            out.append((f"{table} without {k}", _pair_text(table, **{k: None}), key + k))
+        out.append((f"{table} unknown key", _pair_text(table, colour="red"), key + "colour"))
+        out.append((f"{table} reversed", _pair_text(table, f_low="928 MHz", f_high="902 MHz"), key + "f_high"))
+        out.append((f"{table} name clash", _pair_text(table, name="ism"), "band[1].name"))  # names both keys
+    out.append(("correlation max_ecc = 1", _pair_text("correlation", max_ecc=1), "correlation[1].max_ecc"))
+    doc = valid_doc()
+    doc["band"][0]["port"] = 0
+    out.append(("band port 0", toml_text(doc), "band[1].port"))
+    doc = valid_doc()
+    doc["band"][0]["port"] = "2"
+    out.append(("band port as text", toml_text(doc), "band[1].port"))
+    return out
+
+
+PAIR_CASES = pair_cases()
+
+
+@pytest.mark.parametrize(("text", "key"), [(t, k) for _, t, k in PAIR_CASES], ids=[c[0] for c in PAIR_CASES])
+def test_malformed_multi_port_table_is_one_line_exit_2(cli, workdir, text, key):
+    spec = workdir / "spec.toml"
+    spec.write_text(text, encoding="utf-8")
+    _check_refused(cli, workdir, spec, key)
+
+
+def test_spec_naming_a_port_the_file_lacks_exits_2_in_one_line_and_never_passes(cli, workdir):
+    spec = workdir / "spec.toml"
+    spec.write_text(_pair_text("isolation"))
+    junit = workdir / "out.xml"
+    r = cli("check", workdir / "unit.s1p", "--spec", spec, "--json", "--junit", junit)
+    assert r.code == 2
+    doc = r.json()
+    assert doc["pass"] is False and "names port 2" in doc["files"][0]["error"]
+    errors = [ln for ln in r.err_lines if ln.startswith("error: ")]
+    assert len(errors) == 1 and "unit.s1p" in errors[0] and "key 'isolation[1].ports'" in errors[0]
+    assert "<error" in junit.read_text()  # the report is still written, with the file as an error

@@ -20,6 +20,17 @@ def test_library_import_is_lean():
 def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
     p = write_rlc(tmp_path / "u.s1p")
     q = write_rlc(tmp_path / "v.s1p", f0_hz=880e6)
+    import numpy as np
+
+    from matchtool.sweep import touchstone_text
+
+    f = np.linspace(800e6, 1e9, 21)
+    s = np.full((f.size, 2, 2), 0.1 + 0.05j)
+    two = tmp_path / "pair.s2p"
+    two.write_text(touchstone_text(f, s, 50.0))
+    spec = tmp_path / "pair.toml"
+    spec.write_text('[[isolation]]\nname = "iso"\nports = [1, 2]\nf_low = "850 MHz"\nf_high = "900 MHz"\n'
+                    'min_isolation_db = 10\n')
     link = tmp_path / "link.toml"
     link.write_text('f_hz = "915 MHz"\ndistance_m = 100\ntx_power_dbm = 14\ntx_gain_dbi = 2\ntx_cable_loss_db = 0.5\n'
                     'rx_gain_dbi = 2\nrx_cable_loss_db = 0.5\npolarization_angle_deg = 0\n'
@@ -32,7 +43,9 @@ def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
                  ["inspect", str(p), "--json"], ["inspect", str(p)],
                  ["compare", str(p), str(q)], ["match", str(q), "--band", "902MHz:928MHz"],
                  ["feedline", str(p), "--delay", "100ps", "--toward", "radio"], ["budget", str(link)],
-                 ["match", "--help"], ["report", "--help"], ["plot", "--help"]):
+                 ["match", "--help"], ["report", "--help"], ["plot", "--help"], ["coupling", "--help"],
+                 ["coupling", str(two), "--json"], ["coupling", str(two)], ["inspect", str(two), "--port", "all"],
+                 ["check", str(two), "--spec", str(spec)]):
         code = (f"import sys; sys.argv = ['matchtool'] + {argv!r}\nfrom matchtool.cli import main\n"
                 "main()")
         mods = _modules_after(code)

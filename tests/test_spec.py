@@ -408,3 +408,164 @@ def test_golden_ceiling_ignores_null_depth(tmp_path):
     assert gold.exists()
     with pytest.raises(SpecError, match="rl_ceiling_db"):
         sp.load_spec(write_spec(tmp_path, base + "rl_ceiling_db = -3\n", "c.toml"))
+
+
+# ----------------------------------------------------------------------------- multi-port specs
+# Isolation = -20 log10 |S_ij| (Pozar, Microwave Engineering, 4th ed., sec. 4.3); ECC from
+# S-parameters, S. Blanch, J. Romeu, I. Corbella, Electronics Letters 39(9), 2003, pp. 705-707.
+
+F4 = np.linspace(2.3e9, 2.6e9, 61)  # 5 MHz steps
+
+
+def four_port(tmp_path, name="board.s4p", detune4=2.9e9):
+    """A 4-antenna board (our own model, derived): series RLC antennas on the diagonal, a mutual
+    impedance between each pair, S from scikit-rf's z2s. Port 4 resonates far off (``detune4``)."""
+    import skrf
+
+    from matchtool.sweep import touchstone_text
+
+    z = np.zeros((F4.size, 4, 4), dtype=complex)
+    for k, f0 in enumerate((2.44e9, 2.45e9, 2.46e9, detune4)):
+        z[:, k, k] = series_rlc_z(F4, 50.0, 10e-9, f0)
+    for a in range(4):
+        for b in range(a + 1, 4):
+            z[:, a, b] = z[:, b, a] = (10 + 25j) / (b - a)
+    s = skrf.network.z2s(z, np.full(4, 50.0))
+    p = tmp_path / name
+    p.write_text(touchstone_text(F4, s, 50.0))
+    return p, s
+
+
+MULTI = """
+[[band]]
+name = "wifi"
+f_low = "2.4 GHz"
+f_high = "2.4835 GHz"
+min_return_loss_db = 6
+[[band]]
+name = "wifi"
+port = 4
+f_low = "2.4 GHz"
+f_high = "2.4835 GHz"
+min_return_loss_db = 6
+[[isolation]]
+name = "1 to 2"
+ports = [1, 2]
+f_low = "2.4 GHz"
+f_high = "2.4835 GHz"
+min_isolation_db = 10
+[[correlation]]
+name = "mimo 1-3"
+ports = [1, 3]
+f_low = "2.4 GHz"
+f_high = "2.4835 GHz"
+max_ecc = 0.3
+"""
+
+
+def test_multi_port_spec_reads_each_port_and_pair(tmp_path):
+    p, s = four_port(tmp_path)
+    spec = sp.parse_spec(MULTI, "multi.toml")
+    u = sp.check_file(p, spec)
+    assert u.error is None, u.error
+    by = {r.name: r for r in u.requirements}
+    assert set(by) == {"wifi (port 1)", "wifi (port 4)", "1 to 2", "mimo 1-3"}
+    assert by["wifi (port 1)"].port == 1 and by["wifi (port 4)"].port == 4
+    assert by["wifi (port 1)"].passed and not by["wifi (port 4)"].passed and not u.passed
+    # port 4 worst return loss, independently: samples of S44 in the band (edges are samples here)
+    inb = (F4 >= 2.4e9) & (F4 <= 2.4835e9)
+    edge = np.interp(2.4835e9, F4, s[:, 3, 3].real) + 1j * np.interp(2.4835e9, F4, s[:, 3, 3].imag)
+    worst44 = np.max(np.abs(np.append(s[inb, 3, 3], edge)))
+    assert by["wifi (port 4)"].worst == pytest.approx(-20 * np.log10(worst44), rel=1e-9)
+    iso = by["1 to 2"]
+    s21 = np.append(s[inb, 1, 0], np.interp(2.4835e9, F4, s[:, 1, 0].real) + 1j * np.interp(
+        2.4835e9, F4, s[:, 1, 0].imag))
+    assert iso.ports == (1, 2) and iso.key == "min_isolation_db" and iso.unit == "dB isolation"
+    assert iso.worst == pytest.approx(-20 * np.log10(np.max(np.abs(s21))), rel=1e-9)
+    assert iso.margin_db == pytest.approx(iso.worst - 10) and "S21" in iso.checked
+    ecc = by["mimo 1-3"]
+    # the band's samples plus its upper edge (2.4835 GHz lies between samples), S interpolated in complex
+    lo_i = int(np.flatnonzero(F4 > 2.4835e9)[0])
+    t = (2.4835e9 - F4[lo_i - 1]) / (F4[lo_i] - F4[lo_i - 1])
+    sb = np.concatenate([s[inb], (s[lo_i - 1] + t * (s[lo_i] - s[lo_i - 1]))[None]])
+    # Thaysen-Jakobsen N-port form (Microwave Opt. Technol. Lett. 48(5), 2006), sums over all 4 ports
+    num = np.abs(np.sum(np.conj(sb[:, :, 0]) * sb[:, :, 2], axis=1)) ** 2
+    den = (1 - np.sum(abs(sb[:, :, 0]) ** 2, axis=1)) * (1 - np.sum(abs(sb[:, :, 2]) ** 2, axis=1))
+    assert ecc.worst == pytest.approx(np.max(num / den), rel=1e-12) and ecc.worst > 1e-3
+    assert ecc.margin_db is None and ecc.margin_ecc == pytest.approx(0.3 - ecc.worst)
+    # ports 1, 3 and 4 are read by the spec, port 2 by the isolation: every port checked, no warning
+    assert not any("not checked" in w for w in u.warnings)
+
+
+def test_spec_naming_a_port_the_file_lacks_is_an_error_for_that_file(tmp_path):
+    from matchtool.sweep import touchstone_text
+
+    two = tmp_path / "pair.s2p"
+    s = np.zeros((F4.size, 2, 2), dtype=complex)
+    s[:, 0, 0] = s[:, 1, 1] = 0.1
+    two.write_text(touchstone_text(F4, s, 50.0))
+    u = sp.check_file(two, sp.parse_spec(MULTI, "multi.toml"))
+    assert not u.passed and not u.requirements
+    assert "names port 3" in u.error and "key 'correlation[1].ports'" in u.error and "2 ports" in u.error
+    assert "\n" not in u.error
+    u = sp.check_file(two, sp.parse_spec("port = 2\n" + BAND.replace("902 MHz", "2.4 GHz").replace(
+        "928 MHz", "2.48 GHz") + "min_return_loss_db = 10\n", "p2.toml"))
+    assert u.error is None and u.requirements[0].port == 2
+
+
+def test_port_one_only_spec_on_a_four_port_warns_about_the_others(tmp_path):
+    p, _ = four_port(tmp_path)
+    band = '[[band]]\nname = "wifi"\nf_low = "2.4 GHz"\nf_high = "2.4835 GHz"\nmin_return_loss_db = 6\n'
+    u = sp.check_file(p, sp.parse_spec(band, "one.toml"))
+    assert u.passed
+    assert any("4-port file" in w and "ports 2..4 not checked" in w for w in u.warnings), u.warnings
+
+
+def test_evaluate_accepts_an_skrf_network_and_refuses_one_reflection_for_a_pair_spec(tmp_path):
+    import skrf
+
+    from matchtool.errors import UsageError
+
+    p, s = four_port(tmp_path)
+    net = skrf.Network(frequency=skrf.Frequency.from_f(F4, unit="Hz"), s=s, z0=50.0, name="board")
+    spec = sp.parse_spec(MULTI, "multi.toml")
+    a = sp.evaluate(net, spec)
+    b = sp.check_file(p, spec)
+    assert [r.name for r in a.requirements] == [r.name for r in b.requirements]
+    for x, y in zip(a.requirements, b.requirements, strict=True):
+        assert x.worst == pytest.approx(y.worst, rel=1e-9)
+    with pytest.raises(UsageError) as ei:
+        sp.evaluate_arrays(F4, s[:, 0, 0], spec)
+    assert ei.value.parameter == "gamma"
+
+
+def test_registry_exposes_units_and_descriptions():
+    spec = sp.parse_spec(MULTI, "multi.toml")
+    assert set(sp.KINDS) == {"band", "isolation", "correlation", "resonance", "golden"}
+    assert sp.limit_info("min_isolation_db").unit == "dB isolation" and sp.limit_info("max_ecc").digits == 3
+    assert all(r.describe() for r in spec.requirements)
+    assert spec.ports == (1, 2, 3, 4) and spec.needs_matrix
+    assert not sp.parse_spec(BAND + GOOD_LIMIT, "s.toml").needs_matrix
+
+
+@pytest.mark.parametrize("text, key, words", [
+    (MULTI.replace("ports = [1, 2]", "ports = [1, 1]"), "isolation[1].ports", "twice"),
+    (MULTI.replace("ports = [1, 2]", "ports = [1]"), "isolation[1].ports", "two port numbers"),
+    (MULTI.replace("ports = [1, 2]", 'ports = ["1", "2"]'), "isolation[1].ports", "two port numbers"),
+    (MULTI.replace("ports = [1, 2]", "ports = [0, 2]"), "isolation[1].ports", "two port numbers"),
+    (MULTI.replace("ports = [1, 2]\n", ""), "isolation[1].ports", "missing"),
+    (MULTI.replace("min_isolation_db = 10", "min_isolation_db = -10"), "isolation[1].min_isolation_db", "positive"),
+    (MULTI.replace("min_isolation_db = 10", "max_isolation_db = 10"), "isolation[1].max_isolation_db", "unknown"),
+    (MULTI.replace("max_ecc = 0.3", "max_ecc = 1.5"), "correlation[1].max_ecc", "between 0 and 1"),
+    (MULTI.replace("max_ecc = 0.3", "max_ecc = 0"), "correlation[1].max_ecc", "above 0"),
+    (MULTI.replace("max_ecc = 0.3\n", ""), "correlation[1].max_ecc", "no limit"),
+    (MULTI.replace("port = 4", "port = 1"), "band[2].name", "duplicate band name 'wifi' for port 1"),
+    (MULTI.replace("port = 4", "port = 0"), "band[2].port", "port"),
+    (MULTI.replace('name = "mimo 1-3"', 'name = "1 to 2"'), "isolation[1].name", "two requirements"),
+    (MULTI.replace("[[isolation]]", "[isolation]"), "isolation", "[[isolation]]"),
+])
+def test_multi_port_spec_refusals(text, key, words):
+    with pytest.raises(SpecError) as ei:
+        sp.parse_spec(text, "multi.toml")
+    msg = str(ei.value)
+    assert "\n" not in msg and f"key '{key}'" in msg and words in msg, msg

@@ -35,6 +35,9 @@ PARAMETER_FLAGS: dict[str, str] = {
     "lot": "--lot",
     "since": "--since",
     "junit_level": "--junit-level",
+    "pair": "--pair",
+    "band": "--band",
+    "phase_step_deg": "--phase-step",
 }
 
 

@@ -3,6 +3,8 @@
 ``limit`` and ``worst`` are in the unit named by the ``unit`` column (that of the limit key);
 ``worst_return_loss_db`` is always positive dB of return loss; ``margin_db`` is positive when
 passing. An unreadable file is one row with ``error`` filled and the requirement columns empty.
+``port`` is the port of a one-port requirement, ``ports`` the pair ``i,j`` of a two-port one
+(isolation, correlation); ECC has no dB margin (``margin_db`` empty: its margin is limit - worst).
 """
 
 from __future__ import annotations
@@ -15,7 +17,7 @@ from ..spec import UnitResult
 
 COLUMNS = ("file", "requirement", "limit_key", "unit", "pass", "limit", "worst", "worst_f_hz", "margin_db",
            "margin_hz", "worst_return_loss_db", "band_f_low_hz", "band_f_high_hz", "samples_in_band", "reason",
-           "error")
+           "error", "port", "ports")
 
 
 def _cell(x) -> str:
@@ -42,10 +44,11 @@ def csv_text(results: list[UnitResult]) -> str:
     for u in results:
         if u.error is not None:
             w.writerow([_cell(v) for v in (u.file, "", "", "", False, None, None, None, None, None, None, None, None,
-                                           None, "", u.error)])
+                                           None, "", u.error, None, None)])
             continue
         for r in u.requirements:
             w.writerow([_cell(v) for v in (u.file, r.name, r.key, r.unit, r.passed, r.limit, r.worst, r.worst_f_hz,
                                            r.margin_db, r.margin_hz, r.worst_return_loss_db, r.f_low_hz, r.f_high_hz,
-                                           r.samples, r.reason, "")])
+                                           r.samples, r.reason, "", r.port if r.ports is None else None,
+                                           None if r.ports is None else f"{r.ports[0]},{r.ports[1]}")])
     return buf.getvalue()

@@ -67,10 +67,14 @@ def requirement_doc(r) -> dict[str, Any]:
            "margin_db": r.margin_db, "key": r.key, "unit": r.unit, "f_low_hz": r.f_low_hz, "f_high_hz": r.f_high_hz,
            "worst_return_loss_db": r.worst_return_loss_db, "margin_hz": r.margin_hz, "samples": r.samples,
            "reason": r.reason or None}
-    for k in ("port", "ports"):
-        v = getattr(r, k, None)
-        if v is not None:
-            doc[k] = list(v) if k == "ports" else v
+    if r.ports is not None:
+        doc["ports"] = list(r.ports)
+    else:
+        doc["port"] = r.port
+    if r.checked:
+        doc["checked"] = r.checked
+    if r.margin_ecc is not None:
+        doc["margin_ecc"] = r.margin_ecc
     return doc
 
 
@@ -145,3 +149,90 @@ def history_doc(h) -> dict[str, Any]:
         })
     return {"stores": list(h.stores), "filters": {"lot": h.lot, "since": _time(h.since), "spec": h.spec},
             "lots": lots, "warnings": list(h.warnings)}
+def _port_line(s) -> dict[str, Any]:
+    """One port's best match and bands (a ``summary.SweepSummary``)."""
+    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands]}
+
+
+def inspect_overview_doc(m) -> dict[str, Any]:
+    """``inspect --json`` of an N-port file without ``--port`` (a ``summary.PortsSummary``): the
+    one-port document of ``detail_port``, plus ``nports`` and ``port_summary`` (every port's best
+    match and bands)."""
+    doc = inspect_doc(m.port(m.detail_port))
+    doc["nports"] = m.nports
+    doc["port_summary"] = [_port_line(s) for s in m.ports]
+    doc["warnings"] = list(m.warnings)
+    return doc
+
+
+def inspect_ports_doc(m) -> dict[str, Any]:
+    """``inspect --json --port all`` (a ``summary.PortsSummary``): the file-level keys once, and
+    ``ports`` [ {``port``, ...the one-port keys...} ]."""
+    first = m.ports[0]
+    ports = []
+    for s in m.ports:
+        d = inspect_doc(s)
+        d.pop("warnings")
+        ports.append(d)
+    return {"file": m.path, "nports": m.nports, "z0_ohm": first.z0_ohm, "points": first.points,
+            "f_start_hz": first.f_start_hz, "f_stop_hz": first.f_stop_hz,
+            "threshold_return_loss_db": first.threshold_return_loss_db, "ports": ports,
+            "warnings": list(m.warnings)}
+
+
+# --- coupling ------------------------------------------------------------------------------------
+
+ECC_NOTE = ("ECC is computed from S-parameters, which assumes lossless antennas (1 - sum |S_nk|^2 is taken as "
+            "the radiated power); it becomes optimistic (too low) as the radiation efficiency drops, and a "
+            "measured pattern is needed then")
+
+
+def tarc_note(t) -> str:
+    """How the excitation phases of a TARC were swept (a ``coupling.TarcResult``)."""
+    k = len(t.ports)
+    grid = (f"a = [1, e^(j theta)] with theta on a {t.phase_step_deg:g}-degree grid" if k == 2 else
+            f"unit amplitudes on ports {', '.join(map(str, t.ports))} with every combination of relative phases "
+            f"on a {t.phase_step_deg:g}-degree grid ({t.excitations} excitations)")
+    return (f"TARC = |S a| / |a| (other ports terminated): {grid}; each frequency's worst and best polished by exact "
+            "one-phase-at-a-time optimisation" + (" (exact for two ports)" if k == 2 else ""))
+
+
+def _band_range(b) -> dict[str, Any]:
+    return {"f_low_hz": b.f_low_hz, "f_high_hz": b.f_high_hz, "clipped_low": b.clipped_low,
+            "clipped_high": b.clipped_high}
+
+
+def _checked(p) -> str:
+    i, j = p.ports
+    return f"S{i}{j} (equal to S{j}{i} in the file)" if p.reciprocal else f"S{i}{j} and S{j}{i}"
+
+
+def coupling_doc(r) -> dict[str, Any]:
+    """The ``coupling --json`` document (a ``coupling.CouplingResult``)."""
+    t = r.tarc
+    doc: dict[str, Any] = {
+        "file": r.path, "nports": r.nports, "z0_ohm": r.z0_ohm, "points": int(r.f_hz.size),
+        "bands": [{"f_low_hz": lo, "f_high_hz": hi} for lo, hi in r.bands],
+        "f_hz": r.f_hz,
+        "pairs": [{
+            "ports": list(p.ports), "reciprocal": p.reciprocal, "checked": _checked(p),
+            "ecc_undefined_points": p.ecc_undefined, "ecc_clipped_points": p.ecc_clipped,
+            "bands": [{"f_low_hz": b.f_low_hz, "f_high_hz": b.f_high_hz, "min_isolation_db": b.min_isolation_db,
+                       "f_min_isolation_hz": b.f_min_isolation_hz,
+                       "isolation_from": f"S{b.isolation_direction[0]}{b.isolation_direction[1]}",
+                       "max_ecc": b.max_ecc, "f_max_ecc_hz": b.f_max_ecc_hz, "samples": b.samples}
+                      for b in p.bands],
+            "isolation_db": p.isolation_db, "ecc": p.ecc,
+        } for p in r.pairs],
+        "notes": [ECC_NOTE],
+    }
+    if t is not None:
+        doc["tarc"] = {"ports": list(t.ports), "f_hz": t.f_hz, "worst_db": t.worst_db, "best_db": t.best_db,
+                       "bands_10db": [_band_range(b) for b in t.bands_10db],
+                       "bands": [{"f_low_hz": lo, "f_high_hz": hi, "worst_db": w, "f_worst_hz": fw}
+                                 for (lo, hi), w, fw in zip(r.bands, t.band_worst_db, t.band_worst_f_hz,
+                                                            strict=True)],
+                       "phase_step_deg": t.phase_step_deg, "excitations": t.excitations}
+        doc["notes"].append(tarc_note(t))
+    doc["warnings"] = list(r.warnings)
+    return doc

@@ -51,14 +51,22 @@ def requirement_message(r: RequirementResult) -> str:
     if r.key == "resonance":
         return (f"{r.name}: best match at {r.worst / 1e6:.4f} MHz, window {r.f_low_hz / 1e6:.4f} to "
                 f"{r.f_high_hz / 1e6:.4f} MHz, margin {signed(r.margin_hz / 1e6, 4)} MHz")
-    digits = 3 if r.key == "max_vswr" else 2
+    info = r.info
+    digits = info.digits
     w, lim = f"{r.worst:.{digits}f}", f"{r.limit:.{digits}f}"
-    while w == lim and r.worst != r.limit and digits < 8:
+    while w == lim and r.worst != r.limit and digits < 8:  # a worst value never reads as its limit
         digits += 1
         w, lim = f"{r.worst:.{digits}f}", f"{r.limit:.{digits}f}"
-    return (f"{r.name}: worst {w} {r.unit} at {r.worst_f_hz / 1e6:.4f} MHz, limit "
-            f"{lim} {r.unit} ({r.key}), margin {signed(r.margin_db, 2)} dB"
-            + (" of return loss" if r.key in ("max_vswr", "max_s11_db", "min_return_loss_db") else ""))
+    where = f" (port {r.port})" if r.port is not None and r.ports is None else ""
+    where = f" (ports {r.ports[0]},{r.ports[1]})" if r.ports is not None else where
+    if r.margin_ecc is not None:
+        margin = f"margin {signed(r.margin_ecc, 3)}"
+    elif r.margin_db is not None:
+        margin = f"margin {signed(r.margin_db, 2)} {info.margin_unit}"
+    else:
+        margin = "margin n/a"
+    return (f"{r.name}{where}: worst {w} {r.unit} at {r.worst_f_hz / 1e6:.4f} MHz, limit "
+            f"{lim} {r.unit} ({r.key}), {margin}")
 
 
 def _units(lot_or_results):

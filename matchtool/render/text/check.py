@@ -53,9 +53,9 @@ def _pair(worst: float, limit: float, digits: int) -> tuple[str, str]:
 
 
 _LIMIT_WORD = {"min_return_loss_db": ">=", "max_vswr": "<=", "max_s11_db": "<=", "max_mismatch_loss_db": "<=",
-               "max_deviation_db": "<="}
+               "max_deviation_db": "<=", "min_isolation_db": ">=", "max_ecc": "<="}
 _SHORT_UNIT = {"min_return_loss_db": "dB", "max_vswr": "VSWR", "max_s11_db": "dB S11", "max_mismatch_loss_db": "dB",
-               "max_deviation_db": "dB"}
+               "max_deviation_db": "dB", "min_isolation_db": "dB", "max_ecc": ""}
 
 
 def requirement_cells(r) -> tuple[str, str, str, str]:
@@ -65,15 +65,16 @@ def requirement_cells(r) -> tuple[str, str, str, str]:
     if r.key == "resonance":
         return (ff(r.worst), "", f"{r.f_low_hz / 1e6:.1f} to {r.f_high_hz / 1e6:.1f} MHz",
                 signed(r.margin_hz / 1e6, 3, "MHz") if r.margin_hz is not None else "n/a")
-    d = 3 if r.key == "max_vswr" else 2
+    d = r.info.digits
     unit = _SHORT_UNIT.get(r.key, r.unit)
     if r.limit is not None:
         w, lim = _pair(r.worst, r.limit, d)
     else:
         w, lim = f"{r.worst:.{d}f}", "n/a"
     u = f" {unit}" if unit else ""
+    margin = signed(r.margin_ecc, 3) if r.margin_ecc is not None else signed(r.margin_db, 2, "dB")
     return f"{w}{u}", ff(r.worst_f_hz) if r.worst_f_hz is not None else "", f"{_LIMIT_WORD.get(r.key, '')} {lim}{u}".strip(), \
-        signed(r.margin_db, 2, "dB")
+        margin
 
 
 # -------------------------------------------------------------------------------------------- grids
@@ -169,6 +170,11 @@ def margin_footer(results) -> str:
         parts.append("mismatch-loss limits in dB of mismatch loss")
     if "max_deviation_db" in keys:
         parts.append("the golden-unit limit in dB of deviation")
+    if "min_isolation_db" in keys:
+        parts.append("isolation limits in dB of isolation (-20 log10 |S_ij|, both directions)")
+    if "max_ecc" in keys:
+        parts.append("ECC limits as limit minus worst ECC (from S-parameters, lossless antennas assumed: "
+                     "optimistic for antennas of low efficiency)")
     if "resonance" in keys:
         parts.append("the resonance margin in MHz (how far the best match lies inside the window; negative: outside)")
     return "Margins are positive when passing: " + "; ".join(parts) + "." if parts else ""

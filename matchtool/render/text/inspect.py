@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ...summary import SweepSummary
+from ...summary import PortsSummary, SweepSummary
 from ...units import format_frequency as ff
 from . import console, fmt
 
@@ -53,3 +53,31 @@ def render(s: SweepSummary) -> None:
                       fmt(p.mismatch_loss_db, 3), _delivered(p.delivered_fraction),
                       f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f}")
         c.print(t)
+
+
+def _best_line(s: SweepSummary) -> str:
+    thr = s.threshold_return_loss_db
+    bands = ", ".join(f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)}"
+                      + (" (runs past the sweep)" if b.clipped_low or b.clipped_high else "") for b in s.bands) or "none"
+    return (f"port {s.port}: best {ff(s.best.f_hz)} return loss {fmt(s.best.return_loss_db)} dB; "
+            f"bands >= {thr:.2f} dB: {bands}")
+
+
+def render_ports(m: PortsSummary) -> None:
+    """Terminal view of several ports: one line per port, then the details of ``detail_port`` (or of
+    every port when it is None)."""
+    from rich.markup import escape
+
+    c = console()
+    if m.detail_port is not None:
+        c.print(f"[bold]{escape(m.path)}[/bold]: {m.nports}-port file, every port's best match (smallest |Gamma| "
+                "sample) and threshold bands:")
+        for s in m.ports:
+            c.print("  " + escape(_best_line(s)))
+        c.print(f"Details for port {m.detail_port} (--port N for another, --port all for every port):")
+        render(m.port(m.detail_port))
+        return
+    for k, s in enumerate(m.ports):
+        if k:
+            c.print("")
+        render(s)
