@@ -29,6 +29,23 @@ PARAMETER_FLAGS: dict[str, str] = {
     "max_vswr": "--max-vswr",
     "max_s11_db": "--max-s11-db",
     "jobs": "--jobs",
+    # feedline / locate: the one cable model (matchtool.feedline.CableModel)
+    "length_m": "--length",
+    "velocity_factor": "--velocity-factor",
+    "loss_db_per_m": "--loss-db-per-m",
+    "loss_ref_hz": "--loss-ref",
+    "dielectric_loss_db_per_m": "--dielectric-loss-db-per-m",
+    "cable_z0_ohm": "--cable-z0",
+    "delay_s": "--delay",
+    "toward": "--toward",
+    "flip_cable": "--flip-cable",
+    # locate
+    "window": "--window",
+    "mode": "--mode",
+    "max_distance_m": "--max-distance",
+    "gate": "--gate",
+    "band": "--band",
+    "floor_db": "--floor",
 }
 
 

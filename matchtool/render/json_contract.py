@@ -56,3 +56,82 @@ def inspect_doc(s) -> dict[str, Any]:
         "at": [point_doc(p) for p in s.at],
         "warnings": list(s.warnings),
     }
+
+
+# --- feedline ------------------------------------------------------------------------------------
+
+def _feed_end_doc(g: complex) -> dict[str, Any]:
+    from .. import reflection as rf
+
+    return {"gamma_re": g.real, "gamma_im": g.imag, "gamma_mag": abs(g), "return_loss_db": float(rf.return_loss_db(g)),
+            "s11_db": float(rf.s11_db(g)), "vswr": float(rf.vswr(g)), "mismatch_loss_db": float(rf.mismatch_loss_db(g))}
+
+
+def feed_point_docs(feed) -> list[dict[str, Any]]:
+    """One ``at`` entry per frequency of a ``feedline.FeedPoints``."""
+    import math
+
+    from .text.feedline import point_masking
+
+    cols = {
+        "one_way_loss_db": feed.one_way_loss_db, "two_way_loss_db": feed.two_way_loss_db,
+        "matched_loss_db": feed.matched_loss_db, "dissipative_loss_db": feed.dissipative_loss_db,
+        "return_loss_improvement_db": feed.return_loss_improvement_db,
+        "cable_share_db": feed.cable_share_db, "line_loss_db": feed.line_loss_db,
+        "total_feed_loss_db": feed.total_feed_loss_db,
+    }
+    bad = feed.nonphysical
+    out = []
+    for k, f in enumerate(feed.f_hz):
+        d: dict[str, Any] = {"f_hz": float(f)}
+        d.update({name: float(v[k]) for name, v in cols.items()})
+        if math.isnan(d["matched_loss_db"]):
+            d["matched_loss_db"] = None  # only a cable model has one; not a defect worth a warning
+        d["radio"] = _feed_end_doc(complex(feed.gamma_radio[k]))
+        d["antenna"] = _feed_end_doc(complex(feed.gamma_antenna[k]))
+        d["nonphysical"] = bool(bad[k])
+        d["masking"] = point_masking(feed, k)
+        out.append(d)
+    return out
+
+
+def feed_band_doc(b, whole: bool) -> dict[str, Any]:
+    """One band's worst cases (a ``feedline.BandWorst``)."""
+    from .text.feedline import band_masking
+
+    d = {k: getattr(b, k) for k in b.__dataclass_fields__}
+    d["whole_sweep"] = whole
+    d["masking"] = band_masking(b)
+    return d
+
+
+def cable_doc(cable) -> dict[str, Any]:
+    """The cable of a feedline result (model, delay or measured file)."""
+    from .. import feedline as fl
+    from .text.feedline import describe_cable
+
+    d: dict[str, Any] = {"kind": cable.kind, "description": describe_cable(cable)}
+    if isinstance(cable, fl.CableModel):
+        d.update(length_m=cable.length_m, velocity_factor=cable.velocity_factor, loss_db_per_m=cable.loss_db_per_m,
+                 loss_ref_hz=cable.loss_ref_hz, dielectric_loss_db_per_m=cable.dielectric_loss_db_per_m,
+                 cable_z0_ohm=cable.z0_ohm, delay_s=cable.delay_s() if cable.velocity_factor else None)
+    elif isinstance(cable, fl.Delay):
+        d.update(delay_s=cable.delay_s)
+    else:
+        d.update(file=cable.path, flipped=cable.flipped, points=int(cable.f_hz.size))
+    return d
+
+
+def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
+    """The ``feedline --json`` document of a ``feedline.FeedlineResult``; ``out`` names the file written.
+
+    ``band`` is the first band asked for (or the whole sweep); ``bands`` holds every one."""
+    bands = [feed_band_doc(b, r.whole_sweep) for b in r.bands]
+    return {
+        "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points, "toward": r.toward,
+        "cable": cable_doc(r.cable), "out": out,
+        "at": feed_point_docs(r.feed_at) if r.feed_at is not None else [],
+        "band": bands[0], "bands": bands,
+        "nonphysical_points": r.nonphysical_points,
+        "warnings": list(r.warnings),
+    }
