@@ -18,9 +18,21 @@ from ..render.json_contract import emit_json, feedline_doc
 from ..render.text import warn
 from ..render.text.feedline import render, touchstone_comments
 from ..sweep import ports_from_name, write_touchstone
-from ..units import parse_band, parse_frequency, parse_length, parse_time
+from ..units import parse_band, parse_length, parse_time
 from .common import same_file
-from .options import ForceOpt, JsonOpt, PortOpt, Z0Opt, frequencies
+from .options import (
+    DielectricLossOpt,
+    ForceOpt,
+    JsonOpt,
+    LossDbPerMOpt,
+    LossRefOpt,
+    PortOpt,
+    VelocityFactorOpt,
+    Z0Opt,
+    frequencies,
+    is_bare_number,
+    loss_ref_hz,
+)
 
 EPILOG = """Examples:
 
@@ -44,17 +56,6 @@ EPILOG = """Examples:
 MAX_DELAY_S = 1e-6
 """Longest --delay accepted: 1 us is some 200 m of cable, longer than any feed measured on a VNA."""
 
-MIN_LOSS_REF_HZ = 1e6
-"""Lowest --loss-ref accepted: cable attenuation is not specified below 1 MHz."""
-
-
-def _bare(text: str) -> bool:
-    """True when ``text`` is a number without a unit."""
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
 
 
 _MODEL_OPTS = ("--velocity-factor", "--loss-db-per-m", "--loss-ref", "--dielectric-loss-db-per-m", "--cable-z0")
@@ -81,7 +82,7 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
             delay_s = parse_time(delay)
             if delay_s > MAX_DELAY_S:
                 hint = "a delay of at most 1us" + (f" (a bare number is seconds: did you mean {delay.strip()}ps?)"
-                                                   if _bare(delay) else ", e.g. 250ps or 1.2ns")
+                                                   if is_bare_number(delay) else ", e.g. 250ps or 1.2ns")
                 raise UsageError(f"--delay {delay.strip()} is {delay_s:g} s, longer than any feed line", expected=hint)
             return "delay", fl.Delay(delay_s)
         return "file", cable
@@ -91,12 +92,7 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
     if loss_db_per_m is None:
         raise UsageError("a cable model needs --loss-db-per-m (at --loss-ref, default 1 GHz)",
                          expected="the cable's attenuation in dB per metre; 0 for a lossless line")
-    ref_hz = parse_frequency(loss_ref) if loss_ref is not None else 1e9
-    if ref_hz < MIN_LOSS_REF_HZ:
-        hint = "a frequency of at least 1MHz" + (f" (a bare number is Hz: did you mean {loss_ref.strip()}MHz?)"
-                                                 if loss_ref is not None and _bare(loss_ref) else ", e.g. 1GHz")
-        raise UsageError(f"--loss-ref {loss_ref.strip() if loss_ref else ''} is {ref_hz:g} Hz, below any cable "
-                         "data sheet", expected=hint)
+    ref_hz = loss_ref_hz(loss_ref)
     return "model", fl.CableModel(length_m=parse_length(length), velocity_factor=velocity_factor,
                                   loss_db_per_m=loss_db_per_m, loss_ref_hz=ref_hz,
                                   dielectric_loss_db_per_m=dielectric or 0.0, z0_ohm=cable_z0)
@@ -112,15 +108,10 @@ def register(app: typer.Typer) -> None:
             help="radio: add the cable in front of the antenna; antenna: remove (de-embed) it.")] = None,
         length: Annotated[str | None, typer.Option(
             "--length", metavar="L", help="Cable model length with unit: 3m, 150cm, 18in.")] = None,
-        velocity_factor: Annotated[float | None, typer.Option(
-            "--velocity-factor", metavar="VF", help="Velocity factor, 0 < VF <= 1 (solid PE 0.66).")] = None,
-        loss_db_per_m: Annotated[float | None, typer.Option(
-            "--loss-db-per-m", metavar="A", help="Conductor loss in dB/m at --loss-ref, scaled with sqrt(f).")] = None,
-        loss_ref: Annotated[str | None, typer.Option(
-            "--loss-ref", metavar="FREQ", help="Frequency at which the losses are given [default: 1GHz].")] = None,
-        dielectric_loss_db_per_m: Annotated[float | None, typer.Option(
-            "--dielectric-loss-db-per-m", metavar="A",
-            help="Dielectric loss in dB/m at --loss-ref, scaled with f [default: 0].")] = None,
+        velocity_factor: VelocityFactorOpt = None,
+        loss_db_per_m: LossDbPerMOpt = None,
+        loss_ref: LossRefOpt = None,
+        dielectric_loss_db_per_m: DielectricLossOpt = None,
         cable_z0: Annotated[float | None, typer.Option(
             "--cable-z0", metavar="OHM", help="Cable impedance [default: the system impedance].")] = None,
         cable: Annotated[str | None, typer.Option(

@@ -135,3 +135,69 @@ def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
         "nonphysical_points": r.nonphysical_points,
         "warnings": list(r.warnings),
     }
+
+
+# --- locate --------------------------------------------------------------------------------------
+
+def _db_list(mag) -> list[float]:
+    import numpy as np
+
+    return [float(x) for x in 20.0 * np.log10(np.asarray(mag, dtype=float))]
+
+
+def locate_peak_doc(p) -> dict[str, Any]:
+    """One reflection (a ``locate.Peak``)."""
+    return {"distance_m": p.distance_m, "return_loss_db": p.return_loss_db, "reflection_mag": p.reflection_mag,
+            "round_trip_s": p.round_trip_s, "raw_return_loss_db": p.raw_return_loss_db,
+            "raw_reflection_mag": p.raw_reflection_mag, "two_way_loss_db": p.two_way_loss_db,
+            "kind": p.kind, "step_change": p.step_change}
+
+
+def locate_gate_doc(g) -> dict[str, Any]:
+    """The gate and the gated band metrics (a ``locate.GateResult``)."""
+    return {"start_m": g.start_m, "stop_m": g.stop_m, "start_s": g.start_s, "stop_s": g.stop_s,
+            "shape": "flat with raised-cosine edges", "taper_m": g.taper_m, "edge_hz": g.edge_hz,
+            "band": {"f_low_hz": g.f_low_hz, "f_high_hz": g.f_high_hz,
+                     "worst_return_loss_before_db": g.worst_return_loss_before_db,
+                     "worst_return_loss_before_f_hz": g.worst_return_loss_before_f_hz,
+                     "worst_return_loss_after_db": g.worst_return_loss_after_db,
+                     "worst_return_loss_after_f_hz": g.worst_return_loss_after_f_hz,
+                     "worst_return_loss_after_compensated_db": g.worst_return_loss_after_compensated_db,
+                     "compensated_at_m": g.compensated_at_m, "in_edge_region": g.band_in_edge}}
+
+
+def locate_doc(r, out: str | None = None, uncompensated: bool = False) -> dict[str, Any]:
+    """The ``locate --json`` document of a ``locate.LocateResult``. ``distance_m`` / ``reflection_db``
+    are the sampled trace (loss compensated; ``reflection_uncompensated_db`` too when asked)."""
+    from .text.locate import CAUTIONS, mode_text, reading
+
+    w = r.window
+    doc: dict[str, Any] = {
+        "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points,
+        "f_start_hz": r.f_start_hz, "f_stop_hz": r.f_stop_hz, "f_step_hz": r.f_step_hz,
+        "velocity_factor": r.velocity_factor,
+        "cable": {"loss_db_per_m": r.cable.loss_db_per_m, "loss_ref_hz": r.cable.loss_ref_hz,
+                  "dielectric_loss_db_per_m": r.cable.dielectric_loss_db_per_m},
+        "loss_compensated": r.loss_compensated,
+        "resolution_m": r.resolution_m, "resolution_base_m": r.resolution_base_m,
+        "transform_span_hz": r.transform_span_hz, "max_range_m": r.max_range_m, "view_max_m": r.view_max_m,
+        "window": w.name,
+        "window_info": {"label": w.label, "sidelobe_db": w.sidelobe_db, "mainlobe_6db_bins": w.mainlobe_6db_bins,
+                        "resolution_widening": w.widening},
+        "mode": r.mode, "mode_requested": r.mode_requested, "mode_note": mode_text(r),
+        "extrapolated_points": r.extrapolated_points,
+        "floor_return_loss_db": None if r.floor_mag <= 0 else -_db_list([r.floor_mag])[0],
+        "min_separation_m": r.min_separation_m,
+        "peaks": [locate_peak_doc(p) for p in r.peaks],
+        "reading": reading(r),
+        "distance_m": [float(x) for x in r.trace_distance_m],
+        "reflection_db": _db_list(r.trace_reflection_mag),
+        "out": out,
+        "cautions": list(CAUTIONS),
+        "warnings": list(r.warnings),
+    }
+    if uncompensated:
+        doc["reflection_uncompensated_db"] = _db_list(r.trace_raw_reflection_mag)
+    if r.gate is not None:
+        doc["gate"] = locate_gate_doc(r.gate)
+    return doc
