@@ -279,6 +279,27 @@ def _choose_mode(mode: str, f: np.ndarray, harmonic: bool, path: str) -> str:
     return m
 
 
+def _smooth_size(n: int, odd: bool) -> int:
+    """The smallest length >= n whose prime factors are all small (3, 5, 7 for an odd length, 2, 3, 5
+    otherwise), so the FFT stays fast; zero padding to any length is equally valid."""
+    primes = (3, 5, 7) if odd else (2, 3, 5)
+    best = None
+    stack = [1]
+    seen = set()
+    while stack:
+        v = stack.pop()
+        if v >= n:
+            if best is None or v < best:
+                best = v
+            continue
+        for p in primes:
+            w = v * p
+            if w not in seen and (best is None or w < best * p):
+                seen.add(w)
+                stack.append(w)
+    return int(best)
+
+
 def _coherent_gain(w: np.ndarray, lowpass: bool, n: int) -> float:
     """Factor that makes a lone, frequency-flat reflection Gamma peak at |Gamma| in the transform:
     n / sum(w) for the complex band-pass transform, n / (w0 + 2 sum(w[1:])) for the real low-pass
@@ -293,14 +314,16 @@ def _compensation(f: np.ndarray, w: np.ndarray, cable: CableModel, d: np.ndarray
     Written by hand (scikit-rf has no loss compensation): at distance d a lone reflection's
     spectrum is Gamma exp(-2 alpha(f) d); at its peak the transform sums w_k exp(-2 alpha_k d), so
     the factor sum(w) / sum(w exp(-2 alpha d)) restores |Gamma| exactly for a frequency-flat
-    reflection (derived). Evaluated on 257 distances and interpolated in dB (a smooth function)."""
+    reflection (derived). Evaluated on 129 distances and interpolated in dB (a smooth function)."""
     if cable.lossless or d.size == 0:
         return np.ones_like(d)
-    alpha = cable.alpha_np_per_m(f)
     wk = w.copy()
     if lowpass:
         wk[1:] *= 2.0
-    grid = np.linspace(0.0, float(d.max()), 257)
+    stride = max(1, f.size // 2000)  # both sums are smooth in f: every stride-th sample is enough
+    fk, wk = f[::stride], wk[::stride]
+    alpha = cable.alpha_np_per_m(fk)
+    grid = np.linspace(0.0, float(d.max()), 129)
     att = np.exp(-2.0 * np.outer(grid, alpha))
     factor_db = 20 * np.log10(np.sum(wk) / (att @ wk))
     return 10 ** (np.interp(d, grid, factor_db) / 20)
@@ -386,13 +409,22 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
         # the DC value of a passive 1-port is real: the real part of the straight line through the
         # first two points, kept within the unit circle
         dc = float(np.clip((g[0] - f[0] * (g[1] - g[0]) / (f[1] - f[0])).real, -1.0, 1.0))
-        work = net.extrapolate_to_dc(points=f.size + k0, dc_sparam=np.array([[dc]]), kind="cubic")
+        if k0 == 1:
+            # the sweep starts one step above 0 Hz: adding the 0 Hz point needs no interpolation, and
+            # skrf.Network.extrapolate_to_dc would import scipy.interpolate (0.4 s of start-up) for nothing
+            work = skrf.Network(frequency=skrf.Frequency.from_f(np.concatenate(([0.0], f)), unit="Hz"),
+                                s=np.concatenate(([dc], g)).reshape(-1, 1, 1), z0=sw.z0_ohm, name=net.name)
+        else:
+            work = net.extrapolate_to_dc(points=f.size + k0, dc_sparam=np.array([[dc]]), kind="cubic")
         extrapolated = k0
         if f[0] > AUTO_LOWPASS_MAX_START * f[-1]:
             warnings.append(f"{sw.name}: low-pass mode extrapolates {k0} of {f.size + k0} points down to 0 Hz; "
                             "the view below the sweep's start is a guess - band-pass mode is safer here")
     n_freq = work.frequency.npoints
-    pad = (PAD_FACTOR - 1) * n_freq
+    if lowpass:  # skrf's low-pass transform has 2 (m + pad) - 1 points
+        pad = (_smooth_size(2 * PAD_FACTOR * n_freq - 1, odd=True) + 1) // 2 - n_freq
+    else:
+        pad = _smooth_size(PAD_FACTOR * n_freq, odd=False) - n_freq
     t, h = work.impulse_response(window=win_fn, pad=pad, bandpass=not lowpass)
     n = t.size
     dt = float(t[1] - t[0])
