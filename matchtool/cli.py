@@ -29,7 +29,7 @@ amplifier, and EIRP, band and RF-exposure limits are set by local regulation.
 """
 
 # Each command lives in matchtool/commands/<name>.py and exposes register(app).
-COMMANDS = ("inspect", "check", "history", "compare", "match", "feedline", "budget", "plot", "report", "coupling")
+COMMANDS = ("inspect", "check", "history", "compare", "match", "feedline", "budget", "plot", "report", "coupling", "locate")
 
 
 def _show_version(value: bool) -> None:

@@ -20,6 +20,7 @@ Everything is vectorised over frequency with numpy; results are frozen dataclass
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 from typing import Literal, Protocol
@@ -27,6 +28,7 @@ from typing import Literal, Protocol
 import numpy as np
 
 from . import reflection as rf
+from .bands import band_samples, sweep_covers
 from .errors import InputError, OutOfRangeError, UsageError
 
 C0_M_PER_S = 299_792_458.0
@@ -159,26 +161,38 @@ class Cable(Protocol):
 
     def s_params(self, f_hz: np.ndarray, z_ref_ohm: float) -> np.ndarray: ...
 
-    def describe(self) -> str: ...
 
-
-def _positive(name: str, value: float, allow_zero: bool = False) -> float:
-    v = float(value)
+def _checked(parameter: str, value: float, allow_zero: bool = False) -> float:
+    """``value`` as a float, or a UsageError naming ``parameter`` (core terms)."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise UsageError("is not a number", parameter=parameter, value=value) from None
     ok = math.isfinite(v) and (v >= 0 if allow_zero else v > 0)
     if not ok:
-        raise UsageError(f"{name} {value:g}", expected="a non-negative number" if allow_zero else "a positive number")
+        raise UsageError("out of range", parameter=parameter, value=v,
+                         expected="a finite number of zero or more" if allow_zero else "a finite positive number")
     return v
 
 
 @dataclass(frozen=True)
 class CableModel:
-    """A uniform coaxial line: ``length_m``, ``velocity_factor`` (0 < VF <= 1), conductor loss
-    ``loss_db_per_m`` at ``loss_ref_hz`` (scales with sqrt(f)), dielectric loss
-    ``dielectric_loss_db_per_m`` at ``loss_ref_hz`` (scales with f), characteristic impedance
-    ``z0_ohm`` (None: the system impedance, i.e. a matched cable)."""
+    """The one cable model of matchtool: a uniform line.
+
+    - ``length_m``: length in metres (>= 0).
+    - ``velocity_factor``: 0 < VF <= 1, phase velocity over c0. ``None`` when only the loss is
+      wanted (a link budget); everything that needs the phase then raises UsageError.
+    - ``loss_db_per_m``: conductor loss in dB/m at ``loss_ref_hz``, scaled with sqrt(f / f_ref).
+    - ``dielectric_loss_db_per_m``: dielectric loss in dB/m at ``loss_ref_hz``, scaled with f / f_ref
+      (common practice, no source: skin effect ~ sqrt(f), dielectric loss tangent ~ f).
+    - ``z0_ohm``: characteristic impedance (real, ohms); ``None`` is the system impedance (matched).
+
+    Errors name the fields (``parameter="velocity_factor"``...); ``z0_ohm`` is named
+    ``cable_z0_ohm`` so it is not taken for the system impedance.
+    """
 
     length_m: float
-    velocity_factor: float
+    velocity_factor: float | None = None
     loss_db_per_m: float = 0.0
     loss_ref_hz: float = 1e9
     dielectric_loss_db_per_m: float = 0.0
@@ -186,46 +200,71 @@ class CableModel:
     kind: str = field(default="model", init=False)
 
     def __post_init__(self) -> None:
-        _positive("--length", self.length_m, allow_zero=True)
-        vf = float(self.velocity_factor)
-        if not (math.isfinite(vf) and 0 < vf <= 1):
-            raise UsageError(f"--velocity-factor {self.velocity_factor:g}", expected="a number above 0 and at most 1")
-        _positive("--loss-db-per-m", self.loss_db_per_m, allow_zero=True)
-        _positive("--dielectric-loss-db-per-m", self.dielectric_loss_db_per_m, allow_zero=True)
-        _positive("--loss-ref", self.loss_ref_hz)
+        _checked("length_m", self.length_m, allow_zero=True)
+        if self.velocity_factor is not None:
+            vf = _checked("velocity_factor", self.velocity_factor)
+            if not vf <= 1.0:
+                raise UsageError("a velocity factor cannot exceed 1 (nothing travels faster than light)",
+                                 parameter="velocity_factor", value=vf,
+                                 expected="a number above 0 and at most 1 (solid PE 0.66, PTFE 0.69, foam PE ~0.85)")
+        _checked("loss_db_per_m", self.loss_db_per_m, allow_zero=True)
+        _checked("dielectric_loss_db_per_m", self.dielectric_loss_db_per_m, allow_zero=True)
+        _checked("loss_ref_hz", self.loss_ref_hz)
         if self.z0_ohm is not None:
-            _positive("--cable-z0", self.z0_ohm)
+            _checked("cable_z0_ohm", self.z0_ohm)
+
+    def _vf(self) -> float:
+        if self.velocity_factor is None:
+            raise UsageError("is needed for the phase along the cable", parameter="velocity_factor",
+                             expected="a velocity factor above 0 and at most 1")
+        return float(self.velocity_factor)
+
+    @property
+    def lossless(self) -> bool:
+        return self.loss_db_per_m == 0 and self.dielectric_loss_db_per_m == 0
+
+    def with_length(self, length_m: float) -> CableModel:
+        """The same cable type cut to ``length_m`` metres."""
+        return dataclasses.replace(self, length_m=length_m)
+
+    def loss_db(self, f_hz: np.ndarray | float, length_m: float | None = None) -> np.ndarray:
+        """One-way matched loss in positive dB at ``f_hz`` for ``length_m`` metres (default: the
+        cable's own length). This is what a link budget needs."""
+        n = self.length_m if length_m is None else length_m
+        return np.asarray(matched_loss_db(f_hz, n, self.loss_db_per_m, self.loss_ref_hz,
+                                          self.dielectric_loss_db_per_m), dtype=float)
 
     def alpha_np_per_m(self, f_hz: np.ndarray) -> np.ndarray:
         """Attenuation constant in Np/m at ``f_hz``."""
-        return matched_loss_db(f_hz, 1.0, self.loss_db_per_m, self.loss_ref_hz, self.dielectric_loss_db_per_m) / NEPER_DB
+        return self.loss_db(f_hz, 1.0) / NEPER_DB
 
     def beta_rad_per_m(self, f_hz: np.ndarray) -> np.ndarray:
         """Phase constant in rad/m: 2 pi f / (VF c0)."""
-        return 2 * np.pi * np.asarray(f_hz, dtype=float) / (self.velocity_factor * C0_M_PER_S)
+        return 2 * np.pi * np.asarray(f_hz, dtype=float) / (self._vf() * C0_M_PER_S)
 
     def gamma_per_m(self, f_hz: np.ndarray) -> np.ndarray:
         """Propagation constant alpha + j beta (1/m)."""
         return self.alpha_np_per_m(f_hz) + 1j * self.beta_rad_per_m(f_hz)
 
     def matched_loss_db(self, f_hz: np.ndarray) -> np.ndarray:
-        """One-way loss in dB when terminated in its own characteristic impedance."""
-        return matched_loss_db(f_hz, self.length_m, self.loss_db_per_m, self.loss_ref_hz,
-                               self.dielectric_loss_db_per_m)
+        """One-way loss in dB of the whole length when terminated in its own impedance."""
+        return self.loss_db(f_hz)
 
     def delay_s(self) -> float:
         """One-way delay in seconds, l / (VF c0)."""
-        return self.length_m / (self.velocity_factor * C0_M_PER_S)
+        return self.length_m / (self._vf() * C0_M_PER_S)
+
+    def distance_m(self, round_trip_s: np.ndarray | float) -> np.ndarray:
+        """One-way distance in metres of a round-trip time: VF c0 t / 2."""
+        return self._vf() * C0_M_PER_S * np.asarray(round_trip_s, dtype=float) / 2.0
+
+    def round_trip_s(self, distance_m: np.ndarray | float) -> np.ndarray:
+        """Round-trip time in seconds to a one-way distance: 2 d / (VF c0)."""
+        return 2.0 * np.asarray(distance_m, dtype=float) / (self._vf() * C0_M_PER_S)
 
     def s_params(self, f_hz: np.ndarray, z_ref_ohm: float) -> np.ndarray:
         zc = z_ref_ohm if self.z0_ohm is None else self.z0_ohm
         return line_s(f_hz, self.gamma_per_m(f_hz), self.length_m, zc, z_ref_ohm)
-
-    def describe(self) -> str:
-        z = "" if self.z0_ohm is None else f", Z0 {self.z0_ohm:g} ohm"
-        diel = f" + {self.dielectric_loss_db_per_m:g} dB/m (f)" if self.dielectric_loss_db_per_m else ""
-        return (f"cable model {self.length_m:g} m, VF {self.velocity_factor:g}, "
-                f"{self.loss_db_per_m:g} dB/m (sqrt f){diel} at {self.loss_ref_hz / 1e6:g} MHz{z}")
 
 
 @dataclass(frozen=True)
@@ -236,16 +275,13 @@ class Delay:
     kind: str = field(default="delay", init=False)
 
     def __post_init__(self) -> None:
-        _positive("--delay", self.delay_s, allow_zero=True)
+        _checked("delay_s", self.delay_s, allow_zero=True)
 
     def s_params(self, f_hz: np.ndarray, z_ref_ohm: float) -> np.ndarray:
         f = np.asarray(f_hz, dtype=float)
         s = np.zeros(f.shape + (2, 2), dtype=complex)
         s[..., 0, 1] = s[..., 1, 0] = np.exp(-2j * np.pi * f * self.delay_s)
         return s
-
-    def describe(self) -> str:
-        return f"delay {self.delay_s * 1e12:g} ps"
 
 
 def _interp_complex(fq: np.ndarray, f: np.ndarray, y: np.ndarray) -> np.ndarray:
@@ -304,9 +340,6 @@ class MeasuredCable:
         out[:, 1, 0] = _interp_transmission(fc, self.f_hz, self.s[:, 1, 0])
         out[:, 0, 1] = _interp_transmission(fc, self.f_hz, self.s[:, 0, 1])
         return out
-
-    def describe(self) -> str:
-        return f"measured cable {self.path}" + (" (ports flipped)" if self.flipped else "")
 
     def same_grid(self, f_hz: np.ndarray) -> bool:
         """True when ``f_hz`` is the cable's own frequency grid (no interpolation needed)."""
@@ -478,7 +511,8 @@ def feed_points(f_hz: np.ndarray, gamma_in: np.ndarray, cable: Cable, toward: To
     elif toward == "antenna":
         g_radio, g_ant = g, gamma_toward_antenna(g, t)
     else:
-        raise UsageError(f"--toward {toward!r}", expected="radio or antenna")
+        raise UsageError("is neither 'radio' nor 'antenna'", parameter="toward", value=toward,
+                         expected="radio or antenna")
     ml = cable.matched_loss_db(f) if isinstance(cable, CableModel) else np.full(f.shape, np.nan)
     return FeedPoints(f_hz=f, s_cable=t, gamma_radio=g_radio, gamma_antenna=g_ant, z0_ohm=float(z0_ohm),
                       matched_loss_db=np.asarray(ml, dtype=float))
@@ -517,14 +551,15 @@ def move_network(f_hz: np.ndarray, s: np.ndarray, port: int, cable: Cable, towar
     if s.ndim == 1:
         s = s.reshape(-1, 1, 1)
     if not 1 <= port <= s.shape[1]:
-        raise UsageError(f"port {port} does not exist", expected=f"a port from 1 to {s.shape[1]}")
+        raise UsageError("does not exist", parameter="port", value=port, expected=f"a port from 1 to {s.shape[1]}")
     t = cable.s_params(f, z0_ohm)
     if toward == "radio":
         moved = connect_port(s, t, port)
     elif toward == "antenna":
         moved = connect_port(s, invert_2port(t), port)
     else:
-        raise UsageError(f"--toward {toward!r}", expected="radio or antenna")
+        raise UsageError("is neither 'radio' nor 'antenna'", parameter="toward", value=toward,
+                         expected="radio or antenna")
     feed = feed_points(f, s[:, port - 1, port - 1], cable, toward, z0_ohm)
     return Move(f_hz=f, s=moved, port=port, z0_ohm=float(z0_ohm), toward=toward, feed=feed,
                 warnings=tuple(feed_warnings(feed, toward, name)))
@@ -589,24 +624,20 @@ class BandWorst:
     one_way_loss_at_worst_radio_db: float
     dissipative_loss_at_worst_radio_db: float = math.nan
 
-    @property
-    def masking(self) -> str:
-        """The masking sentence at the frequency of the worst radio-end return loss."""
-        loss = self.dissipative_loss_at_worst_radio_db
-        return masking_text(self.worst_return_loss_radio_db, self.return_loss_antenna_at_worst_radio_db,
-                            self.one_way_loss_at_worst_radio_db if math.isnan(loss) else loss)
-
 
 def band_frequencies(f_hz: np.ndarray, f_low_hz: float, f_high_hz: float, path: str | None = None) -> np.ndarray:
     """The sweep's samples inside [f_low, f_high] plus both edges (OutOfRangeError outside, naming
-    the sweep file ``path`` when given)."""
+    the sweep file ``path`` when given). Coverage and edges come from :mod:`matchtool.bands`."""
     f = np.asarray(f_hz, dtype=float)
-    if f_low_hz < f[0] or f_high_hz > f[-1]:
+    _check_band(f, f_low_hz, f_high_hz, path)
+    return band_samples(f, f, f_low_hz, f_high_hz)[0]
+
+
+def _check_band(f: np.ndarray, f_low_hz: float, f_high_hz: float, path: str | None) -> None:
+    if not sweep_covers(f, f_low_hz, f_high_hz):
         raise OutOfRangeError(f"band {f_low_hz / 1e6:.6g} to {f_high_hz / 1e6:.6g} MHz is not inside the sweep "
                               f"({f[0] / 1e6:.6g} to {f[-1] / 1e6:.6g} MHz)", path=path,
                               expected="a band inside the sweep (never extrapolated)")
-    inside = f[(f > f_low_hz) & (f < f_high_hz)]
-    return np.unique(np.concatenate(([f_low_hz], inside, [f_high_hz])))
 
 
 def band_worst(feed: FeedPoints) -> BandWorst:
@@ -642,29 +673,6 @@ def band_worst(feed: FeedPoints) -> BandWorst:
         one_way_loss_at_worst_radio_db=float(ow[i_r]),
         dissipative_loss_at_worst_radio_db=float(feed.dissipative_loss_db[i_r]),
     )
-
-
-def masking_text(return_loss_radio_db: float, return_loss_antenna_db: float, loss_db: float) -> str:
-    """One sentence on how much of the radio-end return loss is the cable's.
-
-    ``loss_db`` is the cable's dissipative one-way loss with matched ends
-    (:attr:`FeedPoints.dissipative_loss_db`), not its insertion loss: a lossless cable of another
-    impedance explains none of it. E.g. "14.0 dB return loss at the radio end, of which 2 x 1.5 dB
-    is the cable; the antenna itself: 11.0 dB". When the radio end differs from "antenna + 2 x loss"
-    (a cable mismatched to the system, or a measured cable that reflects), the sentence adds in
-    which direction and by how much the cable's own reflection moves it."""
-    def f(x: float) -> str:
-        return "inf" if math.isinf(x) else ("n/a" if math.isnan(x) else f"{round(x, 1) + 0.0:.1f}")  # no "-0.0"
-
-    text = (f"{f(return_loss_radio_db)} dB return loss at the radio end, of which 2 x {f(loss_db)} dB "
-            f"is the cable; the antenna itself: {f(return_loss_antenna_db)} dB")
-    expected = return_loss_antenna_db + 2.0 * loss_db
-    rest = return_loss_radio_db - expected
-    if math.isfinite(rest) and round(abs(rest), 1) >= 0.1:
-        way = "better" if rest > 0 else "worse"
-        text += (f"; the cable's own reflection (an impedance mismatch) makes the radio end {f(abs(rest))} dB "
-                 f"{way} than the {f(expected)} dB that the antenna and the cable's loss alone would give")
-    return text
 
 
 # --------------------------------------------------------------------------------------------
@@ -711,7 +719,8 @@ def move_sweep(sweep, cable: Cable, toward: Toward, z0_ohm: float | None = None)
     z_file = np.asarray(sweep.network.z0[0].real, dtype=float)
     z_sys = float(z0_ohm) if z0_ohm is not None else float(z_file[port - 1])
     if not (math.isfinite(z_sys) and z_sys > 0):
-        raise UsageError(f"--z0 {z_sys:g} ohm", expected="a positive, finite impedance")
+        raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z_sys:g} ohm",
+                         expected="a positive, finite impedance")
     s_sys = renormalize_port(sweep.network.s, z_file, port, z_sys)
     mv = move_network(sweep.f_hz, s_sys, port, cable, toward, z_sys, name=sweep.name)
     z_mid = z_file.copy()
@@ -719,3 +728,115 @@ def move_sweep(sweep, cable: Cable, toward: Toward, z0_ohm: float | None = None)
     s_out = renormalize_port(mv.s, z_mid, port, float(z_file[port - 1])) if np.isfinite(mv.s).all() else mv.s
     net = skrf.Network(frequency=sweep.network.frequency, s=s_out, z0=z_file, name=f"{sweep.network.name}_moved")
     return SweepMove(network=net, move=mv, gamma_in=s_sys[:, port - 1, port - 1].copy())
+
+
+# --------------------------------------------------------------------------------------------
+# the one entry point
+# --------------------------------------------------------------------------------------------
+
+@dataclass(frozen=True, eq=False)
+class FeedlineResult:
+    """What :func:`analyze` found.
+
+    - ``network``: the moved sweep as an ``skrf.Network`` (every port at the input's own reference
+      impedances; only ``port`` moved).
+    - ``z0_ohm``: the system impedance the cable was taken in (ohms).
+    - ``feed_at``: the feed at the ``at_hz`` frequencies (None when none were asked for).
+    - ``bands``: worst cases per band asked for, or one entry for the whole sweep
+      (``whole_sweep`` true). Losses are positive dB, return loss positive dB.
+    - ``first_nonfinite_f_hz``: the first frequency where the moved sweep is not finite (the cable
+      undoes the measurement completely there), else None.
+    """
+
+    path: str
+    port: int
+    z0_ohm: float
+    points: int
+    toward: str
+    cable: object
+    network: object
+    move: Move
+    gamma_in: np.ndarray
+    feed_at: FeedPoints | None
+    bands: tuple[BandWorst, ...]
+    whole_sweep: bool
+    nonphysical_points: int
+    first_nonfinite_f_hz: float | None
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def f_hz(self) -> np.ndarray:
+        return self.move.f_hz
+
+    @property
+    def name(self) -> str:
+        from pathlib import Path
+
+        return Path(self.path).name
+
+
+def analyze(sweep_or_network, cable, toward: Toward, z0_ohm: float | None = None,
+            bands: tuple[tuple[float, float], ...] | list[tuple[float, float]] = (),
+            at_hz: tuple[float, ...] | list[float] | np.ndarray = (), port: int | None = None,
+            flip_cable: bool = False) -> FeedlineResult:
+    """Move the reference plane of one port of a sweep along a cable, and report both ends.
+
+    ``sweep_or_network``: a :class:`matchtool.sweep.Sweep`, an ``skrf.Network`` or a Touchstone
+    path. ``cable``: a :class:`CableModel`, a :class:`Delay`, a :class:`MeasuredCable`, or the path
+    of a measured 2-port (port 1 toward the radio; ``flip_cable`` swaps its ports).
+    ``toward="radio"`` adds the cable in front of the antenna; ``"antenna"`` removes it.
+    ``z0_ohm``: system impedance in ohms (default: the port's own reference). ``bands``:
+    (f_low_hz, f_high_hz) pairs inside the sweep; ``at_hz``: frequencies inside the sweep (Hz),
+    interpolated linearly in complex Gamma. Raises UsageError / OutOfRangeError / InputError.
+    """
+    from pathlib import Path
+
+    from .sweep import as_sweep, gamma_at_many
+
+    if toward not in ("radio", "antenna"):
+        raise UsageError("is neither 'radio' nor 'antenna'", parameter="toward", value=toward,
+                         expected="radio or antenna")
+    sw = as_sweep(sweep_or_network, port=port)
+    p = sw.port
+    z_file = float(np.real(np.asarray(sw.network.z0)[0, p - 1]))
+    z_sys = float(z0_ohm) if z0_ohm is not None else z_file
+    if not (math.isfinite(z_sys) and z_sys > 0):
+        raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z_sys:g} ohm",
+                         expected="a positive, finite impedance")
+    f = sw.f_hz
+    for lo, hi in bands:
+        _check_band(f, lo, hi, sw.path)
+    warnings = list(sw.warnings)
+    if isinstance(cable, str | Path):
+        cable, cw = load_cable(str(cable), z_sys, flip_cable)
+        warnings += cw
+    elif flip_cable:
+        raise UsageError("applies only to a measured cable file", parameter="flip_cable")
+    if isinstance(cable, MeasuredCable):
+        if not cable.covers(f):
+            cable.s_params(f, z_sys)  # raises the coverage error, naming the cable file
+        warnings += interpolation_warnings(cable, f)
+    try:
+        moved = move_sweep(sw, cable, toward, z_sys)
+    except UsageError as exc:
+        if isinstance(cable, MeasuredCable) and exc.path is None:
+            raise UsageError(exc.what, path=cable.path, expected=exc.expected) from None
+        raise
+    mv = moved.move
+    warnings += list(mv.warnings)
+    g_in = moved.gamma_in
+    feed_at = None
+    if len(at_hz):
+        q = np.asarray(at_hz, dtype=float)
+        feed_at = feed_points(q, gamma_at_many(f, g_in, q, sw.path), cable, toward, z_sys)
+    worst = []
+    for lo, hi in bands or [(float(f[0]), float(f[-1]))]:
+        fb, gb = band_samples(f, g_in, lo, hi) if bands else (f, g_in)
+        worst.append(band_worst(feed_points(fb, gb, cable, toward, z_sys)))
+    bad = ~np.isfinite(mv.s).all(axis=(1, 2))
+    return FeedlineResult(
+        path=sw.path, port=p, z0_ohm=z_sys, points=int(f.size), toward=toward, cable=cable,
+        network=moved.network, move=mv, gamma_in=g_in, feed_at=feed_at, bands=tuple(worst),
+        whole_sweep=not bands, nonphysical_points=mv.nonphysical_count,
+        first_nonfinite_f_hz=float(f[int(np.argmax(bad))]) if bad.any() else None,
+        warnings=tuple(warnings))

@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 from matchtool import feedline as fl
 from matchtool import reflection as rf
 from matchtool.errors import OutOfRangeError, UsageError
+from matchtool.render.text.feedline import band_masking, masking_text
 
 C0 = 299_792_458.0
 
@@ -226,19 +227,39 @@ def test_invert_refuses_a_cable_that_transmits_nothing():
         fl.invert_2port(t)
 
 
-@pytest.mark.parametrize("kw, words", [
-    ({"length_m": -1, "velocity_factor": 0.66}, "--length"),
-    ({"length_m": math.inf, "velocity_factor": 0.66}, "--length"),
-    ({"length_m": 1, "velocity_factor": 0.0}, "--velocity-factor"),
-    ({"length_m": 1, "velocity_factor": 1.2}, "--velocity-factor"),
-    ({"length_m": 1, "velocity_factor": 0.66, "loss_db_per_m": -0.1}, "--loss-db-per-m"),
-    ({"length_m": 1, "velocity_factor": 0.66, "loss_ref_hz": 0}, "--loss-ref"),
-    ({"length_m": 1, "velocity_factor": 0.66, "z0_ohm": 0}, "--cable-z0"),
-    ({"length_m": math.nan, "velocity_factor": 0.66}, "--length"),
+@pytest.mark.parametrize("kw, parameter", [
+    ({"length_m": -1, "velocity_factor": 0.66}, "length_m"),
+    ({"length_m": math.inf, "velocity_factor": 0.66}, "length_m"),
+    ({"length_m": 1, "velocity_factor": 0.0}, "velocity_factor"),
+    ({"length_m": 1, "velocity_factor": 1.2}, "velocity_factor"),
+    ({"length_m": 1, "velocity_factor": 1.5}, "velocity_factor"),
+    ({"length_m": 1, "velocity_factor": math.nan}, "velocity_factor"),
+    ({"length_m": 1, "velocity_factor": 0.66, "loss_db_per_m": -0.1}, "loss_db_per_m"),
+    ({"length_m": 1, "velocity_factor": 0.66, "dielectric_loss_db_per_m": -0.1}, "dielectric_loss_db_per_m"),
+    ({"length_m": 1, "velocity_factor": 0.66, "loss_ref_hz": 0}, "loss_ref_hz"),
+    ({"length_m": 1, "velocity_factor": 0.66, "z0_ohm": 0}, "cable_z0_ohm"),
+    ({"length_m": math.nan, "velocity_factor": 0.66}, "length_m"),
 ])
-def test_cable_model_validates(kw, words):
-    with pytest.raises(UsageError, match=words):
+def test_cable_model_validates_in_core_terms(kw, parameter):
+    """The core names its own fields; only the CLI's table turns them into flags."""
+    with pytest.raises(UsageError) as info:
         fl.CableModel(**kw)
+    assert info.value.parameter == parameter
+    assert str(info.value).startswith(parameter) and "--" not in str(info.value)
+    from matchtool.commands.options import PARAMETER_FLAGS
+
+    assert info.value.message_for(PARAMETER_FLAGS).startswith(PARAMETER_FLAGS[parameter] + " ")
+
+
+def test_cable_model_without_velocity_factor_gives_loss_but_no_phase():
+    """A link budget needs only the loss: 2 m at 0.5 dB/m (sqrt f) + 0.25 dB/m (f) at 1 GHz, at
+    4 GHz: 2 x (0.5 x 2 + 0.25 x 4) = 4 dB (derived)."""
+    cab = fl.CableModel(length_m=2.0, loss_db_per_m=0.5, dielectric_loss_db_per_m=0.25)
+    assert float(cab.loss_db(4e9)) == pytest.approx(4.0)
+    assert float(cab.loss_db(4e9, length_m=1.0)) == pytest.approx(2.0)
+    with pytest.raises(UsageError) as info:
+        cab.s_params(np.array([1e9]), 50.0)
+    assert info.value.parameter == "velocity_factor"
 
 
 def test_results_are_frozen():
@@ -261,7 +282,7 @@ def test_band_worst_uses_edges_and_masking_text():
     assert w.one_way_loss_max_db == pytest.approx(float(cab.matched_loss_db(925e6)))
     with pytest.raises(OutOfRangeError):
         fl.band_frequencies(f, 700e6, 900e6)
-    assert fl.masking_text(14.0, 11.0, 1.5) == ("14.0 dB return loss at the radio end, of which 2 x 1.5 dB is the "
+    assert masking_text(14.0, 11.0, 1.5) == ("14.0 dB return loss at the radio end, of which 2 x 1.5 dB is the "
                                                 "cable; the antenna itself: 11.0 dB")
 
 
@@ -285,8 +306,9 @@ def test_zero_length_and_zero_delay_are_the_identity():
     g = 0.3 * np.exp(1j * np.arange(5))
     for cab in (fl.CableModel(length_m=0.0, velocity_factor=0.66, loss_db_per_m=1.0), fl.Delay(0.0)):
         np.testing.assert_allclose(fl.gamma_toward_radio(g, cab.s_params(f, 50.0)), g, atol=1e-15)
-    with pytest.raises(UsageError, match="--delay"):
+    with pytest.raises(UsageError) as info:
         fl.Delay(-1e-12)
+    assert info.value.parameter == "delay_s"
 
 
 def test_coarse_measured_cable_is_warned_about():
@@ -310,12 +332,12 @@ def test_masking_text_names_the_mismatch_of_a_cable_of_another_impedance():
     feed = fl.feed_points(np.array([1e9]), np.array([1e-9 + 0j]), cab, "radio", 50.0)
     rl_r = -20 * math.log10(62.5 / 162.5)
     assert feed.return_loss_radio_db[0] == pytest.approx(rl_r, abs=1e-6)
-    text = fl.masking_text(float(feed.return_loss_radio_db[0]), float(feed.return_loss_antenna_db[0]),
+    text = masking_text(float(feed.return_loss_radio_db[0]), float(feed.return_loss_antenna_db[0]),
                            float(feed.dissipative_loss_db[0]))
     assert "of which 2 x 0.0 dB is the cable" in text
     # the radio end (8.3 dB) is worse than antenna (180 dB) + 2 x 0 dB: the direction is named, not a sign
     assert f"makes the radio end {180 - rl_r:.1f} dB worse than the 180.0 dB" in text
-    assert fl.masking_text(14.0, 11.0, 1.5).endswith("the antenna itself: 11.0 dB")
+    assert masking_text(14.0, 11.0, 1.5).endswith("the antenna itself: 11.0 dB")
 
 
 def test_lossless_75_ohm_line_dissipates_nothing_model_and_measured():
@@ -332,7 +354,7 @@ def test_lossless_75_ohm_line_dissipates_nothing_model_and_measured():
         np.testing.assert_allclose(feed.dissipative_loss_db, 0.0, atol=1e-9)
         np.testing.assert_allclose(feed.cable_share_db, 0.0, atol=1e-9)
         k = int(np.argmax(feed.one_way_loss_db))
-        text = fl.masking_text(float(feed.return_loss_radio_db[k]), float(feed.return_loss_antenna_db[k]),
+        text = masking_text(float(feed.return_loss_radio_db[k]), float(feed.return_loss_antenna_db[k]),
                                float(feed.dissipative_loss_db[k]))
         assert "of which 2 x 0.0 dB is the cable" in text
         rest = float(feed.return_loss_radio_db[k] - feed.return_loss_antenna_db[k])
@@ -345,11 +367,11 @@ def test_lossless_75_ohm_line_dissipates_nothing_model_and_measured():
 
 def test_masking_text_direction_and_no_negative_zero():
     # antenna 16.0, loss 1.9 each way: alone 19.8; the radio end at 18.4 is 1.4 dB worse
-    assert fl.masking_text(18.4, 16.0, 1.9).endswith(
+    assert masking_text(18.4, 16.0, 1.9).endswith(
         "; the cable's own reflection (an impedance mismatch) makes the radio end 1.4 dB worse than the "
         "19.8 dB that the antenna and the cable's loss alone would give")
-    assert "1.0 dB better than the 19.8 dB" in fl.masking_text(20.8, 16.0, 1.9)
-    text = fl.masking_text(-1e-17, -1e-17, -1e-17)
+    assert "1.0 dB better than the 19.8 dB" in masking_text(20.8, 16.0, 1.9)
+    text = masking_text(-1e-17, -1e-17, -1e-17)
     assert "-0" not in text and text.startswith("0.0 dB return loss")
 
 
@@ -375,3 +397,32 @@ def test_total_feed_loss_is_the_transducer_loss_from_a_matched_source():
     assert feed.total_feed_loss_db[0] == pytest.approx(-10 * math.log10(p_load / p_avail), abs=1e-9)
     # and it is line loss + mismatch loss at the radio end (power bookkeeping)
     assert feed.total_feed_loss_db[0] == pytest.approx(feed.line_loss_db[0] + feed.mismatch_loss_radio_db[0], abs=1e-9)
+
+
+def test_analyze_is_the_one_entry_point_for_a_network():
+    """analyze() on an skrf.Network: the moved network equals scikit-rf's own cascade of a
+    DefinedGammaZ0 line (lossy, 75 ohm) in front of the load, and the band worst case includes the
+    band edges (bands.band_samples)."""
+    f = np.linspace(800e6, 1e9, 201)
+    freq = skrf.Frequency.from_f(f, unit="Hz")
+    g = 0.3 * np.exp(1j * np.linspace(0, 4, f.size))
+    ant = skrf.Network(frequency=freq, s=g.reshape(-1, 1, 1), z0=50, name="ant")
+    cab = fl.CableModel(length_m=1.5, velocity_factor=0.7, loss_db_per_m=0.4, z0_ohm=75.0)
+    r = fl.analyze(ant, cab, "radio", bands=[(902e6, 928e6)], at_hz=[915e6])
+    line = skrf.media.DefinedGammaZ0(freq, z0_port=50.0, z0=75.0, gamma=cab.gamma_per_m(f)).line(1.5, unit="m")
+    np.testing.assert_allclose(r.network.s, (line ** ant).s, atol=1e-12)
+    assert isinstance(r.network, skrf.Network)
+    (b,) = r.bands
+    assert (b.f_low_hz, b.f_high_hz) == (902e6, 928e6) and not r.whole_sweep
+    assert b.one_way_loss_max_db >= float(cab.matched_loss_db(928e6)) - 1e-12
+    assert r.feed_at is not None and r.feed_at.f_hz.tolist() == [915e6]
+    assert r.z0_ohm == 50.0 and r.port == 1 and r.first_nonfinite_f_hz is None
+    assert isinstance(r.warnings, tuple)
+    assert band_masking(b).startswith(f"{round(b.worst_return_loss_radio_db, 1):.1f} dB return loss")
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        r.port = 2  # type: ignore[misc]
+    with pytest.raises(OutOfRangeError):
+        fl.analyze(ant, cab, "radio", bands=[(700e6, 900e6)])
+    with pytest.raises(UsageError) as info:
+        fl.analyze(ant, cab, "sideways")
+    assert info.value.parameter == "toward"

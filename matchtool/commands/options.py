@@ -38,7 +38,61 @@ PARAMETER_FLAGS: dict[str, str] = {
     "pair": "--pair",
     "band": "--band",
     "phase_step_deg": "--phase-step",
+    # feedline / locate: the one cable model (matchtool.feedline.CableModel)
+    "length_m": "--length",
+    "velocity_factor": "--velocity-factor",
+    "loss_db_per_m": "--loss-db-per-m",
+    "loss_ref_hz": "--loss-ref",
+    "dielectric_loss_db_per_m": "--dielectric-loss-db-per-m",
+    "cable_z0_ohm": "--cable-z0",
+    "delay_s": "--delay",
+    "toward": "--toward",
+    "flip_cable": "--flip-cable",
+    # locate
+    "window": "--window",
+    "mode": "--mode",
+    "max_distance_m": "--max-distance",
+    "gate": "--gate",
+    "floor_return_loss_db": "--floor",
+    "min_separation_m": "--min-separation",
+    "max_peaks": "--peaks",
 }
+
+
+# the cable loss options that feedline and locate share (the one cable model, feedline.CableModel)
+VelocityFactorOpt = Annotated[float | None, typer.Option(
+    "--velocity-factor", metavar="VF", help="Velocity factor, 0 < VF <= 1 (solid PE 0.66).")]
+LossDbPerMOpt = Annotated[float | None, typer.Option(
+    "--loss-db-per-m", metavar="A", help="Conductor loss in dB/m at --loss-ref, scaled with sqrt(f).")]
+LossRefOpt = Annotated[str | None, typer.Option(
+    "--loss-ref", metavar="FREQ", help="Frequency at which the losses are given [default: 1GHz].")]
+DielectricLossOpt = Annotated[float | None, typer.Option(
+    "--dielectric-loss-db-per-m", metavar="A", help="Dielectric loss in dB/m at --loss-ref, scaled with f [default: 0].")]
+
+MIN_LOSS_REF_HZ = 1e6
+"""Lowest --loss-ref accepted: cable attenuation is not specified below 1 MHz."""
+
+
+def is_bare_number(text: str) -> bool:
+    """True when ``text`` is a number without a unit."""
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def loss_ref_hz(text: str | None) -> float:
+    """The --loss-ref frequency in Hz (default 1 GHz); refuses one below any cable data sheet."""
+    from ..errors import UsageError
+
+    ref_hz = parse_frequency(text) if text is not None else 1e9
+    if ref_hz < MIN_LOSS_REF_HZ:
+        hint = "a frequency of at least 1MHz" + (f" (a bare number is Hz: did you mean {text.strip()}MHz?)"
+                                                 if text is not None and is_bare_number(text) else ", e.g. 1GHz")
+        raise UsageError(f"--loss-ref {text.strip() if text else ''} is {ref_hz:g} Hz, below any cable "
+                         "data sheet", expected=hint)
+    return ref_hz
 
 
 def frequencies(values: list[str] | None) -> list[float]:

@@ -235,4 +235,146 @@ def coupling_doc(r) -> dict[str, Any]:
                        "phase_step_deg": t.phase_step_deg, "excitations": t.excitations}
         doc["notes"].append(tarc_note(t))
     doc["warnings"] = list(r.warnings)
+# --- feedline ------------------------------------------------------------------------------------
+
+def _feed_end_doc(g: complex) -> dict[str, Any]:
+    from .. import reflection as rf
+
+    return {"gamma_re": g.real, "gamma_im": g.imag, "gamma_mag": abs(g), "return_loss_db": float(rf.return_loss_db(g)),
+            "s11_db": float(rf.s11_db(g)), "vswr": float(rf.vswr(g)), "mismatch_loss_db": float(rf.mismatch_loss_db(g))}
+
+
+def feed_point_docs(feed) -> list[dict[str, Any]]:
+    """One ``at`` entry per frequency of a ``feedline.FeedPoints``."""
+    import math
+
+    from .text.feedline import point_masking
+
+    cols = {
+        "one_way_loss_db": feed.one_way_loss_db, "two_way_loss_db": feed.two_way_loss_db,
+        "matched_loss_db": feed.matched_loss_db, "dissipative_loss_db": feed.dissipative_loss_db,
+        "return_loss_improvement_db": feed.return_loss_improvement_db,
+        "cable_share_db": feed.cable_share_db, "line_loss_db": feed.line_loss_db,
+        "total_feed_loss_db": feed.total_feed_loss_db,
+    }
+    bad = feed.nonphysical
+    out = []
+    for k, f in enumerate(feed.f_hz):
+        d: dict[str, Any] = {"f_hz": float(f)}
+        d.update({name: float(v[k]) for name, v in cols.items()})
+        if math.isnan(d["matched_loss_db"]):
+            d["matched_loss_db"] = None  # only a cable model has one; not a defect worth a warning
+        d["radio"] = _feed_end_doc(complex(feed.gamma_radio[k]))
+        d["antenna"] = _feed_end_doc(complex(feed.gamma_antenna[k]))
+        d["nonphysical"] = bool(bad[k])
+        d["masking"] = point_masking(feed, k)
+        out.append(d)
+    return out
+
+
+def feed_band_doc(b, whole: bool) -> dict[str, Any]:
+    """One band's worst cases (a ``feedline.BandWorst``)."""
+    from .text.feedline import band_masking
+
+    d = {k: getattr(b, k) for k in b.__dataclass_fields__}
+    d["whole_sweep"] = whole
+    d["masking"] = band_masking(b)
+    return d
+
+
+def cable_doc(cable) -> dict[str, Any]:
+    """The cable of a feedline result (model, delay or measured file)."""
+    from .. import feedline as fl
+    from .text.feedline import describe_cable
+
+    d: dict[str, Any] = {"kind": cable.kind, "description": describe_cable(cable)}
+    if isinstance(cable, fl.CableModel):
+        d.update(length_m=cable.length_m, velocity_factor=cable.velocity_factor, loss_db_per_m=cable.loss_db_per_m,
+                 loss_ref_hz=cable.loss_ref_hz, dielectric_loss_db_per_m=cable.dielectric_loss_db_per_m,
+                 cable_z0_ohm=cable.z0_ohm, delay_s=cable.delay_s() if cable.velocity_factor else None)
+    elif isinstance(cable, fl.Delay):
+        d.update(delay_s=cable.delay_s)
+    else:
+        d.update(file=cable.path, flipped=cable.flipped, points=int(cable.f_hz.size))
+    return d
+
+
+def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
+    """The ``feedline --json`` document of a ``feedline.FeedlineResult``; ``out`` names the file written.
+
+    ``band`` is the first band asked for (or the whole sweep); ``bands`` holds every one."""
+    bands = [feed_band_doc(b, r.whole_sweep) for b in r.bands]
+    return {
+        "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points, "toward": r.toward,
+        "cable": cable_doc(r.cable), "out": out,
+        "at": feed_point_docs(r.feed_at) if r.feed_at is not None else [],
+        "band": bands[0], "bands": bands,
+        "nonphysical_points": r.nonphysical_points,
+        "warnings": list(r.warnings),
+    }
+
+
+# --- locate --------------------------------------------------------------------------------------
+
+def _db_list(mag) -> list[float]:
+    import numpy as np
+
+    return [float(x) for x in 20.0 * np.log10(np.asarray(mag, dtype=float))]
+
+
+def locate_peak_doc(p) -> dict[str, Any]:
+    """One reflection (a ``locate.Peak``)."""
+    return {"distance_m": p.distance_m, "return_loss_db": p.return_loss_db, "reflection_mag": p.reflection_mag,
+            "round_trip_s": p.round_trip_s, "raw_return_loss_db": p.raw_return_loss_db,
+            "raw_reflection_mag": p.raw_reflection_mag, "two_way_loss_db": p.two_way_loss_db,
+            "kind": p.kind, "step_change": p.step_change}
+
+
+def locate_gate_doc(g) -> dict[str, Any]:
+    """The gate and the gated band metrics (a ``locate.GateResult``)."""
+    return {"start_m": g.start_m, "stop_m": g.stop_m, "start_s": g.start_s, "stop_s": g.stop_s,
+            "shape": "flat with raised-cosine edges", "taper_m": g.taper_m, "edge_hz": g.edge_hz,
+            "band": {"f_low_hz": g.f_low_hz, "f_high_hz": g.f_high_hz,
+                     "worst_return_loss_before_db": g.worst_return_loss_before_db,
+                     "worst_return_loss_before_f_hz": g.worst_return_loss_before_f_hz,
+                     "worst_return_loss_after_db": g.worst_return_loss_after_db,
+                     "worst_return_loss_after_f_hz": g.worst_return_loss_after_f_hz,
+                     "worst_return_loss_after_compensated_db": g.worst_return_loss_after_compensated_db,
+                     "compensated_at_m": g.compensated_at_m, "in_edge_region": g.band_in_edge}}
+
+
+def locate_doc(r, out: str | None = None, uncompensated: bool = False) -> dict[str, Any]:
+    """The ``locate --json`` document of a ``locate.LocateResult``. ``distance_m`` / ``reflection_db``
+    are the sampled trace (loss compensated; ``reflection_uncompensated_db`` too when asked)."""
+    from .text.locate import CAUTIONS, mode_text, reading
+
+    w = r.window
+    doc: dict[str, Any] = {
+        "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points,
+        "f_start_hz": r.f_start_hz, "f_stop_hz": r.f_stop_hz, "f_step_hz": r.f_step_hz,
+        "velocity_factor": r.velocity_factor,
+        "cable": {"loss_db_per_m": r.cable.loss_db_per_m, "loss_ref_hz": r.cable.loss_ref_hz,
+                  "dielectric_loss_db_per_m": r.cable.dielectric_loss_db_per_m},
+        "loss_compensated": r.loss_compensated,
+        "resolution_m": r.resolution_m, "resolution_base_m": r.resolution_base_m,
+        "transform_span_hz": r.transform_span_hz, "max_range_m": r.max_range_m, "view_max_m": r.view_max_m,
+        "window": w.name,
+        "window_info": {"label": w.label, "sidelobe_db": w.sidelobe_db, "mainlobe_6db_bins": w.mainlobe_6db_bins,
+                        "resolution_widening": w.widening},
+        "mode": r.mode, "mode_requested": r.mode_requested, "mode_note": mode_text(r),
+        "extrapolated_points": r.extrapolated_points,
+        "floor_return_loss_db": None if r.floor_mag <= 0 else -_db_list([r.floor_mag])[0],
+        "min_separation_m": r.min_separation_m,
+        "peaks": [locate_peak_doc(p) for p in r.peaks],
+        "reading": reading(r),
+        "distance_m": [float(x) for x in r.trace_distance_m],
+        "reflection_db": _db_list(r.trace_reflection_mag),
+        "out": out,
+        "cautions": list(CAUTIONS),
+        "warnings": list(r.warnings),
+    }
+    if uncompensated:
+        doc["reflection_uncompensated_db"] = _db_list(r.trace_raw_reflection_mag)
+    if r.gate is not None:
+        doc["gate"] = locate_gate_doc(r.gate)
     return doc

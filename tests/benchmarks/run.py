@@ -18,6 +18,9 @@ Cases (goals from the benchmarks issue):
       Goal: < 2 s.
   P5  ``inspect`` of a 1,000,000-point sweep: wall time and peak memory (max RSS of the process)
       against scikit-rf's own read of the same file. Goal: <= 1.3x time, <= 2x memory.
+  P6  cold ``matchtool locate FILE --velocity-factor 0.7 --loss-db-per-m 0.3 --gate 4.5m:6m
+      --json`` on a 10,001-point harmonic sweep (an antenna 5 m down a cable with a connector
+      echo), against ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.5x.
 
 Every measurement is a fresh subprocess (so start-up is counted, as a user sees it); candidate
 and baseline runs are interleaved, repeated, and the median is reported. Peak memory comes from
@@ -101,10 +104,11 @@ class Sizes:
     trials: int
     reps_fast: int  # repetitions of sub-second cases
     reps_slow: int  # repetitions of multi-second cases
+    p6_points: int = 10_001
 
 
 FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, trials=10_000, reps_fast=11, reps_slow=3)
-QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, trials=200, reps_fast=2, reps_slow=1)
+QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, trials=200, reps_fast=2, reps_slow=1, p6_points=1001)
 
 
 @dataclass
@@ -412,7 +416,32 @@ def p5(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [rt, rm]
 
 
-CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5}
+def p6(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    row = Row("P6", f"cold locate --gate --json, {sz.p6_points:,} pts", goal="<= 1.5x", limit=1.5)
+    if not has_command("locate"):
+        row.status = "not built yet"
+        return [row]
+    # a harmonic grid (k x 300 kHz): the antenna model 5 m down a VF 0.7 cable with 0.3 dB/m at 1 GHz,
+    # and a small connector echo at 0.5 m (|Gamma| 0.05)
+    f = np.arange(1, sz.p6_points + 1) * (3e9 / sz.p6_points)
+    rng = np.random.default_rng([SEED, 6])
+    beta = 2 * math.pi * f / (0.7 * 299_792_458.0)
+    two_way = 10 ** (-2 * 5.0 * 0.3 * np.sqrt(f / 1e9) / 20)
+    g = 0.05 * np.exp(-2j * beta * 0.5) + antenna_gamma(f, 917.5e6, rng) * np.exp(-2j * beta * 5.0) * two_way
+    path = tmp / "p6_feed.s1p"
+    path.write_text(touchstone_text(f, g, 50.0, ["synthetic benchmark sweep (tests/benchmarks/run.py)"]))
+    ours = mt("locate", path, "--velocity-factor", 0.7, "--loss-db-per-m", 0.3, "--gate", "4.5m:6m", "--json")
+    res = run.compare({"base": skrf_read(path), "ours": ours}, sz.reps_fast)
+    bad = failed(res["ours"]) or failed(res["base"])
+    if bad:
+        row.status, row.note = "error", bad
+        return [row]
+    row.set_times(res["ours"], res["base"])
+    row.note = f"peak RSS {median_rss_mb(res['ours']):.0f} vs {median_rss_mb(res['base']):.0f} MB"
+    return [row]
+
+
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6}
 
 
 # ------------------------------------------------------------------------------------------
@@ -481,7 +510,7 @@ def main(argv: list[str] | None = None) -> int:
     wanted = ["P3" if c == "P4" else c for c in wanted]
     unknown = [c for c in wanted if c not in CASES]
     if unknown:
-        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P1 P2 P3 P4 P5", file=sys.stderr)
+        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P1 P2 P3 P4 P5 P6", file=sys.stderr)
         return 2
     info = machine()
     print(f"matchtool benchmarks ({'quick' if args.quick else 'full'} sizes) - "
