@@ -57,6 +57,7 @@ MAX_FIT_HALF_WIDTH = 0.1  # fraction of f0 either side (low-Q antennas)
 NOISY_Q_REL_STD = 0.05  # warn when the fit's standard error of Q exceeds 5 %
 BELOW_CHU_RATIO = 0.9  # Q_Z of an ideal antenna at the bound reads 4 % low at ka = 0.5 (derived in the tests)
 CLOSE_RESONANCE_BANDWIDTHS = 2.0  # warn when another resonance lies within 2 f0/Q of f0
+SPHERE_CAVITY_KA = 2.7437  # lowest (TM) mode of a closed conducting sphere: first root of d/dr [r j1(r)]
 
 
 # ----------------------------------------------------------------------------------------------
@@ -150,6 +151,9 @@ class QFactorResult:
       or "parallel" (G); ``efficiency_in_range`` whether it lies in [0, 1]; ``f_cap_hz`` where the
       capped sweep was read; ``free_value`` and ``capped_value`` R in ohms (series) or G in
       siemens (parallel), named by ``efficiency_unit`` ("ohm" or "S").
+    - Cap sizing at f0 (common practice): ``radiansphere_radius_m`` = lambda / (2 pi), the radius a
+      cap should exceed (Wheeler 1959); ``sphere_cap_resonance_radius_m`` = 2.7437 lambda / (2 pi),
+      the radius at which a closed spherical cap resonates in its lowest mode (stay well below).
     """
 
     path: str
@@ -188,6 +192,8 @@ class QFactorResult:
     free_value: float | None = None
     capped_value: float | None = None
     efficiency_unit: str | None = None
+    radiansphere_radius_m: float = math.nan
+    sphere_cap_resonance_radius_m: float = math.nan
     warnings: tuple[str, ...] = ()
 
 
@@ -453,7 +459,7 @@ def qfactor(sweep: Sweep | skrf.Network | str, at_hz: float | None = None, radiu
         raise UsageError("must be a positive return loss in dB", parameter="threshold_return_loss_db",
                          value=threshold_return_loss_db, expected="e.g. 10 (S11 of -10 dB)")
     if radius_m is not None and not (isinstance(radius_m, int | float) and math.isfinite(radius_m) and radius_m > 0):
-        raise UsageError("must be a positive length", parameter="radius_m", value=radius_m,
+        raise UsageError("must be a positive length", parameter="radius_m", value=f"{radius_m} m",
                          expected="the radius of the smallest sphere enclosing the antenna, e.g. 3cm")
     f = sw.f_hz
     if f.size < MIN_FIT_POINTS:
@@ -538,4 +544,5 @@ def qfactor(sweep: Sweep | skrf.Network | str, at_hz: float | None = None, radiu
         fractional_bandwidth_potential=float(fbw), bandwidth_potential_hz=float(fbw * f0),
         tuned_band=tuned, tuned_fractional_bandwidth=tuned_fbw, measured_band=measured,
         measured_fractional_bandwidth=measured_fbw, bode_fano_fractional_bandwidth=float(bf_fbw),
-        bode_fano_best_return_loss_db=bf_rl, warnings=tuple(warnings), **kw)
+        bode_fano_best_return_loss_db=bf_rl, radiansphere_radius_m=C0_M_PER_S / (TWO_PI * f0),
+        sphere_cap_resonance_radius_m=SPHERE_CAVITY_KA * C0_M_PER_S / (TWO_PI * f0), warnings=tuple(warnings), **kw)

@@ -29,7 +29,7 @@ amplifier, and EIRP, band and RF-exposure limits are set by local regulation.
 """
 
 # Each command lives in matchtool/commands/<name>.py and exposes register(app).
-COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report")
+COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report", "qfactor")
 
 
 def _show_version(value: bool) -> None:

@@ -13,7 +13,7 @@ def _modules_after(code: str) -> set[str]:
 
 
 def test_library_import_is_lean():
-    mods = _modules_after("import matchtool, matchtool.sweep, matchtool.reflection, matchtool.bands")
+    mods = _modules_after("import matchtool, matchtool.sweep, matchtool.reflection, matchtool.bands, matchtool.antenna")
     assert "matplotlib" not in mods and "typer" not in mods and "rich" not in mods
 
 
@@ -27,7 +27,8 @@ def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
     for argv in (["--help"], ["inspect", str(p), "--json"], ["inspect", str(p)],
                  ["compare", str(p), str(q)], ["match", str(q), "--band", "902MHz:928MHz"],
                  ["feedline", str(p), "--delay", "100ps", "--toward", "radio"], ["budget", str(link)],
-                 ["match", "--help"], ["report", "--help"], ["plot", "--help"]):
+                 ["match", "--help"], ["report", "--help"], ["plot", "--help"],
+                 ["qfactor", str(p), "--radius", "3cm", "--capped", str(q)], ["qfactor", str(p), "--json"]):
         code = (f"import sys; sys.argv = ['matchtool'] + {argv!r}\nfrom matchtool.cli import main\n"
                 "main()")
         mods = _modules_after(code)

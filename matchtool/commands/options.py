@@ -29,6 +29,9 @@ PARAMETER_FLAGS: dict[str, str] = {
     "max_vswr": "--max-vswr",
     "max_s11_db": "--max-s11-db",
     "jobs": "--jobs",
+    "at_hz": "--at",
+    "radius_m": "--radius",
+    "capped": "--capped",
 }
 
 
