@@ -486,3 +486,20 @@ def test_errors():
     pure = media(f).inductor(10e-9) ** media(f).capacitor(3e-12) ** media(f).short()
     with pytest.raises(NoSolutionError, match="R > 0"):
         qfactor(pure)
+
+
+def test_cap_sizing_figures():
+    # derived with scipy's spherical Bessel functions: the lowest mode of a closed conducting sphere
+    # is a TM mode at the first root of d/dr [r j1(r)], k b = 2.7437 (a textbook result, from memory:
+    # Harrington, Time-Harmonic Electromagnetic Fields, 1961); the radiansphere is lambda / (2 pi)
+    # (Wheeler 1959)
+    from scipy.optimize import brentq
+    from scipy.special import spherical_jn
+
+    root = brentq(lambda x: spherical_jn(1, x) + x * spherical_jn(1, x, derivative=True), 2.0, 3.5)
+    assert antenna.SPHERE_CAVITY_KA == pytest.approx(root, abs=1e-4)
+    f = np.linspace(850e6, 980e6, 401)
+    res = qfactor(series_rlc(f, 50.0, 40e-9, lc_for(F0, 40e-9)))
+    lam = C0 / res.f0_hz
+    assert res.radiansphere_radius_m == pytest.approx(lam / (2 * math.pi), rel=1e-12)
+    assert res.sphere_cap_resonance_radius_m == pytest.approx(root * lam / (2 * math.pi), rel=1e-4)
