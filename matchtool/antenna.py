@@ -353,7 +353,8 @@ def tuned_matched_gamma(f_hz: np.ndarray, z_ohm: np.ndarray, f0_hz: float, r0_oh
     with np.errstate(divide="ignore", invalid="ignore"):
         x_tune = -x0_ohm * u if x0_ohm < 0 else -x0_ohm / u
         zt = np.asarray(z_ohm, dtype=complex) + 1j * x_tune
-        return (zt - r0_ohm) / (zt + r0_ohm)
+        g = (zt - r0_ohm) / (zt + r0_ohm)
+    return np.where(np.isfinite(g), g, 1.0 + 0j)  # an infinite impedance (an open) reflects everything
 
 
 def _bode_fano_rl(f: np.ndarray, z: np.ndarray, f0: float, fbw: float) -> float | None:
@@ -491,8 +492,9 @@ def qfactor(sweep: Sweep | skrf.Network | str, at_hz: float | None = None, radiu
                         f"{fit.points} nearest samples, {_ff(fit.f_low_hz)} to {_ff(fit.f_high_hz)}; "
                         f"re-measure with a step below {_ff(half_power / MIN_FIT_POINTS)}")
     if q_rel > NOISY_Q_REL_STD:
-        warnings.append(f"{sw.path}: the sweep is noisy around {_ff(f0)}: Q is uncertain by about "
-                        f"{100 * q_rel:.0f} % (standard error of the local fit); average more sweeps or narrow the IF bandwidth")
+        warnings.append(f"{sw.path}: the impedance around {_ff(f0)} is noisy or varies faster than the fit follows: "
+                        f"Q is uncertain by about {100 * q_rel:.0f} % (standard error of the local fit); average more "
+                        f"sweeps or narrow the IF bandwidth, and de-embed any cable first (matchtool feedline)")
     if f0 - fit.f_low_hz < 0.5 * (fit.f_high_hz - f0) or fit.f_high_hz - f0 < 0.5 * (f0 - fit.f_low_hz):
         warnings.append(f"{sw.path}: {_ff(f0)} lies near the end of the sweep: the derivative comes mostly from "
                         f"one side ({_ff(fit.f_low_hz)} to {_ff(fit.f_high_hz)})")
@@ -529,7 +531,7 @@ def qfactor(sweep: Sweep | skrf.Network | str, at_hz: float | None = None, radiu
             warnings.append(f"ka = {ka:.3g} > 1 at {_ff(f0)}: the antenna is not electrically small and the "
                             f"Chu-McLean bound no longer constrains it")
         elif q < BELOW_CHU_RATIO * qmin:
-            warnings.append(f"Q {q:.3g} is {100 * (1 - q / qmin):.0f} % below the Chu-McLean minimum {qmin:.3g} for "
+            warnings.append(f"Q {q:.3g} is below the Chu-McLean minimum {qmin:.3g} (Q/Q_min = {q / qmin:.2g}) for "
                             f"ka = {ka:.3g}: no lossless antenna of that size can do it; loss lowers Q (check the "
                             f"efficiency), or the radius is too small")
     # --- cap method

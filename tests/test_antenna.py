@@ -503,3 +503,25 @@ def test_cap_sizing_figures():
     lam = C0 / res.f0_hz
     assert res.radiansphere_radius_m == pytest.approx(lam / (2 * math.pi), rel=1e-12)
     assert res.sphere_cap_resonance_radius_m == pytest.approx(root * lam / (2 * math.pi), rel=1e-4)
+
+
+def test_random_sweeps_give_a_result_or_a_matchtool_error():
+    # robustness (no source needed): arbitrary passive reflections, total reflection, a 0 Hz sample
+    from matchtool.errors import MatchtoolError
+
+    rng = np.random.default_rng(2026)
+    for trial in range(150):
+        f = np.unique(np.sort(rng.uniform(0, 3e9, int(rng.integers(1, 60)))))
+        if trial % 7 == 0:
+            f[0] = 0.0
+        g = rng.uniform(0, 1, f.size) * np.exp(1j * rng.uniform(-np.pi, np.pi, f.size))
+        if trial % 5 == 0:
+            g[rng.integers(0, f.size)] = 1.0
+        if trial % 11 == 0:
+            g = np.exp(1j * rng.uniform(-np.pi, np.pi, f.size))
+        try:
+            res = qfactor(sweep_from_arrays(f, g, 50.0), radius_m=0.03, capped=sweep_from_arrays(f, 0.9 * g, 50.0),
+                          at_hz=float(f[f.size // 2]) if trial % 3 == 0 else None)
+        except MatchtoolError:
+            continue
+        assert res.q > 0 and f[0] <= res.f0_hz <= f[-1]
