@@ -386,11 +386,19 @@ def _cap_efficiency(free_f: np.ndarray, z_free: np.ndarray, f0: float, half: flo
     out["efficiency_model"] = resonance
     out["efficiency_unit"] = "ohm" if series else "S"
     f_cap = f0
+    half_cap = half
     if f0_is_resonance:
         sign = 1 if series else -1
         zeros = [fz for fz, s in reactance_zeros(fc, zc.imag) if s == sign and lo <= fz <= hi]
         if zeros:
             f_cap = min(zeros, key=lambda x: abs(x - f0))
+            try:  # refined on the capped sweep's own fit, as f0 is on the free one
+                cfit, _, _ = _fit_q(fc, zc, f_cap, refine_resonance=True)
+                if lo <= cfit.f_hz <= hi:
+                    f_cap = cfit.f_hz
+                    half_cap = max(f_cap - cfit.f_low_hz, cfit.f_high_hz - f_cap)
+            except NoSolutionError:
+                pass
             if abs(f_cap - f0) > f0 / q:
                 warnings.append(f"{capped.path}: the cap moves the resonance from {_ff(f0)} to {_ff(f_cap)}, more than "
                                 f"the half-power bandwidth: the cap disturbs the near field (too small or too close?)")
@@ -401,16 +409,16 @@ def _cap_efficiency(free_f: np.ndarray, z_free: np.ndarray, f0: float, half: flo
         warnings.append(f"{capped.path}: the capped sweep ({_ff(fc[0])} to {_ff(fc[-1])}) does not cover "
                         f"{_ff(f_cap)}; no efficiency")
         return out
-    if f_cap - half < fc[0] or f_cap + half > fc[-1]:
+    if f_cap - half_cap < fc[0] or f_cap + half_cap > fc[-1]:
         warnings.append(f"{capped.path}: the capped sweep covers only part of the fit window around {_ff(f_cap)}")
     with np.errstate(divide="ignore", invalid="ignore"):
         y_free, y_cap = 1 / z_free, 1 / zc
     if series:
         free_fit = local_fit(free_f, z_free, f0, half)
-        cap_fit = local_fit(fc, zc, f_cap, half)
+        cap_fit = local_fit(fc, zc, f_cap, half_cap)
     else:
         free_fit = local_fit(free_f, y_free, f0, half)
-        cap_fit = local_fit(fc, y_cap, f_cap, half)
+        cap_fit = local_fit(fc, y_cap, f_cap, half_cap)
     v_free, v_cap = free_fit.re, cap_fit.re
     eff = (v_free - v_cap) / v_free if v_free > 0 else math.nan
     in_range = bool(math.isfinite(eff) and 0.0 <= eff <= 1.0)

@@ -61,7 +61,8 @@ def rows(r: QFactorResult) -> list[tuple[str, str, str]]:
             flag = "" if r.efficiency_in_range else " INVALID"
             out.append(("radiation efficiency (cap)", _pct(r.efficiency, 1) + flag,
                         f"{what} {r.free_value * k:.4g} -> {r.capped_value * k:.4g} {unit}"))
-            out.append(("  capped sweep read at", ff(r.f_cap_hz), f"{r.efficiency_model} model"))
+            why = "X rises with f at f0" if series else "X falls with f at f0"
+            out.append(("  capped sweep read at", ff(r.f_cap_hz), f"{r.efficiency_model}: {why}"))
     return out
 
 
