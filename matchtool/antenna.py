@@ -276,8 +276,8 @@ def _q_of_fit(fit: LocalFit) -> tuple[float, float]:
 
 
 def _fit_q(f: np.ndarray, z: np.ndarray, f0: float, refine_resonance: bool) -> tuple[LocalFit, float, float]:
-    """Fit around f0 with a window of half the half-power bandwidth, iterated; with
-    ``refine_resonance`` f0 moves to the fitted X = 0 (a Newton step per iteration)."""
+    """Fit around f0 over f0 +- f0/(2Q) (the half-power bandwidth), iterated from a first estimate;
+    with ``refine_resonance`` f0 moves to the fitted X = 0 (a Newton step per iteration)."""
     fit = impedance_fit(f, z, f0, 0.0)  # the nearest MIN_FIT_POINTS samples: a first estimate
     q, rel = _q_of_fit(fit)
     half = math.nan
@@ -436,7 +436,7 @@ def _cap_efficiency(free_f: np.ndarray, z_free: np.ndarray, f0: float, half: flo
     n_free = [z for z, _ in reactance_zeros(free_f, z_free.imag) if wlo <= z <= whi]
     n_cap = [z for z, _ in reactance_zeros(fc, zc.imag) if wlo <= z <= whi]
     if len(n_cap) > len(n_free):
-        extra = min(n_cap, key=lambda x: min((abs(x - y) for y in n_free), default=0.0) * -1)
+        extra = max(n_cap, key=lambda x: min((abs(x - y) for y in n_free), default=math.inf))  # the newest one
         warnings.append(f"{capped.path}: the capped sweep has {len(n_cap) - len(n_free)} more resonance(s) than the "
                         f"free sweep near f0 (e.g. {_ff(extra)}): the cap itself may resonate; do not trust the "
                         f"efficiency near a cap resonance")
