@@ -29,7 +29,8 @@ amplifier, and EIRP, band and RF-exposure limits are set by local regulation.
 """
 
 # Each command lives in matchtool/commands/<name>.py and exposes register(app).
-COMMANDS = ("inspect", "check", "history", "compare", "match", "feedline", "budget", "plot", "report", "coupling", "locate")
+COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot", "report",
+            "coupling", "locate", "qfactor", "history")
 
 
 def _show_version(value: bool) -> None:

@@ -2,6 +2,8 @@
 
 Bare numbers are SI (Hz, m, s). Units are case-insensitive where that is unambiguous
 (``915MHz``, ``2.45 GHz``, ``868e6``); ``mHz`` is read as MHz, since millihertz never occurs here.
+A frequency is never negative. A band ``LOW:HIGH`` carries a unit on both sides (``902MHz:928MHz``)
+or on neither (``902e6:928e6``, Hz); ``902:928MHz`` is refused rather than read as 902 Hz.
 """
 
 from __future__ import annotations
@@ -38,8 +40,18 @@ def _parse(text: str | float | int, table: dict[str, float], what: str, what_uni
 
 
 def parse_frequency(text: str | float | int) -> float:
-    """Return a frequency in Hz from ``'915MHz'``, ``'2.45 GHz'``, ``'868e6'`` or a number (Hz)."""
-    return _parse(text, _FREQ, "frequency", "Hz, kHz, MHz, GHz")
+    """Return a frequency in Hz from ``'915MHz'``, ``'2.45 GHz'``, ``'868e6'`` or a number (Hz).
+
+    A negative frequency is refused (UsageError); 0 Hz is accepted."""
+    f = _parse(text, _FREQ, "frequency", "Hz, kHz, MHz, GHz")
+    if f < 0:
+        raise UsageError(f"frequency {text!r} is negative", expected="a frequency of 0 Hz or more")
+    return f
+
+
+def _has_unit(text: str) -> bool:
+    m = _QUANTITY.match(str(text))
+    return bool(m and m.group(2))
 
 
 def parse_length(text: str | float | int) -> float:
@@ -53,10 +65,17 @@ def parse_time(text: str | float | int) -> float:
 
 
 def parse_band(text: str) -> tuple[float, float]:
-    """Return ``(f_low_hz, f_high_hz)`` from ``'902MHz:928MHz'``; the high edge must exceed the low."""
+    """Return ``(f_low_hz, f_high_hz)`` from ``'902MHz:928MHz'``; the high edge must exceed the low.
+
+    Both edges carry a unit, or neither does (Hz); a unit on one side only is refused."""
     parts = str(text).split(":")
     if len(parts) != 2:
         raise UsageError(f"cannot read band {text!r}", expected="LOW:HIGH, e.g. 902MHz:928MHz")
+    if _has_unit(parts[0]) != _has_unit(parts[1]):
+        unit = _QUANTITY.match(parts[1] if _has_unit(parts[1]) else parts[0]).group(2)
+        raise UsageError(f"band {text!r} has a unit on one side only (a bare number is Hz)",
+                         expected=f"the unit on both sides, e.g. {parts[0].strip().removesuffix(unit).strip()}{unit}:"
+                                  f"{parts[1].strip().removesuffix(unit).strip()}{unit}")
     lo, hi = parse_frequency(parts[0]), parse_frequency(parts[1])
     if not (hi > lo):
         raise UsageError(f"band {text!r} has its high edge at or below its low edge", expected="LOW < HIGH")

@@ -239,7 +239,7 @@ def test_band_edge_a_rounding_below_the_first_sample_is_covered_as_check_says(cl
     spec = tmp_path / "s.toml"
     spec.write_text(f'[[band]]\nname = "ism"\nf_low = {lo!r}\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
     chk = cli("check", p, "--spec", spec, "--json").json()["files"][0]["requirements"][0]
-    doc = cli("compare", p, "--spec", spec, "--band", f"x={lo!r}:928MHz", "--json").json()
+    doc = cli("compare", p, "--spec", spec, "--band", f"x={lo!r}Hz:928MHz", "--json").json()
     row = doc["rows"][0]
     assert chk["reason"] is None and row["requirements"][0]["worst"] == chk["worst"]
     assert len(row["bands"]) == 2

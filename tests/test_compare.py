@@ -22,7 +22,7 @@ def rlc_sweep(path: str, f0_hz: float, l_h: float = 40e-9, r_ohm: float = 50.0,
 
 
 def test_threshold_bandwidth_of_series_rlc_matches_closed_form():
-    # Derived (see /work/shared/references.md, "Exact test vectors"): a series RLC with R = Z0 has
+    # Derived (tests/REFERENCES.md, "Exact test vectors"): a series RLC with R = Z0 has
     # |Gamma| = |X| / sqrt(4 R^2 + X^2); RL = 10 dB where |X| = (2/3) Z0, so the -10 dB bandwidth is
     # (2/3) R / (2 pi L) exactly.
     f = np.linspace(800e6, 1030e6, 23001)
@@ -45,7 +45,7 @@ def test_resonance_shift_is_the_difference_of_best_samples():
 
 
 def test_vswr_two_resistor_gives_table_values_and_no_threshold_band():
-    # Pozar, Microwave Engineering 4th ed., sec. 2.3 (eqs. 2.38-2.41), table in references.md:
+    # Pozar, Microwave Engineering 4th ed., sec. 2.3 (eqs. 2.38-2.41; table in tests/REFERENCES.md):
     # VSWR 2 -> |Gamma| 1/3, RL 9.5424 dB, mismatch loss 0.51153 dB. A 100-ohm resistor on 50 ohm.
     f = np.linspace(800e6, 1000e6, 41)
     sw = sweep_from_arrays(f, gamma_of(np.full(f.size, 100.0 + 0j)), 50.0, path="r100")

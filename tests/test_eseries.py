@@ -10,7 +10,7 @@ from matchtool.errors import UsageError
 
 
 def test_e12_e24_tables_iec60063():
-    # IEC 60063 tables (confirmed, see references.md)
+    # IEC 60063 tables (confirmed; copied in tests/REFERENCES.md)
     assert eseries.E12 == (10, 12, 15, 18, 22, 27, 33, 39, 47, 56, 68, 82)
     assert len(eseries.E24) == 24 and list(eseries.E24) == sorted(set(eseries.E24))
     # E12 is every second E24 value (IEC 60063 construction; from memory)

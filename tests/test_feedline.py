@@ -26,7 +26,7 @@ def _rand_s(rng, n, ports, scale=0.3):
 # ---------------------------------------------------------------- Pozar 4th ed. eqs. 2.90-2.94
 
 def test_matched_line_rotates_and_attenuates_gamma():
-    """Pozar 4th ed. eqs. 2.90-2.94 (confirmed in references.md): Gamma_in = Gamma_L exp(-2 gamma l)."""
+    """Pozar, Microwave Engineering, 4th ed., eqs. 2.90-2.94 (confirmed): Gamma_in = Gamma_L exp(-2 gamma l)."""
     f = np.linspace(100e6, 3e9, 57)
     cab = fl.CableModel(length_m=2.5, velocity_factor=0.66, loss_db_per_m=0.4, dielectric_loss_db_per_m=0.1)
     g_l = 0.4 * np.exp(1j * np.linspace(0, 6, f.size))
@@ -173,7 +173,7 @@ def test_lossy_cable_is_passive_and_delay_is_a_lossless_matched_line():
 
 
 def test_handbook_attenuation_scales_close_to_sqrt_f():
-    """Handbook coax attenuation (references.md table, from memory, +-15 %): 10.3 mm foam-PE
+    """Handbook coax attenuation (typical 50-ohm coax table, from memory, +-15 %; tests/REFERENCES.md): 10.3 mm foam-PE
     4.1 dB/100 ft at 1 GHz scaled as sqrt(f) predicts the 2.4 GHz entry (6.6 dB/100 ft) within 15 %."""
     a_1g = 4.1 / 30.48  # dB/m
     pred = fl.matched_loss_db(2.4e9, 30.48, a_1g, 1e9)

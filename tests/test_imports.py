@@ -14,7 +14,7 @@ def _modules_after(code: str) -> set[str]:
 
 def test_library_import_is_lean():
     mods = _modules_after("import matchtool, matchtool.sweep, matchtool.reflection, matchtool.bands, "
-                          "matchtool.feedline, matchtool.locate")
+                          "matchtool.feedline, matchtool.locate, matchtool.antenna")
     assert "matplotlib" not in mods and "typer" not in mods and "rich" not in mods
 
 
@@ -48,7 +48,8 @@ def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
                  ["coupling", str(two), "--json"], ["coupling", str(two)], ["inspect", str(two), "--port", "all"],
                  ["check", str(two), "--spec", str(spec)],
                  ["locate", str(p), "--velocity-factor", "0.7", "--json"], ["locate", str(p), "--velocity-factor", "0.7"],
-                 ["match", "--help"], ["report", "--help"], ["plot", "--help"]):
+                 ["match", "--help"], ["report", "--help"], ["plot", "--help"],
+                 ["qfactor", str(p), "--radius", "3cm", "--capped", str(q)], ["qfactor", str(p), "--json"]):
         code = (f"import sys; sys.argv = ['matchtool'] + {argv!r}\nfrom matchtool.cli import main\n"
                 "main()")
         mods = _modules_after(code)

@@ -459,7 +459,7 @@ def test_band_design_properties_on_random_rlc(r_ohm, q_load, f0, bw, parallel):
 
 
 def test_skrf_capacitor_q_is_not_constant_q_but_ours_is():
-    # scikit-rf 2.2 behaviour (measured, references.md): capacitor_q's Q scales with frequency
+    # scikit-rf 2.2 behaviour (measured on scikit-rf 2.2.0 itself): capacitor_q's Q scales with frequency
     freq = skrf.Frequency(500, 2000, 4, "MHz")
     media = DefinedGammaZ0(freq, z0=50)
     z = media.capacitor_q(C=2e-12, f_0=1e9, q_factor=50).a[:, 0, 1]

@@ -62,7 +62,7 @@ def test_return_loss_panel_holds_the_metrics_threshold_and_masks():
     assert (lo, hi) == pytest.approx((902.0, 928.0))
     mask = by_gid(fig, "return-loss:mask:ism")
     assert list(mask.get_xdata()) == pytest.approx([902.0, 928.0]) and list(mask.get_ydata()) == [12.0, 12.0]
-    # Threshold-band edges: RL 10 dB where |X| = (2/3) Z0 for R = Z0 (derived, references.md "Exact test vectors")
+    # Threshold-band edges: RL 10 dB where |X| = (2/3) Z0 for R = Z0 (derived; tests/REFERENCES.md "Exact test vectors")
     edges = by_gid(fig, "return-loss:edges:ant.s1p")
     np.testing.assert_allclose(np.asarray(edges.get_xdata()) * 1e6, rlc_edges_hz(F0, L_H, R, 2 / 3 * 50), rtol=2e-6)
     best = by_gid(fig, "return-loss:best:ant.s1p")
@@ -86,7 +86,7 @@ def test_vswr_panel_threshold_is_the_equivalent_vswr():
     t = rlc_trace()
     fig = plots.figure([t], ["vswr"], 10.0, [plots.BandMask("ism", 902e6, 928e6, 9.5424)])
     np.testing.assert_allclose(by_gid(fig, "vswr:trace:ant.s1p").get_ydata(), rf.vswr(t.gamma))
-    # RL 10 dB <-> VSWR 1.9250; RL 9.5424 dB <-> VSWR 2.0 (Pozar 4th ed. eq. 2.40; table in references.md)
+    # RL 10 dB <-> VSWR 1.9250; RL 9.5424 dB <-> VSWR 2.0 (Pozar 4th ed. eq. 2.40; table in tests/REFERENCES.md)
     assert float(np.asarray(by_gid(fig, "vswr:threshold").get_ydata())[0]) == pytest.approx(1.9250, abs=1e-4)
     assert by_gid(fig, "vswr:mask:ism").get_ydata()[0] == pytest.approx(2.0, abs=1e-4)
 
@@ -99,7 +99,7 @@ def test_smith_chart_traces_gamma_with_threshold_circle_and_band_edge_markers():
     np.testing.assert_allclose(tr.get_ydata(), t.gamma.imag)
     circ = by_gid(fig, "smith:threshold")
     r = np.hypot(circ.get_xdata(), circ.get_ydata())
-    np.testing.assert_allclose(r, 10 ** (-10 / 20))  # 0.31623 (references.md, RL 10 dB)
+    np.testing.assert_allclose(r, 10 ** (-10 / 20))  # 0.31623 (Pozar 4th ed. eq. 2.38 at RL 10 dB)
     marks = by_gid(fig, "smith:bandedge:ism:ant.s1p")
     exact = gamma_of(series_rlc_z(np.array([902e6, 928e6]), R, L_H, F0))  # closed form, not interpolated
     np.testing.assert_allclose(marks.get_xdata(), exact.real, atol=1e-5)

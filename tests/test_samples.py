@@ -193,7 +193,7 @@ def test_module_fixture_is_passive_reciprocal_with_the_antenna_on_port_2():
 
 def test_cable_is_a_passive_matched_line_with_sqrt_f_loss():
     """Cable loss against the matched-line model (Pozar 4th ed. eqs. 2.90-2.94; 5 mm solid-PE
-    class coax about 20 dB per 100 ft at 1 GHz, references.md table, from memory)."""
+    class coax about 20 dB per 100 ft at 1 GHz, typical coax table, from memory; tests/REFERENCES.md)."""
     sw = _sample("cable_3m.s2p")
     s = sw.network.s
     assert _passive(s)

@@ -1,7 +1,7 @@
 """Spec files: validation refusals, and the evaluation of sweeps against them.
 
 Outside sources: Pozar, Microwave Engineering, 4th ed., eqs. 2.37-2.41 (RL, SWR, delivered power)
-and the VSWR table of /work/shared/references.md (VSWR 2: |G| = 1/3, RL 9.5424 dB, mismatch loss
+and the VSWR table derived from them (tests/REFERENCES.md; VSWR 2: |G| = 1/3, RL 9.5424 dB, mismatch loss
 0.51153 dB, all re-derived here from the equations).
 """
 
@@ -366,7 +366,7 @@ def test_bare_small_frequency_warns_that_it_is_hz():
 
 @pytest.mark.parametrize("vswr, rl_db, ml_db", [
     # VSWR / return loss / mismatch loss table (Pozar 4th ed. eqs. 2.37-2.41; T. S. Bird, IEEE Antennas
-    # Propag. Mag. 51(2), 2009), as transcribed in shared/references.md
+    # Propag. Mag. 51(2), 2009), as transcribed in tests/REFERENCES.md
     (1.1, 26.444, 0.00986), (1.2, 20.828, 0.03604), (1.5, 13.979, 0.17729),
     (2.0, 9.5424, 0.51153), (3.0, 6.0206, 1.24939), (5.0, 3.5218, 2.55273),
 ])

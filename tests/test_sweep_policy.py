@@ -5,7 +5,7 @@ Sources for the conversions:
 - Touchstone File Format Specification 2.0 (IBIS Open Forum), option line: in version 1 files Z
   and Y data are normalised to R, and H/G data likewise (h11 and g22 are impedances divided by R,
   h22 and g11 admittances multiplied by R, h12/h21/g12/g21 dimensionless); in version 2 files the
-  data are not normalised (confirmed in part, see /work/shared/references.md).
+  data are not normalised (confirmed in part).
 - S from Z at a common real reference Z0: S = (Z - Z0 U)(Z + Z0 U)^-1 (Pozar, Microwave
   Engineering, 4th ed., sec. 4.3; from memory for the equation number), and Z = Y^-1.
 - H and G from Z (derived here by solving the Z equations for the hybrid variables):

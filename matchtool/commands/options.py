@@ -56,6 +56,9 @@ PARAMETER_FLAGS: dict[str, str] = {
     "floor_return_loss_db": "--floor",
     "min_separation_m": "--min-separation",
     "max_peaks": "--peaks",
+    "at_hz": "--at",
+    "radius_m": "--radius",
+    "capped": "--capped",
 }
 
 

@@ -378,3 +378,38 @@ def locate_doc(r, out: str | None = None, uncompensated: bool = False) -> dict[s
     if r.gate is not None:
         doc["gate"] = locate_gate_doc(r.gate)
     return doc
+# --- qfactor -------------------------------------------------------------------------------------
+
+def qfactor_doc(r) -> dict[str, Any]:
+    """The ``qfactor --json`` document (an ``antenna.QFactorResult``).
+
+    Contract keys: ``f0_hz``, ``q``, ``fractional_bandwidth_potential``, ``vswr``,
+    ``measured_fractional_bandwidth``, ``ka``, ``chu_q_min``, ``q_over_chu`` (null without a radius),
+    ``efficiency`` (null without a capped sweep), ``warnings``; the rest are added detail.
+    """
+    fit = r.fit
+    return {
+        "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points,
+        "f0_hz": r.f0_hz, "f0_choice": r.f0_choice, "resonance": r.resonance,
+        "r_ohm": r.r_ohm, "x_ohm": r.x_ohm, "dr_dw_ohm_s": r.dr_dw_ohm_s, "dx_dw_ohm_s": r.dx_dw_ohm_s,
+        "q": r.q, "q_rel_std": r.q_rel_std,
+        "fit": {"kind": "least-squares polynomial in omega", "degree": fit.degree, "points": fit.points,
+                "f_low_hz": fit.f_low_hz, "f_high_hz": fit.f_high_hz},
+        "threshold_return_loss_db": r.threshold_return_loss_db, "vswr": r.vswr,
+        "fractional_bandwidth_potential": r.fractional_bandwidth_potential,
+        "bandwidth_potential_hz": r.bandwidth_potential_hz,
+        "tuned_fractional_bandwidth": r.tuned_fractional_bandwidth,
+        "tuned_band": band_doc(r.tuned_band) if r.tuned_band is not None else None,
+        "measured_fractional_bandwidth": r.measured_fractional_bandwidth,
+        "measured_band": band_doc(r.measured_band) if r.measured_band is not None else None,
+        "bode_fano_fractional_bandwidth": r.bode_fano_fractional_bandwidth,
+        "bode_fano_best_return_loss_db": r.bode_fano_best_return_loss_db,
+        "radius_m": r.radius_m, "ka": r.ka, "chu_q_min": r.chu_q_min, "q_over_chu": r.q_over_chu,
+        "capped_file": r.capped_path, "efficiency": r.efficiency, "efficiency_model": r.efficiency_model,
+        "efficiency_in_range": r.efficiency_in_range, "f_cap_hz": r.f_cap_hz,
+        "efficiency_free_value": r.free_value, "efficiency_capped_value": r.capped_value,
+        "efficiency_unit": r.efficiency_unit,
+        "radiansphere_radius_m": r.radiansphere_radius_m,
+        "sphere_cap_resonance_radius_m": r.sphere_cap_resonance_radius_m,
+        "warnings": list(r.warnings),
+    }
