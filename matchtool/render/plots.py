@@ -166,6 +166,29 @@ def output_format(path: str) -> str:
     return ext
 
 
+def match_traces(pm, threshold_return_loss_db: float, label: str | None = None) -> list[Trace]:
+    """The before/after traces of a ``proposal.ProposedMatch``: the measured sweep, then the
+    sweep through the network."""
+    from .words import network_text
+
+    name = label or pm.sweep.name
+    before = trace_from_sweep(pm.sweep, threshold_return_loss_db, f"{name} measured")
+    after = trace_from_arrays(f"{name} + #{pm.pick}: {network_text(pm.candidate.elements)}", pm.sweep.f_hz,
+                              pm.gamma_after, pm.result.z0_ohm, threshold_return_loss_db)
+    return [before, after]
+
+
+def match_title(pm, label: str | None = None) -> str:
+    """Title naming the network: parts from the radio side, target, worst return loss before -> after."""
+    from .words import fixed, network_text, target_text
+
+    r, c = pm.result, pm.candidate
+    return (f"Proposed match for {label or pm.sweep.name} {target_text(r)}\n"
+            f"radio side first: {network_text(c.elements)}\n"
+            f"worst return loss over the target {fixed(r.before_worst_return_loss_db)} dB -> "
+            f"{fixed(c.worst_return_loss_db)} dB (network #{pm.pick} of {len(r.candidates)}, {r.series} values)")
+
+
 # --- matplotlib from here on (imported lazily) ---------------------------------------------------
 
 def _mpl():
@@ -443,8 +466,11 @@ def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] 
 
 
 def figure(traces: Sequence[Trace], kinds: Sequence[str], threshold_return_loss_db: float,
-           bands: Sequence[BandMask] = (), title: str | None = None) -> Figure:
-    """Build one Figure with a panel per kind (``KINDS``), in order; returns the Figure."""
+           bands: Sequence[BandMask] = (), title: str | None = None, explain: bool = True) -> Figure:
+    """Build one Figure with a panel per kind (``KINDS``), in order; returns the Figure.
+
+    ``explain`` adds a key under the panels that says what the marks mean (for a picture that
+    stands alone; the report's captions say it instead)."""
     if not traces:
         raise UsageError("nothing to plot", expected="at least one sweep")
     kinds = parse_kinds(kinds)
