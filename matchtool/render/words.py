@@ -48,7 +48,8 @@ def margin(x: float | None, digits: int = 2, unit: str = "dB", passed: bool | No
     for d in range(digits, digits + MAX_EXTRA_DIGITS + 1):
         if round(abs(x), d) > 0:
             return f"-{abs(x):.{d}f}{u}"
-    return f"< {10 ** -(digits + MAX_EXTRA_DIGITS):g}{u} below"
+    d = digits + MAX_EXTRA_DIGITS
+    return f"< {10 ** -d:.{d}f}{u} below"
 
 
 def distinct(value: float | None, limit: float | None, digits: int = 2) -> tuple[str, str]:

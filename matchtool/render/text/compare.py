@@ -87,16 +87,25 @@ def render(c: Comparison, con=None) -> None:
 def render_spec(c: Comparison, names: list[str], con=None) -> None:
     """The spec verdicts of every revision, one line per requirement, then the verdict line."""
     con = con or console()
-    rows = []
+    rows, short = [], []
     for name, r in zip(names, c.rows, strict=True):
         for q, d in zip(r.spec.requirements, r.delta_margin, strict=True):
             cells = requirement_cells(q)
             dm = "n/a" if d is None else (f"{d / 1e6 + 0.0:+.3f} MHz" if q.key == "resonance" else f"{d + 0.0:+.2f} dB")
             rows.append([name, q.name, cells[0], *cells[1:], dm])
+            worst, lim = cells[1], cells[3]
+            unit = q.unit if q.key != "resonance" and q.worst is not None else ""
+            if unit and worst.endswith(unit) and lim.endswith(unit):  # one unit for the pair
+                pair = f"{worst[:-len(unit)].strip()} / {lim}"
+            else:
+                pair = f"{worst} / {lim}"
+            short.append([name, q.name, cells[0], pair.replace("dB return loss", "dB RL"), cells[4]])
     show_table(con, f"Spec {c.spec_path} (as 'matchtool check'; margin positive = passing, in dB of return loss "
                     "for the reflection limits)",
                ["file", "requirement", "verdict", "worst", "at", "limit", "margin", "d margin"], rows,
-               [False, False, False, True, True, True, True, True])
+               [False, False, False, True, True, True, True, True],
+               narrow=(["file", "requirement", "verdict", "worst / limit\n(RL: return loss)", "margin"], short,
+                       [False, False, False, True, True]))
     by_path = dict(zip([r.file for r in c.rows], names, strict=True))
     for v in c.spec_verdicts:
         say(con, requirement_verdict_sentence(v, by_path))

@@ -8,23 +8,19 @@ from collections.abc import Sequence
 
 
 def show_table(con, title: str, headers: Sequence[str], rows: Sequence[Sequence[str]],
-               right: Sequence[bool] | None = None) -> None:
-    """Print ``rows`` under ``title`` on ``con`` (a rich Console) as a table, or stacked when the
-    table is wider than the console. Cells are plain text (rich markup is escaped)."""
-    from rich import box
-    from rich.markup import escape
+               right: Sequence[bool] | None = None, narrow=None) -> None:
+    """Print ``rows`` under ``title`` on ``con`` (a rich Console) as a table; when it is wider
+    than the console, the ``narrow`` layout (``(headers, rows, right)``, fewer columns) if given
+    and it fits, else the full rows stacked. Cells are plain text (rich markup is escaped)."""
+    if narrow is not None and _width(con, headers, rows, right) > con.width:
+        n_headers, n_rows, n_right = narrow
+        if _width(con, n_headers, n_rows, n_right) <= con.width:
+            headers, rows, right = n_headers, n_rows, n_right
     from rich.measure import Measurement
-    from rich.table import Table
     from rich.text import Text
 
-    right = list(right) if right is not None else [False] + [True] * (len(headers) - 1)
-    cells = [[str(c) if str(c) != "" else "-" for c in row] for row in rows]
-    t = Table(show_edge=False, pad_edge=False, box=box.SIMPLE_HEAD, collapse_padding=True)
-    for h, r in zip(headers, right, strict=True):
-        t.add_column(escape(h), justify="right" if r else "left", no_wrap=True)
-    for row in cells:
-        t.add_row(*(escape(c) for c in row))
-    need = Measurement.get(con, con.options, t).maximum
+    t, cells = _table(headers, rows, right)
+    need = Measurement.get(con, con.options.update(max_width=100_000), t).maximum
     _print_wrapped(con, title)
     if need <= con.width:
         con.print(t)
@@ -39,6 +35,27 @@ def show_table(con, title: str, headers: Sequence[str], rows: Sequence[Sequence[
                 con.print(Text(f"  {h}"))
                 line = f"    {c}"
             con.print(Text(line), soft_wrap=True)
+
+
+def _table(headers, rows, right):
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    right = list(right) if right is not None else [False] + [True] * (len(headers) - 1)
+    cells = [[str(c) if str(c) != "" else "-" for c in row] for row in rows]
+    t = Table(show_edge=False, pad_edge=False, box=box.SIMPLE_HEAD, collapse_padding=True)
+    for h, r in zip(headers, right, strict=True):
+        t.add_column(escape(h), justify="right" if r else "left", no_wrap=True)
+    for row in cells:
+        t.add_row(*(escape(c) for c in row))
+    return t, cells
+
+
+def _width(con, headers, rows, right) -> int:
+    from rich.measure import Measurement
+
+    return Measurement.get(con, con.options.update(max_width=100_000), _table(headers, rows, right)[0]).maximum
 
 
 def _print_wrapped(con, text: str) -> None:
