@@ -393,10 +393,12 @@ def compare(sweeps: Sequence[Any], threshold_return_loss_db: float = 10.0, bands
     return revisions(sweeps, threshold_return_loss_db, bands, spec, min_band_width_hz)
 
 
-def spec_band_limits(spec: Spec) -> tuple[BandOfInterest, ...]:
+def spec_band_limits(spec: Spec, given: Iterable[Any] = ()) -> tuple[BandOfInterest, ...]:
     """The bands of a spec with their limits as minimum return loss (every limit key converted),
-    for shading and masks in pictures."""
-    return tuple(as_band(b) for b in spec.bands)
+    for shading and masks in pictures; a band equal to one of ``given`` (same name, edges and
+    limit) is left out, so it is not drawn twice."""
+    seen = {as_band(b) for b in given}
+    return tuple(b for b in map(as_band, spec.bands) if b not in seen)
 
 
 def band_name(f_low_hz: float, f_high_hz: float) -> str:

@@ -147,7 +147,7 @@ def build_report(sweeps: Sequence[Sweep], threshold_return_loss_db: float = 10.0
     return ReportContext(
         sweeps=tuple(sweeps), summaries=tuple(summarize(s, threshold_return_loss_db) for s in sweeps), comparison=c,
         threshold_return_loss_db=float(threshold_return_loss_db), bands=c.bands,
-        mask_bands=tuple(bands) + (() if spec is None else spec_band_limits(spec)), kinds=tuple(kinds), inputs=inputs,
+        mask_bands=tuple(bands) + (() if spec is None else spec_band_limits(spec, bands)), kinds=tuple(kinds), inputs=inputs,
         generated=report_time(), port=port, z0_ohm=z0_ohm, spec_path=None if spec is None else spec.path,
         match=pm, match_index=match_index, match_request=match_request, budget=link, budget_path=budget_path,
         extras=dict(extras or {}), warnings=tuple(warnings))

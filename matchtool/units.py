@@ -81,7 +81,7 @@ def format_frequency(f_hz: float, digits: int = 3, max_extra_digits: int = 3) ->
             unit, scale = u, sc
             break
     x = f_hz / scale
-    tol = 1e-9 * max(abs(x), 1e-300)
+    tol = 1e-12 * max(abs(x), 1e-300)  # float noise of a typed or file value, far below a displayed digit
     shown = digits
     for d in range(digits, digits + max_extra_digits + 1):
         if abs(round(x, d) - x) <= tol:

@@ -145,7 +145,7 @@ def register(app: typer.Typer) -> None:
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
         bands = band_options(band, thr)
         the_spec, port, z0 = spec_option(spec, port, z0)
-        shaded = bands + ([] if the_spec is None else list(spec_band_limits(the_spec)))
+        shaded = bands + ([] if the_spec is None else list(spec_band_limits(the_spec, bands)))
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         require_bands_in_sweeps(shaded, loaded)
         labels = plots.legend_labels([s.path for s in loaded])

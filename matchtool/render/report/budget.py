@@ -30,7 +30,7 @@ def section(ctx, names) -> h.Section | None:
     import math
 
     if not math.isinf(w.polarization_loss_db):
-        items.append(("mismatch", mismatch_cost_line(b)))
+        items.append(("what the mismatch costs", mismatch_cost_line(b)))
     parts.append(h.definition_list(items))
     if b.band is not None:
         parts.append(h.table(["frequency", "tx mismatch dB", "rx mismatch dB", "EIRP dBm", "received dBm", "margin dB",

@@ -11,9 +11,9 @@ CAPTIONS = {
     "s11-db": "S11 in dB (= -return loss; lower is better) with the threshold line; tinted with a limit line: the "
               "region above the band's limit; open hexagons: the best match of each trace.",
     "vswr": "VSWR with the threshold line; tinted with a limit line: the region above the band's limit; open "
-            "hexagons: the best match of each trace (drawn at the axis floor when it lies below it).",
-    "smith": "Impedance Smith chart; dashed circle: the threshold |Γ|; open markers: band edges, numbered and listed "
-             "in the table beside the chart; open hexagons: best match.",
+            "hexagons: the best match of each trace.",
+    "smith": "Impedance Smith chart; dashed circle: the threshold |Γ|; open squares, diamonds...: the edges of each "
+             "band, one shape per band, named with their frequencies in the legend; open hexagons: best match.",
     "impedance": "Resistance R (solid) and reactance X (dashed) in ohms; X > 0 is inductive.",
 }
 

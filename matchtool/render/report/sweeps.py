@@ -13,14 +13,14 @@ def section(ctx, names) -> h.Section:
         b = s.best
         z = b.z_ohm
         parts.append(f"<h3>{h.esc(names[s.path])}</h3>")
+        parts.append(h.table(["port", "Z0 ohm", "points", "start", "stop"],
+                             [[s.port, f"{s.z0_ohm:g}", s.points, ff(s.f_start_hz), ff(s.f_stop_hz)]],
+                             [False, True, True, True, True], caption="Sweep"))
         parts.append(h.table(
-            ["port", "Z0 ohm", "points", "start", "stop", "best match", "return loss dB", "S11 dB", "VSWR",
-             "mismatch loss dB", "delivered", "impedance ohm"],
-            [[s.port, f"{s.z0_ohm:g}", s.points, ff(s.f_start_hz), ff(s.f_stop_hz), ff(b.f_hz), fixed(b.return_loss_db),
-              fixed(b.s11_db), fixed(b.vswr, 3), fixed(b.mismatch_loss_db, 3), f"{100 * b.delivered_fraction:.1f} %",
-              f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f}"]],
-            [False, True, True, True, True, True, True, True, True, True, True, True],
-            caption="Best match (the measured sample with the smallest |Γ|)"))
+            ["best match", "return loss dB", "S11 dB", "VSWR", "mismatch loss dB", "delivered", "impedance ohm"],
+            [[ff(b.f_hz), fixed(b.return_loss_db), fixed(b.s11_db), fixed(b.vswr, 3), fixed(b.mismatch_loss_db, 3),
+              f"{100 * b.delivered_fraction:.1f} %", f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f}"]],
+            [True] * 7, caption="Best match (the measured sample with the smallest |Γ|)"))
         cap = f"Bands with return loss >= {s.threshold_return_loss_db:.2f} dB"
         if s.bands:
             parts.append(h.table(
