@@ -108,3 +108,29 @@ def test_plot_spec_prints_its_verdict_and_exits_as_the_readme_says(cli, tmp_path
     assert r.code == 0 and "Verdict: PASS" in r.out
     r = cli("plot", files[0], "--out", tmp_path / "nospec.png", "--json")
     assert r.code == 0 and r.json()["pass"] is None
+
+
+def test_a_figure_kind_of_another_capability_is_one_registry_line(cli, tmp_path, monkeypatch):
+    # the registry other plot kinds (distance, isolation, ecc) join: "kind -> (compute, draw)"
+    import sys
+    import types
+
+    mod = types.ModuleType("fake_kind")
+    seen = {}
+
+    def compute(sweep):
+        seen["points"] = sweep.f_hz.size
+        return types.SimpleNamespace(warnings=("from the fake kind",))
+
+    def draw(result, fileobj, fmt="png"):
+        fileobj.write(b"picture:" + fmt.encode())
+
+    mod.compute, mod.draw = compute, draw
+    monkeypatch.setitem(sys.modules, "fake_kind", mod)
+    monkeypatch.setitem(plots.FIGURE_KINDS, "fake", ("fake_kind:compute", "fake_kind:draw"))
+    out = tmp_path / "f.svg"
+    r = cli("plot", R1, "--kind", "fake", "--out", out)
+    assert r.code == 0 and out.read_bytes() == b"picture:svg" and seen["points"] == load(R1).f_hz.size
+    assert "from the fake kind" in r.err
+    r = cli("plot", R1, "--kind", "fake,smith", "--out", tmp_path / "g.svg")
+    assert r.code == 2 and "alone" in r.err

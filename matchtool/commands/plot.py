@@ -148,6 +148,23 @@ def register(app: typer.Typer) -> None:
         shaded = bands + ([] if the_spec is None else list(spec_band_limits(the_spec, bands)))
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         require_bands_in_sweeps(shaded, loaded)
+        if kinds[0] in plots.FIGURE_KINDS:  # another capability's own picture (one sweep, one kind)
+            if len(loaded) != 1 or match:
+                raise UsageError(f"--kind {kinds[0]} draws one sweep", expected="one SWEEP, without --match")
+            compute, draw = plots.figure_kind(kinds[0])
+            import io
+
+            buf = io.BytesIO()
+            result = compute(loaded[0])
+            draw(result, buf, fmt)
+            atomic_write(out, buf.getvalue(), force=force)
+            warnings = list(loaded[0].warnings) + list(getattr(result, "warnings", ()))
+            if json_out:
+                emit_json(plot_doc(out, sweeps, kinds, warnings))
+            else:
+                print(f"wrote {out}")
+                warn(warnings)
+            return ExitStatus.OK
         labels = plots.legend_labels([s.path for s in loaded])
         warnings = [w for s in loaded for w in s.warnings]
         verdict = None if the_spec is None else revisions(loaded, thr, spec=the_spec)

@@ -39,6 +39,27 @@ if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.figure import Figure
 
 KINDS = ("return-loss", "s11-db", "vswr", "smith", "impedance")
+"""The panels drawn from reflection sweeps (several may share one picture)."""
+
+FIGURE_KINDS: dict[str, tuple[str, str]] = {}
+"""Kinds drawn by another capability's own module, one picture each: ``kind -> ("module:compute",
+"module:draw")``. ``compute(sweep)`` returns that capability's result, ``draw(result,
+path_or_fileobj, fmt)`` writes the picture. Adding one is one line, e.g.::
+
+    FIGURE_KINDS["distance"] = ("matchtool.locate:locate", "matchtool.render.plot_locate:draw_distance")
+"""
+
+
+def figure_kind(kind: str):
+    """``(compute, draw)`` callables of a :data:`FIGURE_KINDS` entry (imported on use)."""
+    import importlib
+
+    def load(ref: str):
+        mod, _, name = ref.partition(":")
+        return getattr(importlib.import_module(mod), name)
+
+    compute, draw = FIGURE_KINDS[kind]
+    return load(compute), load(draw)
 FORMATS = ("png", "svg", "pdf")
 
 # name, hex colour, in the order traces take them. CIE L* (lightness): 22, 74, 40, 58, 31, 80 - the
@@ -150,12 +171,17 @@ def parse_kinds(values: Sequence[str] | None) -> list[str]:
         for k in (x.strip().lower() for x in str(v).split(",")):
             if not k:
                 continue
-            if k not in KINDS:
-                raise UsageError(f"unknown plot kind {k!r}", key="--kind", expected=", ".join(KINDS))
+            if k not in KINDS and k not in FIGURE_KINDS:
+                raise UsageError(f"unknown plot kind {k!r}", key="--kind",
+                                 expected=", ".join((*KINDS, *FIGURE_KINDS)))
             if k not in out:
                 out.append(k)
     if not out:
-        raise UsageError("no plot kind given", key="--kind", expected=", ".join(KINDS))
+        raise UsageError("no plot kind given", key="--kind", expected=", ".join((*KINDS, *FIGURE_KINDS)))
+    alone = [k for k in out if k in FIGURE_KINDS]
+    if alone and len(out) > 1:
+        raise UsageError(f"--kind {alone[0]} is drawn as a picture of its own", key="--kind",
+                         expected=f"--kind {alone[0]} alone")
     return out
 
 
