@@ -56,16 +56,45 @@ def _crossing(f0: float, f1: float, y0: float, y1: float, level: float) -> float
     return f0 + (level - y0) * (f1 - f0) / (y1 - y0)
 
 
-def find_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float) -> list[Band]:
-    """Bands where ``value_db >= threshold_db`` (e.g. return loss in dB against a minimum).
+MIN_BAND_SAMPLES = 2
+"""A run of fewer samples at or above the threshold is a noise-level crossing, not a band."""
+MIN_BAND_FRACTION = 1e-3
+"""A run narrower than this fraction of the sweep's span is a noise-level crossing, not a band
+(unless ``min_width_hz`` is given, which replaces it). Chosen by us: measurement noise on a
+curve that runs along the threshold makes crossings one sample wide; no source."""
 
-    To find where S11 dB stays below a maximum, pass ``-s11_db`` and ``-max``.
+
+@dataclass(frozen=True)
+class BandSearch:
+    """The threshold crossings of one curve: ``bands`` (wide enough to count) and
+    ``noise_crossings`` (runs narrower than the minimum, listed apart and never used as bands)."""
+
+    bands: tuple[Band, ...]
+    noise_crossings: tuple[Band, ...]
+    min_width_hz: float
+    min_samples: int
+
+
+def search_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float, min_width_hz: float | None = None,
+                 min_samples: int = MIN_BAND_SAMPLES) -> BandSearch:
+    """Runs where ``value_db >= threshold_db`` (e.g. return loss in dB against a minimum), with
+    interpolated edges, split into bands and noise-level crossings.
+
+    A run counts as a band when it holds at least ``min_samples`` samples and is at least
+    ``min_width_hz`` wide (default :data:`MIN_BAND_FRACTION` of the sweep's span); a run that
+    spans the whole sweep always counts. The rule acts as hysteresis in frequency: a curve that
+    pokes above the threshold for less than the minimum does not open a band. There is no
+    hysteresis in dB: every band edge is the exact (interpolated) threshold crossing, so a
+    band's edges and width are the same as without the rule. To find where S11 dB stays below a
+    maximum, pass ``-s11_db`` and ``-max``.
     """
     f = np.asarray(f_hz, dtype=float)
     y = np.minimum(np.nan_to_num(np.asarray(value_db, dtype=float), nan=-np.inf), _CAP_DB)
+    span = float(f[-1] - f[0]) if f.size else 0.0
+    min_w = MIN_BAND_FRACTION * span if min_width_hz is None else float(min_width_hz)
     ok = y >= threshold_db
     if not ok.any():
-        return []
+        return BandSearch((), (), min_w, min_samples)
     edges = np.diff(ok.astype(np.int8))
     starts = list(np.flatnonzero(edges == 1) + 1)
     stops = list(np.flatnonzero(edges == -1))
@@ -73,12 +102,25 @@ def find_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float) -> l
         starts.insert(0, 0)
     if ok[-1]:
         stops.append(len(ok) - 1)
-    bands = []
+    bands, noise = [], []
     for i, j in zip(starts, stops, strict=True):
         lo = f[0] if i == 0 else _crossing(f[i - 1], f[i], y[i - 1], y[i], threshold_db)
         hi = f[-1] if j == len(ok) - 1 else _crossing(f[j], f[j + 1], y[j], y[j + 1], threshold_db)
-        bands.append(Band(float(lo), float(hi), bool(i == 0), bool(j == len(ok) - 1)))
-    return bands
+        b = Band(float(lo), float(hi), bool(i == 0), bool(j == len(ok) - 1))
+        whole = i == 0 and j == len(ok) - 1
+        wide = (j - i + 1) >= min_samples and b.bandwidth_hz >= min_w
+        (bands if whole or wide else noise).append(b)
+    return BandSearch(tuple(bands), tuple(noise), min_w, min_samples)
+
+
+def find_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float, min_width_hz: float | None = None,
+               min_samples: int = MIN_BAND_SAMPLES) -> list[Band]:
+    """Bands where ``value_db >= threshold_db``, without the noise-level crossings (see
+    :func:`search_bands` for the minimum-width rule and the crossings themselves).
+
+    To find where S11 dB stays below a maximum, pass ``-s11_db`` and ``-max``.
+    """
+    return list(search_bands(f_hz, value_db, threshold_db, min_width_hz, min_samples).bands)
 
 
 def band_containing(bands: list[Band], f_hz: float) -> Band | None:

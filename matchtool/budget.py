@@ -680,6 +680,16 @@ def _compute_budget(inp: BudgetInput) -> BudgetResult:
         points=tuple(points), worst_index=int(np.argmin(m_for_worst)), warnings=tuple(warnings))
 
 
+def evaluate(path_or_input: str | Path | BudgetInput) -> BudgetResult:
+    """The link budget of a budget TOML file (read with :func:`read_budget_file`) or of an already
+    validated :class:`BudgetInput`: powers in dBm, losses positive dB, ranges in metres.
+
+    ``max_range_m`` is always the free-space range; ``max_range_model_m`` the range in the model
+    in use (``path_loss_model``); the two are the same without ``path_loss_exponent``."""
+    inp = path_or_input if isinstance(path_or_input, BudgetInput) else read_budget_file(path_or_input)
+    return compute_budget(inp)
+
+
 def budget(path: str | Path) -> BudgetResult:
-    """Read a budget TOML file and compute it: ``read_budget_file`` then ``compute_budget``."""
-    return compute_budget(read_budget_file(path))
+    """Read a budget TOML file and compute it (former name of :func:`evaluate`)."""
+    return evaluate(path)

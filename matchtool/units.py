@@ -84,15 +84,29 @@ def parse_band(text: str) -> tuple[float, float]:
     return lo, hi
 
 
-def format_frequency(f_hz: float, digits: int = 3) -> str:
-    """Format a frequency with the unit that fits it: ``915.000 MHz``, ``2.450 GHz``."""
+def format_frequency(f_hz: float, digits: int = 3, max_extra_digits: int = 3) -> str:
+    """Format a frequency with the unit that fits it: ``915.000 MHz``, ``2.450 GHz``.
+
+    At least ``digits`` decimals; more (up to ``digits + max_extra_digits``) when that many
+    show the value exactly, so a band edge keeps the digits it was given: 2483.5 MHz is
+    ``2.4835 GHz``, not ``2.483 GHz``. A value that no such precision shows exactly (an
+    interpolated edge) keeps ``digits`` decimals."""
     if not math.isfinite(f_hz):
         return "n/a"
     a = abs(f_hz)
-    for unit, scale in (("GHz", 1e9), ("MHz", 1e6), ("kHz", 1e3)):
-        if a >= scale:
-            return f"{f_hz / scale:.{digits}f} {unit}"
-    return f"{f_hz:.{digits}f} Hz"
+    unit, scale = "Hz", 1.0
+    for u, sc in (("GHz", 1e9), ("MHz", 1e6), ("kHz", 1e3)):
+        if a >= sc:
+            unit, scale = u, sc
+            break
+    x = f_hz / scale
+    tol = 1e-12 * max(abs(x), 1e-300)  # float noise of a typed or file value, far below a displayed digit
+    shown = digits
+    for d in range(digits, digits + max_extra_digits + 1):
+        if abs(round(x, d) - x) <= tol:
+            shown = d
+            break
+    return f"{x:.{shown}f} {unit}"
 
 
 def format_value_si(value: float, unit: str, digits: int = 3) -> str:

@@ -7,7 +7,7 @@ import pytest
 from helpers import gamma_of, series_rlc_z
 
 from matchtool import reflection as rf
-from matchtool.bands import band_samples, find_bands
+from matchtool.bands import MIN_BAND_FRACTION, MIN_BAND_SAMPLES, band_samples, find_bands, search_bands
 
 
 def test_series_rlc_ten_db_band_exact():
@@ -70,3 +70,38 @@ def test_sweep_covers_allows_unit_rounding_only():
     assert sweep_covers(f, 0.9e9 * (1 - 1e-12), 0.93e9)       # GHz-unit rounding of the edge
     assert not sweep_covers(f, 0.899e9, 0.93e9)               # a real 1 MHz gap is not covered
     assert not sweep_covers(f[:1], 0.9e9, 0.9e9)              # one sample spans nothing
+
+
+def _noisy_2g4():
+    """A 2.4 GHz PCB antenna's return loss on a 625 kHz grid (derived: a Lorentzian dip of 20 dB
+    at 2.44 GHz whose 10 dB crossings lie at 2.44 GHz +- 50 MHz), plus one sample of measurement
+    noise poking 0.3 dB above the 10 dB threshold at 2.6 GHz: the kind of sliver users saw."""
+    f = np.linspace(2.0e9, 3.0e9, 1601)
+    x = (f - 2.44e9) / 50e6
+    y = 20.0 / (1.0 + x * x)  # 10 dB exactly at x = +-1
+    k = int(np.argmin(abs(f - 2.6e9)))
+    y[k] = 10.3
+    return f, y, k
+
+
+def test_a_one_sample_noise_crossing_is_not_a_band():
+    f, y, k = _noisy_2g4()
+    found = search_bands(f, y, 10.0)
+    (band,) = found.bands
+    assert band.f_low_hz == pytest.approx(2.39e9, abs=1e3) and band.f_high_hz == pytest.approx(2.49e9, abs=1e3)
+    (noise,) = found.noise_crossings
+    assert noise.f_low_hz < f[k] < noise.f_high_hz and noise.bandwidth_hz < 625e3
+    assert find_bands(f, y, 10.0) == [band]  # find_bands never returns a sliver
+    # the minimum is a parameter: one sample and no width minimum keep the crossing as a band
+    assert len(search_bands(f, y, 10.0, min_width_hz=0.0, min_samples=1).bands) == 2
+    # a width minimum wider than the real band moves it too (nothing is lost: it is listed apart)
+    wide = search_bands(f, y, 10.0, min_width_hz=200e6)
+    assert wide.bands == () and len(wide.noise_crossings) == 2
+
+
+def test_default_minimum_is_a_fraction_of_the_span_and_two_samples():
+    f, y, _ = _noisy_2g4()
+    found = search_bands(f, y, 10.0)
+    assert found.min_width_hz == pytest.approx(MIN_BAND_FRACTION * 1e9) and found.min_samples == MIN_BAND_SAMPLES == 2
+    # a sweep that meets the threshold everywhere is one band, however short
+    assert len(search_bands(np.array([1.0, 2.0]), np.array([20.0, 20.0]), 10.0).bands) == 1

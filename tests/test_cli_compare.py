@@ -250,3 +250,92 @@ def test_band_edge_a_rounding_below_the_first_sample_is_covered_as_check_says(cl
     spec.write_text('[[band]]\nname = "ism"\nf_low = 901999990.0\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
     assert cli("check", p, "--spec", spec, "--json").json()["files"][0]["requirements"][0]["reason"]
     assert cli("compare", p, "--spec", spec, "--json").json()["rows"][0]["bands"][0]["covered"] is False
+
+
+def _render_at(width, render, result):
+    import io
+
+    from rich.console import Console
+
+    buf = io.StringIO()
+    render(result, Console(file=buf, width=width, highlight=False, soft_wrap=False, color_system=None))
+    return buf.getvalue()
+
+
+def _assert_fits(text, width, must):
+    for ln in text.splitlines():
+        assert len(ln) <= width, (width, ln)
+    assert "…" not in text and "..." not in text  # rich's marks of a cut cell
+    for m in must:
+        assert m in text, (width, m)
+
+
+def test_every_table_fits_80_100_and_120_columns_without_cutting_a_cell():
+    from matchtool.compare import BandOfInterest, revisions
+    from matchtool.render.text.compare import render
+    from matchtool.render.words import margin
+    from matchtool.spec import load_spec
+    from matchtool.sweep import load
+
+    sweeps = [load(SAMPLES / f"ant_r{k}.s1p") for k in (1, 2, 3)]
+    c = revisions(sweeps, 10.0, [BandOfInterest("ism", 902e6, 928e6, 10.0)], spec=load_spec(SAMPLES / "spec_915.toml"))
+    must = [f"{b.worst_return_loss_db:.2f}" for r in c.rows for b in r.bands[:c.adhoc_bands]]
+    must += ["ant_r1.s1p", "ism guard", "Verdict"]
+    must += [margin(q.margin_db, 2, "dB", q.passed) for r in c.rows for q in r.spec.requirements if q.margin_db is not None]
+    for width in (80, 100, 120):
+        _assert_fits(_render_at(width, render, c), width, must)
+
+
+def test_budget_tables_fit_80_100_and_120_columns(tmp_path):
+    import shutil
+
+    from matchtool.budget import evaluate
+    from matchtool.render.text.budget import render
+
+    for n in ("link_915.toml", "ant_r2.s1p", "ant_r3.s1p"):
+        shutil.copy(SAMPLES / n, tmp_path / n)
+    text = (tmp_path / "link_915.toml").read_text()
+    text = "\n".join(ln for ln in text.splitlines() if not ln.startswith("f_hz"))
+    (tmp_path / "link_915.toml").write_text('f_low = "902 MHz"\nf_high = "928 MHz"\npoints = 5\n' + text + "\n")
+    res = evaluate(tmp_path / "link_915.toml")
+    must = ["running total dBm", "902.000 MHz", "928.000 MHz"] + [f"{r.total_dbm:.2f}" for r in res.worst.rows]
+    for width in (80, 100, 120):
+        _assert_fits(_render_at(width, render, res), width, must)
+
+
+def test_dual_band_antenna_shows_both_bands_without_spec_or_band(cli):
+    # the sample dual-band Wi-Fi antenna meets 10 dB around 2.4 GHz and around 5 GHz
+    path = SAMPLES / "dualband_wifi.s1p"
+    doc = cli("compare", path, "--json").json()
+    (row,) = doc["rows"]
+    bands = row["threshold_bands"]
+    assert len(bands) == 2 and bands[0]["f_high_hz"] < 3e9 < bands[1]["f_low_hz"]
+    assert [b["holds_best"] for b in bands].count(True) == 1
+    out = cli("compare", path).out
+    for b in bands:
+        assert f"{b['f_low_hz'] / 1e6:.3f}-{b['f_high_hz'] / 1e6:.3f}" in out
+
+
+def test_noise_sliver_is_listed_apart_never_as_a_band(cli, tmp_path):
+    import numpy as np
+    from helpers import s1p_text
+
+    # derived: |Gamma| of a 20 dB Lorentzian dip at 2.44 GHz (10 dB crossings at +-50 MHz), plus one
+    # noisy sample just above 10 dB at 2.6 GHz (|Gamma| = 10^(-10.3/20))
+    f = np.linspace(2.0e9, 3.0e9, 1601)
+    x = (f - 2.44e9) / 50e6
+    rl = 20.0 / (1.0 + x * x)
+    rl[int(np.argmin(abs(f - 2.6e9)))] = 10.3
+    p = tmp_path / "noisy.s1p"
+    p.write_text(s1p_text(f, 10 ** (-rl / 20) + 0j))
+    doc = cli("compare", p, "--json").json()
+    (row,) = doc["rows"]
+    assert len(row["threshold_bands"]) == 1 and len(row["noise_crossings"]) == 1
+    assert abs(row["bandwidth_hz"] - 100e6) < 1e3
+    r = cli("compare", p)
+    assert "noise-level crossings" in r.out and "2599." in r.out
+    assert any("noise-level" in w for w in doc["warnings"])
+    # --min-band-width 0 with 1 sample minimum is not offered; a wider minimum moves the sliver only
+    doc = cli("compare", p, "--min-band-width", "10kHz", "--json").json()
+    assert len(doc["rows"][0]["noise_crossings"]) == 1
+    assert cli("compare", p, "--min-band-width", "-1MHz").code == 2

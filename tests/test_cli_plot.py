@@ -90,3 +90,47 @@ def test_plot_match_usage_errors_are_one_line_exit_2(cli, tmp_path):
         r = cli(*args)
         assert r.code == 2 and len(r.err_lines) == 1 and must in r.err, (args, r.err)
         assert not out.exists()
+
+
+def test_plot_spec_prints_its_verdict_and_exits_as_the_readme_says(cli, tmp_path):
+    # README exit-status table: plot given --spec exits 1 when a requirement fails (r1 and r2 fail
+    # the sample spec, as `check` reports), 0 when every file passes (r3)
+    spec = ROOT / "sample_sweeps" / "spec_915.toml"
+    files = [ROOT / "sample_sweeps" / f"ant_r{k}.s1p" for k in (1, 2, 3)]
+    out = tmp_path / "revisions.png"
+    r = cli("plot", *files, "--spec", spec, "--out", out)
+    chk = cli("check", *files, "--spec", spec)
+    assert r.code == chk.code == 1 and out.exists()
+    assert "wrote" in r.out and "Verdict: FAIL - 2 of 3 files fail the spec: ant_r1.s1p, ant_r2.s1p" in r.out
+    doc = cli("plot", *files, "--spec", spec, "--out", tmp_path / "j.svg", "--json").json()
+    assert doc["pass"] is False and [p.split("/")[-1] for p in doc["failing_files"]] == ["ant_r1.s1p", "ant_r2.s1p"]
+    r = cli("plot", files[2], "--spec", spec, "--out", tmp_path / "r3.png")
+    assert r.code == 0 and "Verdict: PASS" in r.out
+    r = cli("plot", files[0], "--out", tmp_path / "nospec.png", "--json")
+    assert r.code == 0 and r.json()["pass"] is None
+
+
+def test_a_figure_kind_of_another_capability_is_one_registry_line(cli, tmp_path, monkeypatch):
+    # the registry other plot kinds (distance, isolation, ecc) join: "kind -> (compute, draw)"
+    import sys
+    import types
+
+    mod = types.ModuleType("fake_kind")
+    seen = {}
+
+    def compute(sweep):
+        seen["points"] = sweep.f_hz.size
+        return types.SimpleNamespace(warnings=("from the fake kind",))
+
+    def draw(result, fileobj, fmt="png"):
+        fileobj.write(b"picture:" + fmt.encode())
+
+    mod.compute, mod.draw = compute, draw
+    monkeypatch.setitem(sys.modules, "fake_kind", mod)
+    monkeypatch.setitem(plots.FIGURE_KINDS, "fake", ("fake_kind:compute", "fake_kind:draw"))
+    out = tmp_path / "f.svg"
+    r = cli("plot", R1, "--kind", "fake", "--out", out)
+    assert r.code == 0 and out.read_bytes() == b"picture:svg" and seen["points"] == load(R1).f_hz.size
+    assert "from the fake kind" in r.err
+    r = cli("plot", R1, "--kind", "fake,smith", "--out", tmp_path / "g.svg")
+    assert r.code == 2 and "alone" in r.err

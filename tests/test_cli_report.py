@@ -4,6 +4,7 @@ results as `check`, `match` and `budget` for the same inputs, and stays self-con
 from __future__ import annotations
 
 import html
+import re
 import shutil
 from html.parser import HTMLParser
 
@@ -183,3 +184,46 @@ def test_report_and_plot_say_what_they_wrote_and_take_json(cli, tmp_path):
     assert r.code == 0 and doc["out"] == str(tmp_path / "p.svg") and doc["kinds"] == ["return-loss"]
     r = cli("report", p, "--out", tmp_path / "r2.html", "--json")
     assert r.code == 0 and r.json()["pass"] is True and (tmp_path / "r2.html").exists()
+
+
+def test_log_distance_budget_headline_names_its_model_and_never_mixes_two(cli, bench):
+    # a log-distance budget (n = 3 beyond 10 m): the report's range headline is the log-distance
+    # range that `budget --json` gives as max_range_model_m, and every range names its model
+    link = bench / "link_915.toml"
+    link.write_text(link.read_text().replace("[tx_cable]", "path_loss_exponent = 3\nreference_distance_m = 10\n[tx_cable]"))
+    b = cli("budget", link, "--json").json()
+    assert b["path_loss_model"]["kind"] == "log-distance" and b["max_range_model_m"] < b["max_range_m"]
+    out = bench / "ld.html"
+    r = cli("report", bench / "ant_r1.s1p", "--budget", link, "--kind", "return-loss", "--out", out)
+    assert r.code in (0, 1), r.err
+    text = html.unescape(out.read_text())
+    summary = text[text.index('<section id="summary"'):text.index('<section id="sweeps"')]
+
+    def shown(m):
+        return f"{m / 1000:.2f} km" if m >= 10_000 else f"{m:.1f} m"
+
+    assert f"{shown(b['max_range_model_m'])} (log-distance, n = 3 beyond 10 m model)" in summary
+    assert shown(b["max_range_m"]) not in summary  # the free-space figure is not a headline
+    section = text[text.index('<section id="budget"'):text.index('<section id="traceability"')]
+    for sentence in re.split(r"</d[dt]>|</p>|</li>", section):
+        assert not ("free-space" in sentence and "log-distance" in sentence), sentence
+    assert "for comparison only: free-space range" in section
+    assert "in the log-distance, n = 3 beyond 10 m model" in section  # the mismatch's range cost
+    assert shown(b["max_range_model_m"]) in r.out and "log-distance" in r.out
+
+
+def test_match_sweep_chooses_which_input_is_matched(cli, bench):
+    files = [str(bench / f"ant_r{k}.s1p") for k in (1, 2, 3)]
+    out = bench / "m.html"
+    r = cli("report", *files, "--match-band", "902MHz:928MHz", "--match-sweep", files[2], "--kind", "return-loss",
+            "--out", out)
+    assert r.code == 0, r.err
+    doc = cli("match", files[2], "--band", "902MHz:928MHz", "--json").json()
+    best = doc["candidates"][0]
+    text = out.read_text()
+    match_html = text[text.index('<section id="match"'):text.index('<section id="traceability"')]
+    assert "For ant_r3.s1p over 902-928 MHz" in html.unescape(match_html)
+    assert tables(text)["candidates"][1][3] == f"{best['worst_return_loss_db']:.2f}"
+    r = cli("report", *files, "--match-band", "902MHz:928MHz", "--match-sweep", bench / "other.s1p", "--out",
+            bench / "x.html")
+    assert r.code == 2 and "--match-sweep" in r.err and not (bench / "x.html").exists()

@@ -56,7 +56,7 @@ def test_vswr_two_resistor_gives_table_values_and_no_threshold_band():
     assert w.worst_s11_db == pytest.approx(-9.5424, abs=1e-4)
     assert w.passed is False and w.margin_db == pytest.approx(9.5424 - 10.0, abs=1e-4)
     assert c.rows[0].bandwidth_hz is None and c.rows[0].delta_bandwidth_hz is None
-    assert c.verdicts[0].passing_files == [] and c.verdicts[0].best_file == "r100"
+    assert c.verdicts[0].passing_files == () and c.verdicts[0].best_file == "r100"
 
 
 def test_worst_case_includes_interpolated_band_edges_of_a_coarse_sweep():
@@ -81,7 +81,7 @@ def test_band_outside_the_sweep_is_not_covered_and_fails_its_limit():
     assert not w.covered and w.worst_return_loss_db is None and w.passed is False
     assert "does not cover" in w.reason
     assert any("does not cover" in m and m.startswith("a:") for m in c.warnings)
-    assert c.verdicts[0].best_file is None and c.verdicts[0].uncovered_files == ["a"]
+    assert c.verdicts[0].best_file is None and c.verdicts[0].uncovered_files == ("a",)
 
 
 def test_per_band_deltas_and_best_revision():
@@ -150,10 +150,10 @@ def test_spec_rows_are_the_spec_evaluation_and_best_is_the_largest_margin():
         assert row.spec == evaluate(sw, spec)
     ism, far, res = c.spec_verdicts
     # b and c are the same antenna: a tie, the first one wins; d matches them in-band too
-    assert ism.best_file == "b" and ism.passing_files == ["b", "c", "d"] and ism.failing_files == ["a"]
-    assert res.key == "resonance" and res.best_file == "b" and res.failing_files == ["a"]
+    assert ism.best_file == "b" and ism.passing_files == ("b", "c", "d") and ism.failing_files == ("a",)
+    assert res.key == "resonance" and res.best_file == "b" and res.failing_files == ("a",)
     # the sweep that does not cover a band fails it and does not compete for best
-    assert far.unevaluated_files == ["d"] and "d" in far.failing_files and far.best_file != "d"
+    assert far.unevaluated_files == ("d",) and "d" in far.failing_files and far.best_file != "d"
     assert c.spec_failed
     # deltas against the baseline: margin minus the baseline's margin
     assert c.rows[1].delta_margin[0] == pytest.approx(c.rows[1].spec.requirements[0].margin_db
@@ -163,4 +163,4 @@ def test_spec_rows_are_the_spec_evaluation_and_best_is_the_largest_margin():
 
 def test_without_spec_there_are_no_spec_results():
     c = compare([rlc_sweep("a", 900e6)], 10.0, [("ism", 902e6, 928e6, 10.0)])
-    assert c.spec_path is None and c.spec_verdicts == [] and not c.spec_failed and c.rows[0].spec is None
+    assert c.spec_path is None and c.spec_verdicts == () and not c.spec_failed and c.rows[0].spec is None

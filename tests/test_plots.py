@@ -343,3 +343,70 @@ def test_band_outside_the_sweep_keeps_the_layout_and_labels_in_view():
     x_mhz = edge.xy[0]
     assert 800.0 <= x_mhz <= 820.0  # over the visible part of the band, not at its centre 800 MHz
     assert x_mhz == pytest.approx(810.0)
+
+
+def _texts(ax):
+    return [c for c in ax.get_children() if hasattr(c, "get_text") and c.get_text()]
+
+
+def test_nested_band_names_sit_on_their_own_rows_above_the_plot_with_their_limits():
+    t = rlc_trace()
+    bands = [plots.BandMask("ism", 902e6, 928e6, 10.0), plots.BandMask("ism guard", 895e6, 935e6, 6.0206)]
+    fig = plots.figure([t], ["return-loss", "vswr"], 10.0, bands)
+    for kind in ("return-loss", "vswr"):
+        a, b = by_gid(fig, f"{kind}:bandlabel:ism"), by_gid(fig, f"{kind}:bandlabel:ism guard")
+        # above the axes (y = 1 in axes fraction, offset upward), one row apart: never stacked on one region
+        assert a.xy[1] == b.xy[1] == 1.0 and a.xyann[1] > 0 and b.xyann[1] > 0
+        assert abs(a.xyann[1] - b.xyann[1]) >= plots.BAND_ROW_PT
+        assert "ism: " in a.get_text() and "ism guard: " in b.get_text()  # the limit is named with its band
+    assert by_gid(fig, "return-loss:bandlabel:ism guard").get_text() == "ism guard: RL >= 6.02 dB"
+    # no limit label inside the plot, where a best-match mark could sit on it
+    inside = [x.get_text() for x in _texts(fig.axes[0]) if ">=" in x.get_text() and getattr(x, "xyann", (0, 1))[1] <= 0]
+    assert inside == []
+
+
+def test_marks_are_matchtools_own_open_hexagons_and_tinted_limits_not_triangles_or_hatching():
+    t = rlc_trace()
+    fig = plots.figure([t], ["return-loss", "vswr", "smith"], 10.0, [plots.BandMask("ism", 902e6, 928e6, 12.0)])
+    for kind in ("return-loss", "vswr", "smith"):
+        best = by_gid(fig, f"{kind}:best:ant.s1p")
+        assert best.get_marker() == plots.BEST_MARKER == "H" and best.get_markerfacecolor() in ("white", "w", (1, 1, 1, 1))
+        assert best.get_clip_on() is False  # a VSWR near 1 is not cut at the axis floor
+    for kind in ("return-loss", "vswr"):
+        fill = by_gid(fig, f"{kind}:maskfill:ism")
+        assert not fill.get_hatch() and 0 < fill.get_alpha() < 0.3
+
+
+def test_vswr_best_mark_at_the_floor_is_whole():
+    # a perfect match at one sample: VSWR 1 sits on the axis floor (the axis starts at 1)
+    f = np.linspace(800e6, 1000e6, 201)
+    g = gamma_of(series_rlc_z(f, 50.0, L_H, 900e6))
+    t = plots.trace_from_sweep(sweep_from_arrays(f, g, 50.0, path="/x/p.s1p"), 10.0)
+    fig = plots.figure([t], ["vswr"], 10.0)
+    best = by_gid(fig, "vswr:best:p.s1p")
+    assert best.get_ydata()[0] == pytest.approx(1.0, abs=1e-6) and fig.axes[0].get_ylim()[0] == 1.0
+    assert best.get_clip_on() is False
+
+
+def test_smith_edges_are_named_in_the_legend_not_written_over_the_chart():
+    f = np.linspace(2.3e9, 2.6e9, 601)
+    g = gamma_of(series_rlc_z(f, 50.0, 8e-9, 2.44e9))
+    t = plots.trace_from_sweep(sweep_from_arrays(f, g, 50.0, path="/x/pcb.s1p"), 10.0)
+    bands = [plots.BandMask("2.4 GHz ISM", 2400e6, 2483.5e6, 10.0)]
+    fig = plots.figure([t], ["smith"], 10.0, bands)
+    ax = fig.axes[0]
+    assert not [x for x in _texts(ax) if "2483" in x.get_text() or "2400" in x.get_text()]
+    labels = [x.get_text() for x in ax.get_legend().get_texts()]
+    assert "2.4 GHz ISM edges: 2400 / 2483.5 MHz" in labels  # the edge at the digits it was given
+
+
+def test_a_picture_that_stands_alone_explains_its_marks():
+    t = rlc_trace()
+    bands = [plots.BandMask("ism", 902e6, 928e6, 10.0)]
+    alone = plots.figure([t], ["return-loss"], 10.0, bands)
+    labels = [x.get_text() for x in alone.axes[0].get_legend().get_texts()]
+    for must in ("best match of each trace", "bars: where a trace crosses the threshold",
+                 "tint: beyond a band's limit (line: the limit)", "grey: a band (named above the plot)"):
+        assert must in labels, must
+    in_report = plots.figure([t], ["return-loss"], 10.0, bands, explain=False)  # the caption explains
+    assert not [x for x in in_report.axes[0].get_legend().get_texts() if "best match of" in x.get_text()]

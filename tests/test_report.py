@@ -159,3 +159,51 @@ def test_report_exit_status_follows_spec_bands(cli, tmp_path):
     r = cli("report", r1, "--spec", spec, "--kind", "return-loss", "--out", out)
     assert r.code == 1 and out.exists()  # failing spec: still written, exit 1
     assert "FAIL" in out.read_text()
+
+
+def test_text_cells_keep_a_number_with_its_unit_and_numeric_cells_never_wrap():
+    t = h.table(["band", "width"], [["2.000 GHz to 2.4835 GHz", "12.3 MHz"]], [False, True])
+    assert "2.000&nbsp;GHz to 2.4835&nbsp;GHz" in t and '<td class="num">12.3 MHz</td>' in t
+    assert "td.num, th { white-space: nowrap; }" in h.CSS
+
+
+def test_no_command_imports_another_command():
+    import ast
+    from pathlib import Path
+
+    commands = Path(matchtool.__file__).parent / "commands"
+    shared = {"options", "common", "__init__"}
+    names = {p.stem for p in commands.glob("*.py")} - shared
+    for stem in ("compare", "budget", "plot", "report"):
+        tree = ast.parse((commands / f"{stem}.py").read_text())
+        for node in ast.walk(tree):
+            if isinstance(node, ast.ImportFrom) and node.level == 1:
+                assert (node.module or "").split(".")[0] not in names, (stem, node.module)
+
+
+def test_a_report_section_of_another_capability_is_one_registry_line(cli, tmp_path, monkeypatch):
+    import sys
+    import types
+
+    from matchtool.render import report as page
+
+    mod = types.ModuleType("matchtool.render.report_fake")
+    mod.section_html = lambda result: f"<p>{h.esc(result)}</p>"
+    monkeypatch.setitem(sys.modules, "matchtool.render.report_fake", mod)
+    monkeypatch.setattr(page, "SECTIONS", [*page.SECTIONS, page.from_extra("fake", "Fake capability")])
+    import matchtool.report as core
+
+    real = core.build_report
+
+    def with_extra(*a, **k):
+        import dataclasses
+
+        return dataclasses.replace(real(*a, **k), extras={"fake": "q = 42 <ok>"})
+
+    monkeypatch.setattr("matchtool.commands.report.build_report", with_extra)
+    out = tmp_path / "x.html"
+    r1 = write_rlc(tmp_path / "r1.s1p")
+    assert cli("report", r1, "--kind", "return-loss", "--out", out).code == 0
+    text = out.read_text()
+    assert '<section id="fake"><h2>Fake capability</h2>' in text and "q = 42 &lt;ok&gt;" in text
+    assert text.index('id="fake"') < text.index('id="traceability"')

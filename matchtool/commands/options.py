@@ -4,11 +4,14 @@ typed)."""
 
 from __future__ import annotations
 
-from typing import Annotated
+import math
+import re
+from typing import Annotated, Any
 
 import typer
 
-from ..units import parse_frequency
+from ..errors import UsageError
+from ..units import parse_band, parse_frequency
 
 PortOpt = Annotated[int, typer.Option("--port", metavar="N", help="Port N whose reflection S_NN is analysed (1-based).")]
 Z0Opt = Annotated[float | None, typer.Option(
@@ -59,6 +62,8 @@ PARAMETER_FLAGS: dict[str, str] = {
     "at_hz": "--at",
     "radius_m": "--radius",
     "capped": "--capped",
+    "min_band_width_hz": "--min-band-width",
+    "pick": "--pick",
 }
 
 
@@ -101,3 +106,149 @@ def loss_ref_hz(text: str | None) -> float:
 def frequencies(values: list[str] | None) -> list[float]:
     """Parse repeatable frequency options (``915MHz``, ``2.45 GHz``, ``868e6``) into Hz."""
     return [parse_frequency(v) for v in values or []]
+
+
+# --- bands, spec, threshold-band width (compare, plot, report; inspect may add MinBandWidthOpt) ------
+
+BandOpt = Annotated[list[str] | None, typer.Option(
+    "--band", metavar="[NAME=]LOW:HIGH",
+    help="Band of interest (repeatable), e.g. 902MHz:928MHz or ism=902MHz:928MHz; the threshold is its limit.")]
+SpecOpt = Annotated[str | None, typer.Option(
+    "--spec", metavar="FILE",
+    help="Spec file (TOML, as for 'matchtool check'): every requirement is evaluated for each file.")]
+MinBandWidthOpt = Annotated[str | None, typer.Option(
+    "--min-band-width", metavar="FREQ",
+    help="Narrowest threshold band that counts, e.g. 1MHz; narrower crossings are listed apart as noise-level "
+         "crossings [default: 0.1 % of the sweep's span, and at least 2 samples].")]
+
+
+def min_band_width(text: str | None) -> float | None:
+    """``--min-band-width`` in Hz (None: the default rule of ``bands.search_bands``)."""
+    if text is None:
+        return None
+    f = parse_frequency(text)
+    if f < 0:
+        raise UsageError("must not be negative", parameter="min_band_width_hz", value=text)
+    return f
+
+
+def band_options(values: list[str] | None, limit_return_loss_db: float | None) -> list[Any]:
+    """``[NAME=]LOW:HIGH`` options -> ``compare.BandOfInterest`` list (duplicate names refused)."""
+    from ..compare import BandOfInterest, band_name
+
+    out: list[BandOfInterest] = []
+    for v in values or []:
+        name, sep, rest = v.partition("=")
+        if not sep:
+            name, rest = "", v
+        lo, hi = parse_band(rest)
+        if sep and not name.strip():
+            raise UsageError(f"--band {v!r} has an empty name", expected="NAME=LOW:HIGH or LOW:HIGH")
+        name = name.strip() or band_name(lo, hi)
+        if any(b.name == name for b in out):
+            raise UsageError(f"--band {v!r}: the name {name!r} is given twice", expected="distinct band names")
+        out.append(BandOfInterest(name, lo, hi, limit_return_loss_db))
+    return out
+
+
+def require_bands_in_sweeps(bands, sweeps) -> None:
+    """Refuse a --band that no sweep reaches at all (never extrapolated); a band that a sweep
+    covers only in part is still evaluated and reported as not covered by that sweep."""
+    from ..errors import OutOfRangeError
+
+    for b in bands:
+        if not any(s.f_hz[0] <= b.f_high_hz and b.f_low_hz <= s.f_hz[-1] for s in sweeps):
+            raise OutOfRangeError(
+                f"--band {b.name!r} ({b.f_low_hz / 1e6:.6g} to {b.f_high_hz / 1e6:.6g} MHz) lies outside every sweep",
+                expected="a band inside the measured range (never extrapolated)")
+
+
+def spec_option(path: str | None, port: int, z0_ohm: float | None):
+    """Load ``--spec`` (as ``matchtool check`` does) and return ``(spec, port, z0_ohm)`` to load the
+    sweeps with: the spec's port and system impedance. ``--port`` / ``--z0`` that contradict the
+    spec are refused, so a file is never judged on another reflection than ``check`` would use."""
+    from ..spec import load_spec
+
+    if path is None:
+        return None, port, z0_ohm
+    spec = load_spec(path)
+    if port != 1 and port != spec.port:
+        raise UsageError(f"--port {port} contradicts the spec's port = {spec.port}", path=path,
+                         expected="no --port, or the spec's port")
+    if z0_ohm is not None and (spec.z0_ohm is None or abs(z0_ohm - spec.z0_ohm) > 1e-9 * spec.z0_ohm):
+        have = "no z0_ohm (each file's own reference)" if spec.z0_ohm is None else f"z0_ohm = {spec.z0_ohm:g}"
+        raise UsageError(f"--z0 {z0_ohm:g} contradicts the spec's {have}", path=path,
+                         expected="no --z0 with --spec (set z0_ohm in the spec file)")
+    return spec, spec.port, spec.z0_ohm
+
+
+# --- the match options that plot and report share with `matchtool match` (same flags and defaults;
+# written here so that no command imports another; match.py may import them from here) -----------
+
+SeriesOpt = Annotated[str, typer.Option("--series", metavar="exact|E12|E24|E48|E96",
+                                        help="Part values: exact, or the nearest standard values of a series.")]
+QInductorOpt = Annotated[float | None, typer.Option("--q-inductor", metavar="Q",
+                                                    help="Inductor Q (constant-Q model) [default: ideal].")]
+QCapacitorOpt = Annotated[float | None, typer.Option("--q-capacitor", metavar="Q",
+                                                     help="Capacitor Q (constant-Q model) [default: ideal].")]
+CRangeOpt = Annotated[str | None, typer.Option("--c-range", metavar="LOW:HIGH",
+                                               help="Capacitor values allowed, e.g. 0.5pF:100nF [default: 0.1pF:100nF].")]
+LRangeOpt = Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
+                                               help="Inductor values allowed, e.g. 1nH:10uH [default: 0.5nH:10uH].")]
+PickOpt = Annotated[int, typer.Option("--pick", metavar="N", help="Match: which ranked network to draw (1 = best).")]
+
+_PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "\u00b5": 1e-6, "m": 1e-3}
+
+
+def part_value(text: str, unit: str, option: str) -> float:
+    """``'0.1pF'``, ``'10 uH'``, ``'2.2e-12'`` -> value in SI (F or H)."""
+    m = re.fullmatch(rf"\s*([0-9.]+(?:[eE][-+]?\d+)?)\s*([fpnu\u00b5m]?)\s*(?:{unit})?\s*", str(text))
+    try:
+        v = float(m.group(1)) * _PREFIX[m.group(2)] if m else math.nan
+    except ValueError:
+        v = math.nan
+    if math.isnan(v):
+        raise UsageError(f"cannot read part value {text!r}", key=option, expected=f"a value such as 2.2p{unit} or 2.2e-12")
+    if not (v > 0 and math.isfinite(v)):
+        raise UsageError(f"part value {text!r}", key=option, expected="a positive value")
+    return v
+
+
+def value_range(text: str | None, unit: str, option: str, default: tuple[float, float]) -> tuple[float, float]:
+    """``'0.1pF:100nF'`` -> (low, high) in SI; None gives ``default``."""
+    if text is None:
+        return default
+    parts = str(text).split(":")
+    if len(parts) != 2:
+        raise UsageError(f"cannot read range {text!r}", key=option, expected=f"LOW:HIGH, e.g. 0.5n{unit}:10u{unit}")
+    lo, hi = (part_value(p, unit, option) for p in parts)
+    if not hi > lo:
+        raise UsageError(f"range {text!r} has its high end at or below its low end", key=option)
+    return lo, hi
+
+
+def quality(value: float | None, option: str) -> float:
+    """A --q-inductor / --q-capacitor value: None means an ideal part (infinite Q); Q must be positive."""
+    if value is None:
+        return math.inf
+    if not (value > 0):
+        raise UsageError(f"quality factor {value:g}", key=option, expected="a positive Q")
+    return float(value)
+
+
+def match_request(at: str | float | None, band: str | tuple[float, float] | None, series: str = "E24",
+                  q_inductor: float | None = None, q_capacitor: float | None = None, c_range: str | None = None,
+                  l_range: str | None = None, pick: int = 1, option_names: tuple[str, str] = ("--at", "--band")):
+    """The match options -> a ``proposal.MatchRequest`` (target in Hz, parts, bounds, rank)."""
+    from ..matching import PartQ, ValueBounds
+    from ..proposal import MatchRequest
+
+    if (at is None) == (band is None):
+        raise UsageError(f"give exactly one of {option_names[0]} FREQ or {option_names[1]} LOW:HIGH for the match")
+    q = PartQ(quality(q_inductor, "--q-inductor"), quality(q_capacitor, "--q-capacitor"))
+    c_lo, c_hi = value_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
+    l_lo, l_hi = value_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
+    f0 = None if at is None else (parse_frequency(at) if isinstance(at, str) else float(at))
+    target = None if band is None else (parse_band(band) if isinstance(band, str) else (float(band[0]), float(band[1])))
+    return MatchRequest(f0_hz=f0, band_hz=target, series=series, q=q, bounds=ValueBounds(c_lo, c_hi, l_lo, l_hi),
+                        pick=pick)

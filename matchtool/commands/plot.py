@@ -1,34 +1,55 @@
 """``matchtool plot SWEEP... --out FILE``: return loss / S11 dB, VSWR, Smith chart, impedance.
 
 ``--match`` draws a before/after view of a proposed L-network (the same design as ``matchtool
-match``): the measured sweep and the sweep seen through the network, with the network named in the
-title and legend. The match option types and :func:`propose_match` are shared with ``report``.
+match``, through :func:`matchtool.proposal.propose`). ``--spec`` also judges every file as
+``matchtool check`` does: a verdict line, and exit status 1 when a requirement fails.
 """
 
 from __future__ import annotations
 
-import math
-from dataclasses import dataclass
 from typing import Annotated
 
-import numpy as np
 import typer
 
-from .. import matching as mt
-from ..errors import UsageError
+from ..compare import revisions, spec_band_limits
+from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write, check_output
+from ..proposal import ProposedMatch, propose
+from ..render.json_contract import emit_json, plot_doc
+from ..render.plots import match_traces  # noqa: F401  (re-exported: the before/after traces)
+from ..render.text import warn
+from ..render.words import network_text, spec_verdict_line  # noqa: F401  (network_text re-exported)
 from ..summary import threshold_from_options
-from ..sweep import Sweep, load
-from ..units import parse_band, parse_frequency
-from .common import ForceOpt, JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt, emit_json, warn
-from .compare import BandOpt, SpecOpt, parse_band_options, read_spec, require_bands_in_sweeps, spec_bands
-from .match import CRangeOpt, LRangeOpt, QCapacitorOpt, QInductorOpt, SeriesOpt, part_q
+from ..sweep import load
+from .options import (
+    BandOpt,
+    CRangeOpt,
+    ForceOpt,
+    JsonOpt,
+    LRangeOpt,
+    MaxS11Opt,
+    MaxVswrOpt,
+    MinRLOpt,
+    PickOpt,
+    PortOpt,
+    QCapacitorOpt,
+    QInductorOpt,
+    SeriesOpt,
+    SpecOpt,
+    Z0Opt,
+    band_options,
+    match_request,
+    require_bands_in_sweeps,
+    spec_option,
+)
 
 EPILOG = """Examples:
 
   matchtool plot ant_r2.s1p --out r2.png
 
   matchtool plot r1.s1p r2.s1p r3.s1p --band ism=902MHz:928MHz --out revisions.svg
+
+  matchtool plot r1.s1p r2.s1p r3.s1p --spec spec_915.toml --out revisions.png
 
   matchtool plot ant.s1p --kind return-loss,smith --kind vswr --kind impedance --out panels.pdf
 
@@ -41,7 +62,11 @@ EPILOG = """Examples:
 Kinds: return-loss (positive dB, higher is better), s11-db (S11 in dB = -return loss), vswr,
 smith (impedance chart, markers at band edges), impedance (R and X in ohms). Several kinds give
 several panels in one picture. The threshold (default return loss 10 dB) is drawn as a line and
-is the limit drawn as a hatched mask over every --band.
+is the limit drawn over every --band (a tinted region beyond a limit line). A key under the
+panels says what each mark means.
+
+--spec draws the spec's bands and limits and judges every file as 'matchtool check' does: the
+picture is written, a verdict line is printed, and the exit status is 1 when a requirement fails.
 
 --match (one SWEEP) designs the L-network as 'matchtool match' does, for --at FREQ or for the one
 --band, and draws the measured sweep and the sweep with the network in place (default kinds
@@ -52,100 +77,27 @@ KindOpt = Annotated[list[str] | None, typer.Option(
     "--kind", metavar="KIND",
     help="return-loss, s11-db, vswr, smith or impedance; repeat or comma-separate for several panels "
          "[default: return-loss].")]
-
-# The part options of `matchtool match` (same names, meanings and defaults), for plot and report.
-PickOpt = Annotated[int, typer.Option("--pick", metavar="N", help="Match: which ranked network to draw (1 = best).")]
 MatchAtOpt = Annotated[str | None, typer.Option("--at", metavar="FREQ",
                                                 help="Match at one frequency, e.g. 915MHz (with --match).")]
 
 
-@dataclass(frozen=True)
-class ProposedMatch:
-    """A ranked network from :mod:`matchtool.matching` and the sweep seen through it.
-
-    ``gamma_after`` is ``matching.gamma_matched(sweep, candidate.elements, result.q)``: complex
-    Gamma at the radio side, at the sweep's reference impedance, on the sweep's frequencies."""
-
-    sweep: Sweep
-    result: mt.MatchResult
-    pick: int
-    candidate: mt.Candidate
-    gamma_after: np.ndarray
+class ShownMatch(ProposedMatch):
+    """A ProposedMatch that also names its network (for callers of :func:`propose_match`)."""
 
     @property
     def network_text(self) -> str:
-        """``series L 12 nH, shunt C 3.3 pF`` (radio side first)."""
         return network_text(self.candidate.elements)
 
-    @property
-    def target_text(self) -> str:
-        r = self.result
-        if r.f_low_hz is None:
-            return f"at {r.f0_hz / 1e6:.6g} MHz"
-        return f"over {r.f_low_hz / 1e6:.6g}-{r.f_high_hz / 1e6:.6g} MHz"
 
+def propose_match(sweep, at, band, threshold_return_loss_db: float, series: str = "E24", q_inductor=None,
+                  q_capacitor=None, c_range=None, l_range=None, pick: int = 1,
+                  option_names: tuple[str, str] = ("--at", "--band")):
+    """The match options as ``matchtool match`` reads them -> :func:`matchtool.proposal.propose`."""
+    from dataclasses import fields
 
-def network_text(elements) -> str:
-    """Parts in order from the radio side: ``series L 12 nH, shunt C 3.3 pF``."""
-    from .match import part_value_text
-
-    return ", ".join(f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}" for e in elements)
-
-
-def q_text(q: float) -> str:
-    """A part Q for people: ``40``, or ``ideal`` for a lossless part (infinite Q)."""
-    return "ideal" if math.isinf(q) else f"{q:g}"
-
-
-def propose_match(sweep: Sweep, at: str | float | None, band: str | tuple[float, float] | None,
-                  threshold_return_loss_db: float, series: str = "E24", q_inductor: float | None = None,
-                  q_capacitor: float | None = None, c_range: str | None = None, l_range: str | None = None,
-                  pick: int = 1, option_names: tuple[str, str] = ("--at", "--band")) -> ProposedMatch:
-    """Design as ``matchtool match`` does (``at`` a frequency, or ``band`` ``'LOW:HIGH'`` or a
-    (low, high) tuple in Hz; exactly one) and return the ``pick``-th ranked network (1-based)."""
-    from .match import parse_range
-
-    if (at is None) == (band is None):
-        raise UsageError(f"give exactly one of {option_names[0]} FREQ or {option_names[1]} LOW:HIGH for the match")
-    q = mt.PartQ(part_q(q_inductor, "--q-inductor"), part_q(q_capacitor, "--q-capacitor"))
-    c_lo, c_hi = parse_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
-    l_lo, l_hi = parse_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
-    bounds = mt.ValueBounds(c_lo, c_hi, l_lo, l_hi)
-    if pick < 1:
-        raise UsageError(f"--pick {pick}", expected="a rank of 1 or more")
-    n = max(6, pick)
-    if at is not None:
-        f0 = parse_frequency(at) if isinstance(at, str) else float(at)
-        r = mt.design_at(sweep, f0, series=series, q=q, bounds=bounds, threshold_db=threshold_return_loss_db,
-                         max_candidates=n)
-    else:
-        lo, hi = parse_band(band) if isinstance(band, str) else (float(band[0]), float(band[1]))
-        r = mt.design_for_band(sweep, lo, hi, series=series, q=q, bounds=bounds, threshold_db=threshold_return_loss_db,
-                               max_candidates=n)
-    if pick > len(r.candidates):
-        raise UsageError(f"--pick {pick}", expected=f"a rank from 1 to {len(r.candidates)} (networks found)")
-    cand = r.candidates[pick - 1]
-    return ProposedMatch(sweep, r, pick, cand, mt.gamma_matched(sweep, cand.elements, q))
-
-
-def match_traces(pm: ProposedMatch, threshold_return_loss_db: float, label: str | None = None) -> list:
-    """The before/after traces: the measured sweep, then the sweep through the network."""
-    from ..render import plots
-
-    name = label or pm.sweep.name
-    before = plots.trace_from_sweep(pm.sweep, threshold_return_loss_db, f"{name} measured")
-    after = plots.trace_from_arrays(f"{name} + #{pm.pick}: {pm.network_text}", pm.sweep.f_hz, pm.gamma_after,
-                                    pm.result.z0_ohm, threshold_return_loss_db)
-    return [before, after]
-
-
-def match_title(pm: ProposedMatch, label: str | None = None) -> str:
-    """Title naming the network: parts from the radio side, target, worst return loss before -> after."""
-    r, c = pm.result, pm.candidate
-    return (f"Proposed match for {label or pm.sweep.name} {pm.target_text}\n"
-            f"radio side first: {pm.network_text}\n"
-            f"worst return loss over the target {r.before_worst_return_loss_db:.2f} dB -> "
-            f"{c.worst_return_loss_db:.2f} dB (network #{pm.pick} of {len(r.candidates)}, {r.series} values)")
+    req = match_request(at, band, series, q_inductor, q_capacitor, c_range, l_range, pick, option_names)
+    pm = propose(sweep, req, threshold_return_loss_db)
+    return ShownMatch(*(getattr(pm, f.name) for f in fields(pm)))
 
 
 def register(app: typer.Typer) -> None:
@@ -183,7 +135,6 @@ def register(app: typer.Typer) -> None:
         kinds = plots.parse_kinds(kind or (["return-loss,smith"] if match else None))
         if at is not None and not match:
             raise UsageError("--at is a match option", expected="--match --at FREQ")
-        target = None
         if match:
             if len(sweeps) != 1:
                 raise UsageError(f"--match draws one sweep, {len(sweeps)} given", expected="one SWEEP with --match")
@@ -192,30 +143,53 @@ def register(app: typer.Typer) -> None:
                                  expected="e.g. --match --band 902MHz:928MHz")
         check_output(out, force)
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
-        bands = parse_band_options(band, thr)
-        if match and at is None:
-            target = (bands[0][1], bands[0][2])
-        the_spec, port, z0 = read_spec(spec, port, z0)
-        if the_spec is not None:
-            bands += spec_bands(the_spec)
+        bands = band_options(band, thr)
+        the_spec, port, z0 = spec_option(spec, port, z0)
+        shaded = bands + ([] if the_spec is None else list(spec_band_limits(the_spec, bands)))
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
-        require_bands_in_sweeps(bands, loaded)
+        require_bands_in_sweeps(shaded, loaded)
+        if kinds[0] in plots.FIGURE_KINDS:  # another capability's own picture (one sweep, one kind)
+            if len(loaded) != 1 or match:
+                raise UsageError(f"--kind {kinds[0]} draws one sweep", expected="one SWEEP, without --match")
+            compute, draw = plots.figure_kind(kinds[0])
+            import io
+
+            buf = io.BytesIO()
+            result = compute(loaded[0])
+            draw(result, buf, fmt)
+            atomic_write(out, buf.getvalue(), force=force)
+            warnings = list(loaded[0].warnings) + list(getattr(result, "warnings", ()))
+            if json_out:
+                emit_json(plot_doc(out, sweeps, kinds, warnings))
+            else:
+                print(f"wrote {out}")
+                warn(warnings)
+            return ExitStatus.OK
         labels = plots.legend_labels([s.path for s in loaded])
         warnings = [w for s in loaded for w in s.warnings]
+        verdict = None if the_spec is None else revisions(loaded, thr, spec=the_spec)
+        if verdict is not None:
+            warnings += [w for w in verdict.warnings if w not in warnings]
         if match:
+            target = None if at is not None else (bands[0].f_low_hz, bands[0].f_high_hz)
             pm = propose_match(loaded[0], at, target, thr, series, q_inductor, q_capacitor, c_range, l_range, pick)
             traces = match_traces(pm, thr, labels[0])
-            title = title or match_title(pm, labels[0])
-            warnings += [w for w in pm.result.warnings if w not in warnings]
+            title = title or plots.match_title(pm, labels[0])
+            warnings += [w for w in pm.warnings if w not in warnings]
         else:
             traces = [plots.trace_from_sweep(s, thr, lab) for s, lab in zip(loaded, labels, strict=True)]
-        masks = [plots.BandMask(n, lo, hi, lim) for n, lo, hi, lim in bands]
+        masks = [plots.BandMask(b.name, b.f_low_hz, b.f_high_hz, b.limit_return_loss_db) for b in shaded]
         fig = plots.figure(traces, kinds, thr, masks, title)
         atomic_write(out, plots.figure_bytes(fig, fmt), force=force)
+        failed = verdict is not None and verdict.spec_failed
         if json_out:
-            emit_json({"out": str(out), "inputs": [str(x) for x in sweeps], "kinds": list(kinds),
-                       "warnings": list(warnings)})
+            emit_json(plot_doc(out, sweeps, kinds, warnings, None if verdict is None else not failed,
+                               () if verdict is None else verdict.failing_files))
         else:
             print(f"wrote {out}")
+            if verdict is not None:
+                shown = dict(zip([s.path for s in loaded], labels, strict=True))
+                print(f"spec {the_spec.path}: " + spec_verdict_line(verdict, shown))
             warn(warnings)
-        return 0
+        # exit 1 for a failing spec requirement (the picture is still written); --band limits inform
+        return ExitStatus.FAIL if failed else ExitStatus.OK

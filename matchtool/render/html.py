@@ -60,10 +60,18 @@ def table(headers: Sequence[str], rows: Iterable[Sequence[object]], numeric: Seq
     out.append("<thead><tr>" + "".join(f"<th{num if n else ''}>{esc(h)}</th>"
                                           for h, n in zip(headers, numeric, strict=True)) + "</tr></thead><tbody>")
     for row in rows:
-        out.append("<tr>" + "".join(f"<td{num if n else ''}>{esc(c)}</td>"
+        out.append("<tr>" + "".join(f"<td{num if n else ''}>{esc(c) if n else _glue(esc(c))}</td>"
                                     for c, n in zip(row, numeric, strict=True)) + "</tr>")
     out.append("</tbody></table>")
     return "".join(out)
+
+
+_NUMBER_UNIT = re.compile(r"(\d) (?=(?:[kMG]?Hz|dBm?|k?m|%|ohm|ratio|[pnu]?[FH])\b)")
+
+
+def _glue(text: str) -> str:
+    """Keep a number and its unit on one line in a text cell (numeric cells never wrap at all)."""
+    return text if isinstance(text, Raw) else _NUMBER_UNIT.sub("\\1&nbsp;", text)
 
 
 def definition_list(items: Iterable[tuple[str, object]]) -> str:
@@ -130,6 +138,9 @@ caption { text-align: left; font-weight: 600; padding: .2rem 0; }
 th, td { border-bottom: 1px solid var(--rule); padding: .25rem .6rem; text-align: left; vertical-align: top; }
 th { background: var(--soft); font-weight: 600; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
+td.num, th { white-space: nowrap; }  /* "2.000 GHz" never breaks into "2.000" / "GHz" */
+table { display: block; max-width: 100%; overflow-x: auto; }  /* a wide table scrolls, the page does not */
+ol.steps { font-size: .9rem; margin: .3rem 0 .6rem; }
 dl { display: grid; grid-template-columns: max-content 1fr; gap: .15rem 1rem; font-size: .9rem; }
 dt { font-weight: 600; } dd { margin: 0; word-break: break-all; }
 figure { margin: 1rem 0 1.6rem; page-break-inside: avoid; }

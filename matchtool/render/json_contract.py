@@ -58,6 +58,37 @@ def inspect_doc(s) -> dict[str, Any]:
     }
 
 
+def _port_line(s) -> dict[str, Any]:
+    """One port's best match and bands (a ``summary.SweepSummary``)."""
+    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands]}
+
+
+def inspect_overview_doc(m) -> dict[str, Any]:
+    """``inspect --json`` of an N-port file without ``--port`` (a ``summary.PortsSummary``): the
+    one-port document of ``detail_port``, plus ``nports`` and ``port_summary`` (every port's best
+    match and bands)."""
+    doc = inspect_doc(m.port(m.detail_port))
+    doc["nports"] = m.nports
+    doc["port_summary"] = [_port_line(s) for s in m.ports]
+    doc["warnings"] = list(m.warnings)
+    return doc
+
+
+def inspect_ports_doc(m) -> dict[str, Any]:
+    """``inspect --json --port all`` (a ``summary.PortsSummary``): the file-level keys once, and
+    ``ports`` [ {``port``, ...the one-port keys...} ]."""
+    first = m.ports[0]
+    ports = []
+    for s in m.ports:
+        d = inspect_doc(s)
+        d.pop("warnings")
+        ports.append(d)
+    return {"file": m.path, "nports": m.nports, "z0_ohm": first.z0_ohm, "points": first.points,
+            "f_start_hz": first.f_start_hz, "f_stop_hz": first.f_stop_hz,
+            "threshold_return_loss_db": first.threshold_return_loss_db, "ports": ports,
+            "warnings": list(m.warnings)}
+
+
 # --- check ---------------------------------------------------------------------------------------
 
 def requirement_doc(r) -> dict[str, Any]:
@@ -149,37 +180,6 @@ def history_doc(h) -> dict[str, Any]:
         })
     return {"stores": list(h.stores), "filters": {"lot": h.lot, "since": _time(h.since), "spec": h.spec},
             "lots": lots, "warnings": list(h.warnings)}
-def _port_line(s) -> dict[str, Any]:
-    """One port's best match and bands (a ``summary.SweepSummary``)."""
-    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands]}
-
-
-def inspect_overview_doc(m) -> dict[str, Any]:
-    """``inspect --json`` of an N-port file without ``--port`` (a ``summary.PortsSummary``): the
-    one-port document of ``detail_port``, plus ``nports`` and ``port_summary`` (every port's best
-    match and bands)."""
-    doc = inspect_doc(m.port(m.detail_port))
-    doc["nports"] = m.nports
-    doc["port_summary"] = [_port_line(s) for s in m.ports]
-    doc["warnings"] = list(m.warnings)
-    return doc
-
-
-def inspect_ports_doc(m) -> dict[str, Any]:
-    """``inspect --json --port all`` (a ``summary.PortsSummary``): the file-level keys once, and
-    ``ports`` [ {``port``, ...the one-port keys...} ]."""
-    first = m.ports[0]
-    ports = []
-    for s in m.ports:
-        d = inspect_doc(s)
-        d.pop("warnings")
-        ports.append(d)
-    return {"file": m.path, "nports": m.nports, "z0_ohm": first.z0_ohm, "points": first.points,
-            "f_start_hz": first.f_start_hz, "f_stop_hz": first.f_stop_hz,
-            "threshold_return_loss_db": first.threshold_return_loss_db, "ports": ports,
-            "warnings": list(m.warnings)}
-
-
 # --- coupling ------------------------------------------------------------------------------------
 
 ECC_NOTE = ("ECC is computed from S-parameters, which assumes lossless antennas (1 - sum |S_nk|^2 is taken as "
@@ -413,3 +413,119 @@ def qfactor_doc(r) -> dict[str, Any]:
         "sphere_cap_resonance_radius_m": r.sphere_cap_resonance_radius_m,
         "warnings": list(r.warnings),
     }
+# --- compare -------------------------------------------------------------------------------------
+
+def _edges_doc(b) -> dict[str, Any]:
+    return {"f_low_hz": b.f_low_hz, "f_high_hz": b.f_high_hz, "clipped_low": b.clipped_low,
+            "clipped_high": b.clipped_high}
+
+
+def compare_doc(c) -> dict[str, Any]:
+    """The ``compare --json`` document of a ``compare.Comparison`` (contract keys plus every
+    threshold band, noise-level crossings, per-band worst cases and verdicts)."""
+    from .words import band_verdict_sentence, requirement_verdict_sentence
+
+    rows = []
+    for r in c.rows:
+        rows.append({
+            "file": r.file, "baseline": r.is_baseline, "best_f_hz": r.best_f_hz,
+            "best_return_loss_db": r.best_return_loss_db, "best_s11_db": -r.best_return_loss_db,
+            "bandwidth_hz": r.bandwidth_hz,
+            "band": None if r.band is None else _edges_doc(r.band),
+            "delta_best_f_hz": r.delta_best_f_hz, "delta_bandwidth_hz": r.delta_bandwidth_hz,
+            "threshold_bands": [dict(_edges_doc(t.band), bandwidth_hz=t.band.bandwidth_hz, holds_best=t.holds_best,
+                                     delta_center_hz=t.delta_center_hz, delta_bandwidth_hz=t.delta_bandwidth_hz)
+                                for t in r.threshold_bands],
+            "noise_crossings": [_edges_doc(b) for b in r.noise_crossings],
+            "bands": [{"name": w.name, "f_low_hz": w.f_low_hz, "f_high_hz": w.f_high_hz, "covered": w.covered,
+                       "limit_return_loss_db": w.limit_return_loss_db,
+                       "worst_return_loss_db": w.worst_return_loss_db, "worst_s11_db": w.worst_s11_db,
+                       "worst_f_hz": w.worst_f_hz, "worst_mismatch_loss_db": w.worst_mismatch_loss_db,
+                       "margin_db": w.margin_db, "pass": w.passed, "samples": w.samples,
+                       "delta_worst_return_loss_db": d, "reason": w.reason or None}
+                      for w, d in zip(r.bands, r.delta_worst_return_loss_db, strict=True)],
+        })
+        if r.spec is not None:
+            rows[-1]["spec_pass"] = r.spec.passed
+            rows[-1]["requirements"] = [dict(requirement_doc(q), delta_margin=d)
+                                        for q, d in zip(r.spec.requirements, r.delta_margin, strict=True)]
+    return {"baseline": c.baseline, "threshold_return_loss_db": c.threshold_return_loss_db, "rows": rows,
+            "band_verdicts": [{"name": v.name, "f_low_hz": v.f_low_hz, "f_high_hz": v.f_high_hz,
+                               "limit_return_loss_db": v.limit_return_loss_db, "best_file": v.best_file,
+                               "best_worst_return_loss_db": v.best_worst_return_loss_db,
+                               "passing_files": list(v.passing_files), "uncovered_files": list(v.uncovered_files),
+                               "verdict": band_verdict_sentence(v)} for v in c.verdicts],
+            "spec": c.spec_path,
+            "spec_verdicts": [{"name": v.name, "key": v.key, "unit": v.unit, "best_file": v.best_file,
+                               "best_margin": None if v.best is None else (
+                                   v.best.margin_db if v.best.margin_db is not None else v.best.margin_hz),
+                               "passing_files": list(v.passing_files), "failing_files": list(v.failing_files),
+                               "unevaluated_files": list(v.unevaluated_files),
+                               "verdict": requirement_verdict_sentence(v)}
+                              for v in c.spec_verdicts],
+            "pass": None if c.spec_path is None else not c.spec_failed,
+            "warnings": list(c.warnings)}
+
+
+# --- budget --------------------------------------------------------------------------------------
+
+def _end_doc(e) -> dict[str, Any]:
+    return {"source": e.source, "gamma_mag": e.gamma_mag, "mismatch_loss_db": e.mismatch_loss_db,
+            "gain_dbi": e.gain_dbi, "aperture_m2": e.aperture_m2, "cable_loss_db": e.cable_loss_db}
+
+
+def budget_point_doc(p) -> dict[str, Any]:
+    """Everything known at one frequency of a budget (a ``budget.BudgetPoint``)."""
+    return {
+        "f_hz": p.f_hz, "wavelength_m": p.wavelength_m,
+        "rows": [{"name": r.name, "value_db": r.value_db, "total_dbm": r.total_dbm} for r in p.rows],
+        "eirp_dbm": p.eirp_dbm, "received_power_dbm": p.received_power_dbm, "margin_db": p.margin_db,
+        "path_loss_db": p.path_loss_db, "free_space_path_loss_db": p.free_space_path_loss_db,
+        "polarization_loss_db": p.polarization_loss_db, "mismatch_loss_db": p.mismatch_loss_db,
+        "max_range_m": p.max_range_m, "zero_margin_range_m": p.zero_margin_range_m,
+        "max_range_model_m": p.max_range_model_m, "zero_margin_range_model_m": p.zero_margin_range_model_m,
+        "matched_range_m": p.matched_range_m, "mismatch_range_cost_m": p.mismatch_range_cost_m,
+        "mismatch_range_cost_fraction": p.mismatch_range_cost_fraction,
+        "tx": _end_doc(p.tx), "rx": _end_doc(p.rx),
+    }
+
+
+def budget_doc(res) -> dict[str, Any]:
+    """The ``budget --json`` document (a ``budget.BudgetResult``): the worst frequency's values at
+    the top (``max_range_m`` is the free-space range, as the contract says; ``max_range_model_m``
+    the range in the model in use), every frequency listed."""
+    w = res.worst
+    doc: dict[str, Any] = {"file": res.path}
+    doc.update(budget_point_doc(w))
+    doc.update({
+        "worst_f_hz": w.f_hz,
+        "distance_m": res.distance_m, "tx_power_dbm": res.tx_power_dbm,
+        "rx_sensitivity_dbm": res.rx_sensitivity_dbm, "fade_margin_db": res.fade_margin_db,
+        "required_margin_db": res.required_margin_db,
+        "path_loss_model": {"kind": res.path_loss_model, "exponent": res.path_loss_exponent,
+                            "reference_distance_m": res.reference_distance_m},
+        "eirp_limit_dbm": res.eirp_limit_dbm, "eirp_over_limit": res.eirp_over_limit,
+        "band": None if res.band is None else {"f_low_hz": res.band[0], "f_high_hz": res.band[1]},
+        "pass": res.closes,
+        "frequencies": [budget_point_doc(p) for p in res.points],
+        "warnings": list(res.warnings),
+    })
+    return doc
+
+
+# --- plot and report -----------------------------------------------------------------------------
+
+def plot_doc(out: str, inputs, kinds, warnings, passed: bool | None = None,
+             failing_files=()) -> dict[str, Any]:
+    """The ``plot --json`` document: the picture written, its inputs and kinds; with a spec,
+    ``pass`` and the failing files (null / empty without one)."""
+    return {"out": str(out), "inputs": [str(x) for x in inputs], "kinds": list(kinds), "pass": passed,
+            "failing_files": list(failing_files), "warnings": list(warnings)}
+
+
+def report_doc(out: str, inputs, passed: bool, judged: bool, failing_files=(), budget_closes: bool | None = None,
+               warnings=()) -> dict[str, Any]:
+    """The ``report --json`` document: the page written, its inputs, the verdict (``pass``; whether
+    anything was judged: a spec or a budget), the files failing the spec and whether the budget closes."""
+    return {"out": str(out), "inputs": [str(x) for x in inputs], "pass": passed, "judged": judged,
+            "failing_files": list(failing_files), "budget_pass": budget_closes, "warnings": list(warnings)}

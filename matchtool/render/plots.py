@@ -39,6 +39,27 @@ if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.figure import Figure
 
 KINDS = ("return-loss", "s11-db", "vswr", "smith", "impedance")
+"""The panels drawn from reflection sweeps (several may share one picture)."""
+
+FIGURE_KINDS: dict[str, tuple[str, str]] = {}
+"""Kinds drawn by another capability's own module, one picture each: ``kind -> ("module:compute",
+"module:draw")``. ``compute(sweep)`` returns that capability's result, ``draw(result,
+path_or_fileobj, fmt)`` writes the picture. Adding one is one line, e.g.::
+
+    FIGURE_KINDS["distance"] = ("matchtool.locate:locate", "matchtool.render.plot_locate:draw_distance")
+"""
+
+
+def figure_kind(kind: str):
+    """``(compute, draw)`` callables of a :data:`FIGURE_KINDS` entry (imported on use)."""
+    import importlib
+
+    def load(ref: str):
+        mod, _, name = ref.partition(":")
+        return getattr(importlib.import_module(mod), name)
+
+    compute, draw = FIGURE_KINDS[kind]
+    return load(compute), load(draw)
 FORMATS = ("png", "svg", "pdf")
 
 # name, hex colour, in the order traces take them. CIE L* (lightness): 22, 74, 40, 58, 31, 80 - the
@@ -55,6 +76,10 @@ DASHES = ("-", (0, (6, 2)), (0, (1.5, 1.5)), (0, (6, 2, 1.5, 2)), (0, (3, 1.2)),
 MARKERS = ("o", "s", "^", "D", "v", "P")
 BAND_FILL = "#e4e4e4"  # light grey: band spans stay visible when printed in black and white
 MASK_COLOR = "#222222"
+MASK_TINT = "#a83a24"  # the forbidden side of a limit: a light brick tint (alpha below), never hatching
+MASK_ALPHA = 0.11
+BEST_MARKER = "H"  # matchtool's best-match mark: an open hexagon ringed in the trace's colour
+BAND_ROW_PT = 15.0  # height of one row of band brackets above the axes (points)
 THRESHOLD_COLOR = "#555555"
 RL_CAP_DB = 60.0  # a return loss above this (or infinite) is drawn at the top of the axis
 
@@ -146,12 +171,17 @@ def parse_kinds(values: Sequence[str] | None) -> list[str]:
         for k in (x.strip().lower() for x in str(v).split(",")):
             if not k:
                 continue
-            if k not in KINDS:
-                raise UsageError(f"unknown plot kind {k!r}", key="--kind", expected=", ".join(KINDS))
+            if k not in KINDS and k not in FIGURE_KINDS:
+                raise UsageError(f"unknown plot kind {k!r}", key="--kind",
+                                 expected=", ".join((*KINDS, *FIGURE_KINDS)))
             if k not in out:
                 out.append(k)
     if not out:
-        raise UsageError("no plot kind given", key="--kind", expected=", ".join(KINDS))
+        raise UsageError("no plot kind given", key="--kind", expected=", ".join((*KINDS, *FIGURE_KINDS)))
+    alone = [k for k in out if k in FIGURE_KINDS]
+    if alone and len(out) > 1:
+        raise UsageError(f"--kind {alone[0]} is drawn as a picture of its own", key="--kind",
+                         expected=f"--kind {alone[0]} alone")
     return out
 
 
@@ -164,6 +194,29 @@ def output_format(path: str) -> str:
         raise UsageError(f"unknown picture extension {('.' + ext) if ext else '(none)'!r}", path=path,
                          expected="a file name ending in .png, .svg or .pdf")
     return ext
+
+
+def match_traces(pm, threshold_return_loss_db: float, label: str | None = None) -> list[Trace]:
+    """The before/after traces of a ``proposal.ProposedMatch``: the measured sweep, then the
+    sweep through the network."""
+    from .words import network_text
+
+    name = label or pm.sweep.name
+    before = trace_from_sweep(pm.sweep, threshold_return_loss_db, f"{name} measured")
+    after = trace_from_arrays(f"{name} + #{pm.pick}: {network_text(pm.candidate.elements)}", pm.sweep.f_hz,
+                              pm.gamma_after, pm.result.z0_ohm, threshold_return_loss_db)
+    return [before, after]
+
+
+def match_title(pm, label: str | None = None) -> str:
+    """Title naming the network: parts from the radio side, target, worst return loss before -> after."""
+    from .words import fixed, network_text, target_text
+
+    r, c = pm.result, pm.candidate
+    return (f"Proposed match for {label or pm.sweep.name} {target_text(r)}\n"
+            f"radio side first: {network_text(c.elements)}\n"
+            f"worst return loss over the target {fixed(r.before_worst_return_loss_db)} dB -> "
+            f"{fixed(c.worst_return_loss_db)} dB (network #{pm.pick} of {len(r.candidates)}, {r.series} values)")
 
 
 # --- matplotlib from here on (imported lazily) ---------------------------------------------------
@@ -213,10 +266,14 @@ def _xlim(ax: Axes, traces: Sequence[Trace], scale: float) -> None:
     ax.set_xlim(lo, hi)
 
 
-def _legend_below(ax: Axes, gap: float = 0.13) -> None:
-    """Legend under the axes (``gap`` in axes fractions), so it never hides a curve."""
-    n = len(ax.get_legend_handles_labels()[1])
-    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
+def _legend_below(ax: Axes, gap: float = 0.13, extra: Sequence[Any] = ()) -> None:
+    """Legend under the axes (``gap`` in axes fractions), so it never hides a curve; ``extra``
+    handles (the key to the marks) follow the traces."""
+    handles, labels = ax.get_legend_handles_labels()
+    handles = list(handles) + list(extra)
+    labels = list(labels) + [h.get_label() for h in extra]
+    n = len(labels)
+    ax.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
 
 
 def _span(traces: Sequence[Trace]) -> tuple[float, float]:
@@ -225,47 +282,98 @@ def _span(traces: Sequence[Trace]) -> tuple[float, float]:
 
 
 def _shade_bands(ax: Axes, kind: str, bands: Sequence[BandMask], scale: float,
-                 span_hz: tuple[float, float] | None = None) -> None:
-    """Shade each band and name it at the top of the axes; a band whose span overlaps an earlier
-    band's gets its name one line lower, so nested bands (a band and its guard band) stay legible."""
+                 span_hz: tuple[float, float] | None = None, limit_text=None) -> int:
+    """Shade each band and name it in a bracket above the axes (``|-- name --|`` over the band's
+    visible span). Overlapping bands (a band and its guard band) get their brackets on separate
+    rows, so each name sits over its own extent. Returns the number of rows used.
+
+    ``limit_text(b)`` adds the band's limit to its name (``ism: RL >= 10 dB``), so no limit label
+    sits inside the plot where a marker could hide it."""
+    from matplotlib.transforms import offset_copy
+
     rows: list[list[tuple[float, float]]] = []
+    x0, x1 = span_hz if span_hz else (min(b.f_low_hz for b in bands or [BandMask("", 0, 1)]),
+                                      max(b.f_high_hz for b in bands or [BandMask("", 0, 1)]))
+    axes_pt = max(ax.figure.get_figwidth() * 72.0 * ax.get_position().width, 50.0)
+    hz_per_pt = max(x1 - x0, 1.0) / axes_pt
     for b in bands:
         ax.axvspan(b.f_low_hz / scale, b.f_high_hz / scale, facecolor=BAND_FILL, edgecolor="none", zorder=0,
                    gid=f"{kind}:band:{b.name}")
-        row = next((k for k, taken in enumerate(rows)
-                    if all(b.f_high_hz < lo or b.f_low_hz > hi for lo, hi in taken)), len(rows))
-        if row == len(rows):
-            rows.append([])
-        rows[row].append((b.f_low_hz, b.f_high_hz))
         # the name sits over the part of the band that is on the axis (a band reaching past the
         # sweep keeps its label in view; one wholly outside is drawn but its label is not)
         lo, hi = (max(b.f_low_hz, span_hz[0]), min(b.f_high_hz, span_hz[1])) if span_hz else (b.f_low_hz, b.f_high_hz)
         if hi < lo:
             continue
-        ann = ax.annotate(b.name, xy=((lo + hi) / 2 / scale, 1.0), xycoords=("data", "axes fraction"),
-                          xytext=(0, -2 - 10 * row), textcoords="offset points", ha="center", va="top", fontsize=7.5,
-                          color="#333333", gid=f"{kind}:bandlabel:{b.name}", zorder=7,
-                          bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
+        text = b.name if limit_text is None or b.limit_return_loss_db is None else f"{b.name}: {limit_text(b)}"
+        half = 0.5 * len(text) * 4.3 * hz_per_pt + 2 * hz_per_pt  # DejaVu Sans at 7.5 pt: ~4.3 pt a character
+        c = 0.5 * (lo + hi)
+        used = (min(lo, c - half), max(hi, c + half))
+        row = next((k for k, taken in enumerate(rows) if all(used[1] < a or used[0] > z for a, z in taken)), len(rows))
+        if row == len(rows):
+            rows.append([])
+        rows[row].append(used)
+        y_pt = 3.0 + BAND_ROW_PT * row
+        tr = offset_copy(ax.get_xaxis_transform(), fig=ax.figure, x=0.0, y=y_pt, units="points")
+        bracket = ax.plot([lo / scale, hi / scale], [1.0, 1.0], transform=tr, color="#444444", linewidth=1.2,
+                          marker="|", markersize=7, markeredgewidth=1.2, clip_on=False, zorder=7,
+                          gid=f"{kind}:bandbracket:{b.name}")
+        ann = ax.annotate(text, xy=(c / scale, 1.0), xycoords=("data", "axes fraction"),
+                          xytext=(0, y_pt + 2.0), textcoords="offset points", ha="center", va="bottom", fontsize=7.5,
+                          color="#333333", gid=f"{kind}:bandlabel:{b.name}", zorder=8, annotation_clip=False)
         ann.set_in_layout(False)
+        for a in bracket:
+            a.set_in_layout(False)
+    return len(rows)
 
 
-def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float, text: str) -> None:
-    """Limit segment across the band plus the forbidden region (hatched) between it and ``floor``,
-    labelled with ``text`` on the allowed side."""
+def _lim(x: float) -> str:
+    """A limit for a label: one decimal when that is exact (``10.0``), else two (``6.02``)."""
+    text = f"{x:.1f}"
+    return text if abs(float(text) - x) <= 1e-9 * max(1.0, abs(x)) else f"{x:.2f}"
+
+
+def _title(ax: Axes, text: str, rows: int) -> None:
+    """The panel title above the band brackets."""
+    ax.set_title(text, pad=6.0 + BAND_ROW_PT * rows)
+
+
+def _mask(ax: Axes, kind: str, b: BandMask, scale: float, limit: float, floor: float) -> None:
+    """A band's limit: a solid line across the band and a light tint over the forbidden side
+    (between the limit and ``floor``). The limit's value is named in the band's bracket."""
     x = np.array([b.f_low_hz, b.f_high_hz]) / scale
-    ax.fill_between(x, [limit, limit], [floor, floor], facecolor="none", edgecolor=MASK_COLOR, hatch="///",
+    ax.fill_between(x, [limit, limit], [floor, floor], facecolor=MASK_TINT, alpha=MASK_ALPHA, edgecolor="none",
                     linewidth=0.0, zorder=1, gid=f"{kind}:maskfill:{b.name}")
-    ax.plot(x, [limit, limit], color=MASK_COLOR, linewidth=2.4, solid_capstyle="butt", zorder=4,
+    ax.plot(x, [limit, limit], color=MASK_COLOR, linewidth=2.0, solid_capstyle="butt", zorder=4,
             gid=f"{kind}:mask:{b.name}")
-    above = floor < limit
-    ann = ax.annotate(text, xy=(x[0], limit), xytext=(2, 3 if above else -3), textcoords="offset points", fontsize=7,
-                      ha="left", va="bottom" if above else "top", color=MASK_COLOR, zorder=6, annotation_clip=True,
-                      bbox={"boxstyle": "square,pad=0.1", "facecolor": BAND_FILL, "edgecolor": "none"})
-    ann.set_in_layout(False)
+
+
+def _best(ax: Axes, kind: str, t: Trace, x: float, y: float, look: dict[str, Any]) -> None:
+    """The best-match mark: an open hexagon ringed in the trace's colour (never clipped)."""
+    ax.plot([x], [y], linestyle="none", marker=BEST_MARKER, markersize=10, markerfacecolor="white",
+            markeredgecolor=look["color"], markeredgewidth=2.2, zorder=6, clip_on=False, gid=f"{kind}:best:{t.label}")
+    ax.plot([x], [y], linestyle="none", marker=".", markersize=3.5, color="black", zorder=6.5, clip_on=False)
+
+
+def key_handles(entries: Sequence[str]) -> list:
+    """Legend handles that say what the marks mean, for a picture that stands alone: ``best``,
+    ``edges`` (threshold crossings), ``mask`` (beyond a limit), ``band``."""
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    shapes = {
+        "best": lambda: Line2D([], [], linestyle="none", marker=BEST_MARKER, markersize=8, markerfacecolor="white",
+                               markeredgecolor="#333333", markeredgewidth=1.8, label="best match of each trace"),
+        "edges": lambda: Line2D([], [], linestyle="none", marker="|", markersize=9, markeredgewidth=2.0,
+                                color="#333333", label="bars: where a trace crosses the threshold"),
+        "mask": lambda: Patch(facecolor=MASK_TINT, alpha=MASK_ALPHA + 0.1, edgecolor=MASK_COLOR,
+                              label="tint: beyond a band's limit (line: the limit)"),
+        "band": lambda: Patch(facecolor=BAND_FILL, edgecolor="none", label="grey: a band (named above the plot)"),
+    }
+    return [shapes[e]() for e in entries]
 
 
 def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, bands: Sequence[BandMask] = (),
-            convention: str = "return-loss") -> None:
+            convention: str = "return-loss", explain: bool = False) -> None:
     """Return loss (positive dB, ``convention='return-loss'``) or S11 dB (``'s11-db'``) against
     frequency, with the threshold line, shaded bands with their limit masks, the threshold-band
     edges of each trace and its best sample."""
@@ -276,12 +384,14 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     top = float(min(RL_CAP_DB, max(threshold_return_loss_db + 10.0, np.max(finite) + 3.0)))
     lowest = float(np.min(finite))
     bottom = 0.0 if lowest >= 0 else lowest - 1.0  # below 0 only for |Gamma| > 1 (not passive)
-    _shade_bands(ax, kind, bands, scale, _span(traces))
+    def words(b: BandMask) -> str:
+        lim = b.limit_return_loss_db
+        return f"RL >= {_lim(lim)} dB" if sign > 0 else f"S11 <= {_lim(-lim)} dB"
+
+    rows = _shade_bands(ax, kind, bands, scale, _span(traces), words)
     for b in bands:
         if b.limit_return_loss_db is not None:
-            lim = b.limit_return_loss_db
-            _mask(ax, kind, b, scale, sign * lim, 0.0,
-                  f"RL >= {lim:.1f} dB" if sign > 0 else f"S11 <= {-lim:.1f} dB")
+            _mask(ax, kind, b, scale, sign * b.limit_return_loss_db, 0.0)
     ax.axhline(sign * threshold_return_loss_db, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.1,
                zorder=2, gid=f"{kind}:threshold",
                label=(f"threshold RL {threshold_return_loss_db:.1f} dB" if sign > 0
@@ -294,9 +404,8 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
                 gid=f"{kind}:trace:{t.label}")
         _mark_unbounded(ax, kind, t, t.f_hz / scale, np.isposinf(t.return_loss_db), sign * top, look,
                         "|Γ| = 0 (return loss infinite)")
-        yb = float(np.clip(t.return_loss_db[t.best], bottom, 0.97 * top)) * sign
-        ax.plot([t.f_hz[t.best] / scale], [yb], linestyle="none", marker="v" if sign > 0 else "^", markersize=8,
-                markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"{kind}:best:{t.label}")
+        yb = float(np.clip(t.return_loss_db[t.best], bottom, top)) * sign
+        _best(ax, kind, t, t.f_hz[t.best] / scale, yb, look)
         edges = [e for b in t.threshold_bands for e, clipped in ((b.f_low_hz, b.clipped_low), (b.f_high_hz, b.clipped_high))
                  if not clipped]
         if edges:
@@ -307,13 +416,16 @@ def draw_db(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float, 
     if sign > 0:
         ax.set_ylim(bottom, top)
         ax.set_ylabel("Return loss (dB, positive)\nRL = -20 log10|Γ|; higher is better")
-        ax.set_title("Return loss (= -S11 dB)")
+        _title(ax, "Return loss (= -S11 dB)", rows)
     else:
         ax.set_ylim(-top, -bottom)
         ax.set_ylabel("S11 (dB) = -return loss\nlower is better")
-        ax.set_title("S11 magnitude in dB (= -return loss)")
+        _title(ax, "S11 magnitude in dB (= -return loss)", rows)
     _xlim(ax, traces, scale)
-    _legend_below(ax)
+    has_edges = any(b.f_low_hz for t in traces for b in t.threshold_bands)
+    keys = ["best"] + (["edges"] if has_edges else []) + (["band"] if bands else []) + (
+        ["mask"] if any(b.limit_return_loss_db is not None for b in bands) else [])
+    _legend_below(ax, extra=key_handles(keys) if explain else ())
 
 
 def _mark_unbounded(ax: Axes, kind: str, t: Trace, x: np.ndarray, unbounded: np.ndarray, y_top: float,
@@ -333,33 +445,36 @@ def _mark_unbounded(ax: Axes, kind: str, t: Trace, x: np.ndarray, unbounded: np.
 
 
 def draw_vswr(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float,
-              bands: Sequence[BandMask] = ()) -> None:
+              bands: Sequence[BandMask] = (), explain: bool = False) -> None:
     """VSWR against frequency (infinite VSWR drawn at the top of the axis), threshold and masks."""
     scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
     thr_v = float(rf.vswr(rf.gamma_mag_from_return_loss(threshold_return_loss_db)))
     finite = np.concatenate([t.vswr[np.isfinite(t.vswr)] for t in traces] + [np.array([1.0])])
     top = float(min(10.0, max(2.0 * thr_v, np.max(finite) * 1.05)))
-    _shade_bands(ax, "vswr", bands, scale, _span(traces))
+    def vswr_of(b: BandMask) -> float:
+        return float(rf.vswr(rf.gamma_mag_from_return_loss(b.limit_return_loss_db)))
+
+    rows = _shade_bands(ax, "vswr", bands, scale, _span(traces), lambda b: f"VSWR <= {_lim(vswr_of(b))}")
     for b in bands:
         if b.limit_return_loss_db is not None:
-            lim = float(rf.vswr(rf.gamma_mag_from_return_loss(b.limit_return_loss_db)))
-            _mask(ax, "vswr", b, scale, lim, top, f"VSWR <= {lim:.2f}")
+            _mask(ax, "vswr", b, scale, vswr_of(b), top)
     ax.axhline(thr_v, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.1, zorder=2,
                gid="vswr:threshold", label=f"threshold VSWR {thr_v:.2f} (RL {threshold_return_loss_db:.1f} dB)")
     for i, t in enumerate(traces):
         look = _look(i)
         ax.plot(t.f_hz / scale, t.vswr, color=look["color"], linestyle=look["linestyle"], marker=look["marker"],
                 markersize=3.5, markevery=_markevery(t.f_hz.size), zorder=3, label=t.label, gid=f"vswr:trace:{t.label}")
-        ax.plot([t.f_hz[t.best] / scale], [min(float(t.vswr[t.best]), top)], linestyle="none", marker="^", markersize=8,
-                markerfacecolor=look["color"], markeredgecolor="black", zorder=5, gid=f"vswr:best:{t.label}")
+        _best(ax, "vswr", t, t.f_hz[t.best] / scale, min(float(t.vswr[t.best]), top), look)
         _mark_unbounded(ax, "vswr", t, t.f_hz / scale, ~np.isfinite(t.vswr), top, look,
                         "|Γ| >= 1 (VSWR infinite)")
-    ax.set_ylim(1.0, top)
+    ax.set_ylim(1.0, top)  # the best-match mark is not clipped, so a VSWR near 1 stays whole at the floor
     _xlim(ax, traces, scale)
     ax.set_xlabel(f"Frequency ({unit})")
     ax.set_ylabel("VSWR (ratio); lower is better")
-    ax.set_title("VSWR")
-    _legend_below(ax)
+    _title(ax, "VSWR", rows)
+    keys = ["best"] + (["band"] if bands else []) + (
+        ["mask"] if any(b.limit_return_loss_db is not None for b in bands) else [])
+    _legend_below(ax, extra=key_handles(keys) if explain else ())
 
 
 def _gamma_at(t: Trace, f_hz: float) -> complex | None:
@@ -368,12 +483,20 @@ def _gamma_at(t: Trace, f_hz: float) -> complex | None:
     return complex(np.interp(f_hz, t.f_hz, t.gamma.real) + 1j * np.interp(f_hz, t.f_hz, t.gamma.imag))
 
 
+EDGE_MARKERS = ("s", "D", "o", "p", "8", "d")
+"""Band-edge marks on the Smith chart, one shape per band (open, in the trace's colour)."""
+
+
 def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: float,
-               bands: Sequence[BandMask] = ()) -> None:
+               bands: Sequence[BandMask] = (), explain: bool = False) -> None:
     """Impedance Smith chart (scikit-rf's grid) of Gamma, the threshold circle |Gamma| = const,
     markers at each band's edges (interpolated in complex Gamma) and at each trace's best sample.
-    Without bands, the edges of each trace's threshold bands are marked instead."""
+    Without bands, the edges of each trace's threshold bands are marked instead.
+
+    The edge frequencies are not written on the chart (they would overprint each other and the
+    grid's labels): each band has its own marker shape, named with its edges in the legend."""
     import skrf.plotting
+    from matplotlib.lines import Line2D
 
     skrf.plotting.smith(ax=ax, chart_type="z", draw_labels=True)
     g_thr = float(rf.gamma_mag_from_return_loss(threshold_return_loss_db))
@@ -381,42 +504,43 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
     ax.plot(g_thr * np.cos(phi), g_thr * np.sin(phi), color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)),
             linewidth=1.1, gid="smith:threshold", label=f"|Γ| = {g_thr:.3f} (RL {threshold_return_loss_db:.1f} dB)")
     scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
+    shapes: dict[str, tuple[str, list[float]]] = {}
     for i, t in enumerate(traces):
         look = _look(i)
         ax.plot(t.gamma.real, t.gamma.imag, color=look["color"], linestyle=look["linestyle"], linewidth=1.5,
                 label=t.label, gid=f"smith:trace:{t.label}")
         gb = t.gamma[t.best]
-        ax.plot([gb.real], [gb.imag], linestyle="none", marker="*", markersize=10, markerfacecolor=look["color"],
-                markeredgecolor="black", zorder=5, gid=f"smith:best:{t.label}")
-        marks: list[tuple[str, float]] = []
+        _best(ax, "smith", t, gb.real, gb.imag, look)
         if bands:
             marks = [(b.name, f) for b in bands for f in (b.f_low_hz, b.f_high_hz)]
         else:
-            marks = [(f"band{k + 1}", f) for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
-        for k_band, name in enumerate(dict.fromkeys(m[0] for m in marks)):
+            marks = [(f"{t.label} band {k + 1}" if len(traces) > 1 else f"band {k + 1}", f)
+                     for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
+        for name in dict.fromkeys(m[0] for m in marks):
             pts = [(f, _gamma_at(t, f)) for n, f in marks if n == name]
             pts = [(f, g) for f, g in pts if g is not None]
             if not pts:
                 continue
-            ax.plot([g.real for _, g in pts], [g.imag for _, g in pts], linestyle="none", marker=look["marker"],
+            if name not in shapes:
+                shapes[name] = (EDGE_MARKERS[len(shapes) % len(EDGE_MARKERS)], list(dict.fromkeys(f for f, _ in pts)))
+            ax.plot([g.real for _, g in pts], [g.imag for _, g in pts], linestyle="none", marker=shapes[name][0],
                     markersize=6.5, markerfacecolor="white", markeredgecolor=look["color"], markeredgewidth=1.6,
                     zorder=6, gid=f"smith:bandedge:{name}:{t.label}")
-            if i == 0:
-                for f, g in pts:
-                    # alternate bands label on opposite sides, so nested bands' edges do not overprint
-                    left = k_band % 2 == 1
-                    ax.annotate(f"{f / scale:.4g}", xy=(g.real, g.imag), xytext=(-5, -4) if left else (5, 4),
-                                textcoords="offset points", ha="right" if left else "left",
-                                va="top" if left else "bottom", fontsize=7, color="#222222")
-    ax.set_title(f"Smith chart (impedance, Z0 = {traces[0].z0_ohm:g} ohm); markers: band edges in {unit}")
-    _legend_below(ax, 0.06)
+    extra = [Line2D([], [], linestyle="none", marker=m, markersize=6.5, markerfacecolor="white",
+                    markeredgecolor="#333333", markeredgewidth=1.4,
+                    label=f"{name} edges: {' / '.join(f'{f / scale:.6g}' for f in fs)} {unit}")
+             for name, (m, fs) in shapes.items()]
+    if explain:
+        extra += key_handles(["best"])
+    ax.set_title(f"Smith chart (impedance, Z0 = {traces[0].z0_ohm:g} ohm)")
+    _legend_below(ax, 0.06, extra)
 
 
 def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] = ()) -> None:
     """Series resistance R (solid) and reactance X (dashed) in ohms against frequency, with the
     reference impedance and X = 0 drawn as guides."""
     scale, unit = frequency_unit(np.concatenate([t.f_hz for t in traces]))
-    _shade_bands(ax, "impedance", bands, scale, _span(traces))
+    rows = _shade_bands(ax, "impedance", bands, scale, _span(traces))
     ax.axhline(traces[0].z0_ohm, color=THRESHOLD_COLOR, linestyle=(0, (4, 2, 1, 2)), linewidth=1.0,
                gid="impedance:z0", label=f"R = Z0 = {traces[0].z0_ohm:g} ohm")
     ax.axhline(0.0, color="#888888", linewidth=0.8, gid="impedance:zero")
@@ -438,13 +562,16 @@ def draw_impedance(ax: Axes, traces: Sequence[Trace], bands: Sequence[BandMask] 
     _xlim(ax, traces, scale)
     ax.set_xlabel(f"Frequency ({unit})")
     ax.set_ylabel("Impedance (ohm): R solid, X dashed")
-    ax.set_title("Impedance Z = R + jX (X > 0 inductive)")
+    _title(ax, "Impedance Z = R + jX (X > 0 inductive)", rows)
     _legend_below(ax)
 
 
 def figure(traces: Sequence[Trace], kinds: Sequence[str], threshold_return_loss_db: float,
-           bands: Sequence[BandMask] = (), title: str | None = None) -> Figure:
-    """Build one Figure with a panel per kind (``KINDS``), in order; returns the Figure."""
+           bands: Sequence[BandMask] = (), title: str | None = None, explain: bool = True) -> Figure:
+    """Build one Figure with a panel per kind (``KINDS``), in order; returns the Figure.
+
+    ``explain`` adds a key under the panels that says what the marks mean (for a picture that
+    stands alone; the report's captions say it instead)."""
     if not traces:
         raise UsageError("nothing to plot", expected="at least one sweep")
     kinds = parse_kinds(kinds)
@@ -466,11 +593,11 @@ def figure(traces: Sequence[Trace], kinds: Sequence[str], threshold_return_loss_
             ax = fig.add_subplot(grid[r, :] if (k == n - 1 and n % cols) else grid[r, c])
             ax.set_gid(f"panel:{kind}")
             if kind in ("return-loss", "s11-db"):
-                draw_db(ax, traces, threshold_return_loss_db, bands, kind)
+                draw_db(ax, traces, threshold_return_loss_db, bands, kind, explain)
             elif kind == "vswr":
-                draw_vswr(ax, traces, threshold_return_loss_db, bands)
+                draw_vswr(ax, traces, threshold_return_loss_db, bands, explain)
             elif kind == "smith":
-                draw_smith(ax, traces, threshold_return_loss_db, bands)
+                draw_smith(ax, traces, threshold_return_loss_db, bands, explain)
             else:
                 draw_impedance(ax, traces, bands)
         if title:

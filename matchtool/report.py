@@ -1,0 +1,153 @@
+"""The report's content, computed before any HTML is built: every input hashed, each sweep's
+summary, the comparison (with spec verdicts), a proposed match and a link budget.
+
+Entry point: :func:`build_report` returns a frozen :class:`ReportContext`; ``render/report/``
+only formats it. Other capabilities add their results under ``extras`` (a name -> result
+mapping) and a section in ``render/report`` that reads them.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+from .budget import BudgetResult
+from .compare import BandOfInterest, Comparison, revisions, spec_band_limits
+from .errors import InputError, UsageError
+from .proposal import MatchRequest, ProposedMatch, propose
+from .summary import SweepSummary, summarize
+from .sweep import Sweep
+
+
+@dataclass(frozen=True)
+class InputFile:
+    """An input file as read for the report: path, size in bytes and SHA-256 (hex)."""
+
+    path: str
+    size_bytes: int
+    sha256: str
+
+
+@dataclass(frozen=True)
+class ReportContext:
+    """Everything the report's sections show, computed by the core (frequencies Hz, losses dB).
+
+    ``match_index`` is the position in ``sweeps`` of the sweep the match was designed for;
+    ``budget_path`` the budget file. ``extras`` holds results of further capabilities by name."""
+
+    sweeps: tuple[Sweep, ...]
+    summaries: tuple[SweepSummary, ...]
+    comparison: Comparison
+    threshold_return_loss_db: float
+    bands: tuple[BandOfInterest, ...]
+    """The bands of interest of the comparison (the caller's, then the spec's without limits)."""
+    mask_bands: tuple[BandOfInterest, ...]
+    """The bands to shade in pictures, with their limits (the caller's, then the spec's)."""
+    kinds: tuple[str, ...]
+    inputs: tuple[InputFile, ...]
+    generated: datetime
+    port: int = 1
+    z0_ohm: float | None = None
+    spec_path: str | None = None
+    match: ProposedMatch | None = None
+    match_index: int = 0
+    match_request: MatchRequest | None = None
+    budget: BudgetResult | None = None
+    budget_path: str | None = None
+    extras: Mapping[str, Any] = field(default_factory=dict)
+    warnings: tuple[str, ...] = ()
+
+    @property
+    def failed(self) -> bool:
+        """A spec requirement failed, or the budget misses its required margin."""
+        return bool(self.comparison.spec_failed or (self.budget is not None and not self.budget.closes))
+
+    @property
+    def judged(self) -> bool:
+        """Whether anything was judged (a spec or a budget was given)."""
+        return self.spec_path is not None or self.budget is not None
+
+
+def hash_file(path: str) -> InputFile:
+    """SHA-256 and size of a file's bytes (read in chunks)."""
+    digest = hashlib.sha256()
+    size = 0
+    try:
+        with open(path, "rb") as fh:
+            for chunk in iter(lambda: fh.read(1 << 20), b""):
+                digest.update(chunk)
+                size += len(chunk)
+    except OSError as exc:
+        raise InputError(f"cannot read: {exc.strerror or exc}", path=path) from exc
+    return InputFile(str(path), size, digest.hexdigest())
+
+
+def report_time() -> datetime:
+    """Now (UTC), or the reproducible-build time SOURCE_DATE_EPOCH when that is set."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH")
+    if epoch:
+        try:
+            return datetime.fromtimestamp(int(epoch), UTC)
+        except (ValueError, OverflowError, OSError):
+            raise UsageError(f"SOURCE_DATE_EPOCH={epoch!r}", expected="whole seconds since 1970") from None
+    return datetime.now(UTC).replace(microsecond=0)
+
+
+def budget_inputs(budget_path: str):
+    """The budget file read and validated, and the sweeps it names (as ``budget`` resolves them)."""
+    from .budget import read_budget_file
+
+    inp = read_budget_file(budget_path)
+    named = []
+    for side in (inp.tx, inp.rx):
+        if side.sweep_path is not None:
+            sp = Path(side.sweep_path)
+            named.append(str(sp if sp.is_absolute() else Path(inp.path).parent / sp))
+    return inp, named
+
+
+def build_report(sweeps: Sequence[Sweep], threshold_return_loss_db: float = 10.0,
+                 bands: Sequence[BandOfInterest] = (), spec=None, kinds: Sequence[str] = ("return-loss",),
+                 match_request: MatchRequest | None = None, match_index: int = 0, budget_path: str | None = None,
+                 port: int = 1, z0_ohm: float | None = None, min_band_width_hz: float | None = None,
+                 extras: Mapping[str, Any] | None = None) -> ReportContext:
+    """Compute everything a report shows. ``sweeps`` are loaded (the first is the baseline);
+    ``match_index`` chooses which one the match is designed for; ``budget_path`` a budget TOML.
+
+    Every input (sweeps, spec, golden unit, budget and the sweeps it names) is hashed once. A
+    file that cannot be read raises before anything is computed."""
+    from .budget import evaluate
+
+    if not sweeps:
+        raise UsageError("nothing to report", expected="at least one sweep")
+    if not 0 <= match_index < len(sweeps):
+        raise UsageError("is not one of the sweeps", parameter="match_index", value=match_index)
+    names = [s.path for s in sweeps]
+    if spec is not None:
+        names.append(spec.path)
+        if spec.golden is not None:
+            names.append(spec.golden.path)
+    budget_in = None
+    if budget_path is not None:
+        budget_in, named = budget_inputs(budget_path)
+        names += [budget_path, *named]
+    resolved = [str(Path(p).resolve()) for p in names]
+    inputs = tuple(hash_file(p) for k, p in enumerate(names) if resolved[k] not in resolved[:k])
+    pm = None if match_request is None else propose(sweeps[match_index], match_request, threshold_return_loss_db)
+    link = None if budget_in is None else evaluate(budget_in)
+    c = revisions(sweeps, threshold_return_loss_db, bands, spec=spec, min_band_width_hz=min_band_width_hz)
+    warnings = list(c.warnings)
+    for extra in ((pm.warnings if pm else ()), (link.warnings if link else ())):
+        warnings.extend(w for w in extra if w not in warnings)
+    return ReportContext(
+        sweeps=tuple(sweeps), summaries=tuple(summarize(s, threshold_return_loss_db) for s in sweeps), comparison=c,
+        threshold_return_loss_db=float(threshold_return_loss_db), bands=c.bands,
+        mask_bands=tuple(bands) + (() if spec is None else spec_band_limits(spec, bands)), kinds=tuple(kinds), inputs=inputs,
+        generated=report_time(), port=port, z0_ohm=z0_ohm, spec_path=None if spec is None else spec.path,
+        match=pm, match_index=match_index, match_request=match_request, budget=link, budget_path=budget_path,
+        extras=dict(extras or {}), warnings=tuple(warnings))
