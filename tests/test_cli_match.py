@@ -319,8 +319,11 @@ def test_option_types_are_reusable_by_another_command():
 
 def test_dc_words_name_what_happens_to_bias():
     # a shunt inductor shorts DC to ground; a series capacitor blocks it (circuit fact, no source needed)
-    from matchtool.matching import Element, dc_words
+    from matchtool.matching import Element, dc_path
+    from matchtool.render.text.match import dc_words
 
+    assert dc_path([Element("capacitor", "series", 5e-12), Element("inductor", "shunt", 16e-9)]) == "blocked+shorted"
+    assert dc_words("shorted").startswith("DC shorted")
     assert dc_words([Element("inductor", "series", 5e-9), Element("capacitor", "shunt", 3e-12)]) == "passes DC"
     assert dc_words([Element("inductor", "series", 5e-9), Element("inductor", "shunt", 16e-9)]).startswith(
         "DC shorted")

@@ -27,9 +27,9 @@ from .. import reflection as rf
 from ..budget import BudgetResult
 from ..compare import BandSpec, Comparison, compare
 from ..errors import ExitStatus, InputError, UsageError
-from ..matching import dc_words as mt_dc_words
 from ..outputs import atomic_write, check_output
 from ..render import html as h
+from ..render.text.match import dc_words as mt_dc_words
 from ..summary import SweepSummary, summarize, threshold_from_options
 from ..sweep import Sweep, load
 from ..units import format_frequency as ff
