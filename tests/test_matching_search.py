@@ -11,7 +11,6 @@ cascade (checked below on the winners).
 
 from __future__ import annotations
 
-import itertools
 import math
 
 import numpy as np
@@ -363,4 +362,4 @@ def test_standard_values_are_the_decimal_values():
     for v in vals:
         mant = repr(float(v)).split("e")[0]
         assert len(mant.replace(".", "").lstrip("0")) <= 2, repr(v)
-    assert all(itertools.starmap(lambda a, b: a < b, zip(vals, vals[1:])))
+    assert np.all(np.diff(vals) > 0)
