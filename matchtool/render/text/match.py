@@ -64,7 +64,7 @@ def part_text(e) -> str:
 
 def positions_text(c) -> list[str]:
     """One phrase per footprint position: ``1 shunt C 1.2 pF``, ``2 0-ohm link``, ``3 not fitted``."""
-    if not c.positions:
+    if not c.positions or c.footprint == "l":
         return [part_text(e) for e in c.elements]
     out = []
     for p in c.positions:
@@ -229,7 +229,7 @@ def candidate_lines(i: int, c, r, width: int) -> list[str]:
     if not c.meets_threshold:
         head += "  BELOW THE LIMIT"
     lines = _wrap(head, width)
-    if c.elements or c.positions:
+    if c.elements:
         lines += _wrap("parts: " + " | ".join(positions_text(c)), width, ind, ind)
     rl = f"worst RL {rl_text(c.worst_return_loss_db)} dB"
     if len(opt) > 1:
