@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -41,7 +41,7 @@ class Element:
     kind: str
     connection: str
     value: float
-    position: int | None = None
+    position: int | None = field(default=None, compare=False)  # placement, not part of the part's identity
 
     def __post_init__(self) -> None:
         if self.kind not in ("inductor", "capacitor"):
