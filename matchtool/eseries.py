@@ -67,3 +67,22 @@ def nearest(value: float, name: str) -> float:
     """The preferred value nearest to ``value`` on a logarithmic scale (``exact``: the value)."""
     cand = neighbours(value, name, 1)
     return float(cand[np.argmin(np.abs(np.log(cand / value)))])
+
+
+def values_between(lo: float, hi: float, name: str) -> np.ndarray:
+    """Every value of series ``name`` in [lo, hi] (SI units, sorted), each the double nearest to its
+    decimal value (``8.2e-09``, never ``8.199999999999999e-09``). Ends are included within 1e-9."""
+    key = normalize_series_name(name)
+    if key == "exact":
+        raise UsageError("the 'exact' series has no table", parameter="series", value=name)
+    if not (0 < lo <= hi and math.isfinite(hi)):
+        raise UsageError("value range", parameter="value_range", value=(lo, hi), expected="0 < low <= high")
+    digits = SERIES[key]
+    nd = len(str(digits[0])) - 1
+    out = []
+    for d in range(math.floor(math.log10(lo)) - 1, math.ceil(math.log10(hi)) + 1):
+        for m in digits:
+            v = float(f"{m}e{d - nd}")
+            if lo * (1 - 1e-9) <= v <= hi * (1 + 1e-9):
+                out.append(v)
+    return np.array(sorted(set(out)), dtype=float)

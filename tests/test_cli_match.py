@@ -319,8 +319,11 @@ def test_option_types_are_reusable_by_another_command():
 
 def test_dc_words_name_what_happens_to_bias():
     # a shunt inductor shorts DC to ground; a series capacitor blocks it (circuit fact, no source needed)
-    from matchtool.matching import Element, dc_words
+    from matchtool.matching import Element, dc_path
+    from matchtool.render.text.match import dc_words
 
+    assert dc_path([Element("capacitor", "series", 5e-12), Element("inductor", "shunt", 16e-9)]) == "blocked+shorted"
+    assert dc_words("shorted").startswith("DC shorted")
     assert dc_words([Element("inductor", "series", 5e-9), Element("capacitor", "shunt", 3e-12)]) == "passes DC"
     assert dc_words([Element("inductor", "series", 5e-9), Element("inductor", "shunt", 16e-9)]).startswith(
         "DC shorted")
@@ -335,3 +338,128 @@ def test_match_says_when_no_network_reaches_the_threshold(cli):
     doc = r.json()
     best = max(c["worst_return_loss_db"] for c in doc["candidates"] if c["elements"])
     assert best < 20 and doc["advice"].startswith("no two-part network reaches 20 dB")
+
+
+# ---------------------------------------------------------------- pi / tee, several bands, tolerances
+
+def test_pi_json_names_positions_and_is_never_worse_than_l(cli, tmp_path):
+    p = _ant(tmp_path)
+    pi = cli("match", p, "--band", "902MHz:928MHz", "--network", "pi", "--json")
+    assert pi.code == 0, pi.err
+    doc = pi.json()
+    assert doc["network"] == "pi"
+    for c in doc["candidates"]:
+        assert c["topology"].startswith("pi ")
+        assert [q["position"] for q in c["positions"]] == [1, 2, 3]
+        assert [q["connection"] for q in c["positions"]] == ["shunt", "series", "shunt"]
+        fitted = [q["position"] for q in c["positions"] if q["fitted"] == "part"]
+        assert [e["position"] for e in c["elements"]] == fitted
+        assert c["topology"] == "pi " + ("+".join(map(str, fitted)) or "none")
+        for q in c["positions"]:
+            assert q["fitted"] in (("part", "link") if q["connection"] == "series" else ("part", "empty"))
+    ell = cli("match", p, "--band", "902MHz:928MHz", "--json").json()
+    assert doc["candidates"][0]["worst_delivered_fraction"] >= ell["candidates"][0]["worst_delivered_fraction"] - 1e-12
+    # JSON values are the standard values themselves (8.2e-09, never 8.199999999999999e-09)
+    for c in doc["candidates"]:
+        for e in c["elements"]:
+            assert len(repr(e["value"]).split("e")[0].replace(".", "").lstrip("0")) <= 2, e
+
+
+def test_tee_terminal_marks_links_and_empty_pads(cli, tmp_path):
+    p = _ant(tmp_path)
+    r = cli("match", p, "--at", "915MHz", "--network", "tee", "--series", "E12")
+    assert r.code == 0, r.err
+    assert "tee" in r.out and ("0-ohm link" in r.out or "not fitted" in r.out)
+
+
+def test_several_bands_report_each_band_and_the_smallest_margin(cli, tmp_path):
+    p = _ant(tmp_path)
+    r = cli("match", p, "--band", "863MHz:870MHz", "--band", "902MHz:928MHz", "--json")
+    assert r.code == 0, r.err
+    doc = r.json()
+    bands = doc["target"]["bands"]
+    assert [(b["f_low_hz"], b["f_high_hz"]) for b in bands] == [(863e6, 870e6), (902e6, 928e6)]
+    assert all(isinstance(b["before_worst_return_loss_db"], float) for b in bands)
+    for c in doc["candidates"]:
+        margins = [b["margin_db"] for b in c["per_band"]]
+        assert len(margins) == 2
+        assert c["min_margin_db"] == pytest.approx(min(margins))
+        for b in c["per_band"]:
+            assert b["margin_db"] == pytest.approx(b["worst_return_loss_db"] - b["limit_return_loss_db"])
+    assert "smallest margin" in doc["rank_by"]
+    # a single-band run shows what its network does to another band
+    one = cli("match", p, "--band", "902MHz:928MHz", "--show-band", "863MHz:870MHz", "--json").json()
+    shown = [b for b in one["candidates"][0]["per_band"] if not b["optimised"]]
+    assert len(shown) == 1 and shown[0]["f_low_hz"] == 863e6
+
+
+def test_spec_file_gives_the_bands_and_limits(cli, tmp_path):
+    p = _ant(tmp_path)
+    spec = tmp_path / "two.toml"
+    spec.write_text('[[band]]\nname = "a"\nf_low = "863 MHz"\nf_high = "870 MHz"\nmin_return_loss_db = 6\n\n'
+                    '[[band]]\nname = "b"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmax_vswr = 2\n')
+    doc = cli("match", p, "--spec", spec, "--json").json()
+    lims = [b["limit_return_loss_db"] for b in doc["target"]["bands"]]
+    # VSWR 2 is return loss 9.54 dB: RL = -20 log10((S - 1) / (S + 1)) (definition)
+    assert lims[0] == 6 and lims[1] == pytest.approx(-20 * math.log10(1 / 3), abs=1e-9)
+    assert [b["name"] for b in doc["target"]["bands"]] == ["a", "b"]
+
+
+def test_absolute_and_small_capacitor_tolerances(cli, tmp_path):
+    p = _ant(tmp_path)
+    base = ("match", p, "--band", "902MHz:928MHz", "--trials", "300", "--json")
+    a = cli(*base, "--tolerance-capacitor", "0.05pF", "--tolerance-inductor", "2%").json()
+    assert a["yield"]["tolerance_capacitor_f"] == pytest.approx(0.05e-12)
+    assert a["yield"]["tolerance_inductor_pct"] == pytest.approx(2.0)
+    assert a["yield"]["small_capacitor_tolerance_f"] is None
+    b = cli(*base, "--tolerance", "5%").json()
+    # below 10 pF a percentage becomes +-0.1 pF (common practice, no source)
+    assert b["yield"]["small_capacitor_tolerance_f"] == pytest.approx(0.1e-12)
+    n = cli(*base, "--tolerance-inductor", "0.1nH").json()
+    assert n["yield"]["tolerance_inductor_h"] == pytest.approx(0.1e-9)
+
+
+def test_core_error_names_the_parameter_and_cli_the_flag(cli, tmp_path):
+    from matchtool import matching as mt
+    from matchtool.errors import UsageError
+
+    with pytest.raises(UsageError) as e:
+        mt.PartQ(inductor=-3)
+    assert e.value.parameter == "q_inductor" and "--q-inductor" not in str(e.value)
+    r = cli("match", _ant(tmp_path), "--band", "902MHz:928MHz", "--q-inductor", "-3")
+    assert r.code == 2 and r.err_lines[0].startswith("error: --q-inductor -3")
+    bad = cli("match", _ant(tmp_path, "b.s1p"), "--band", "902MHz:928MHz", "--network", "ladder")
+    assert bad.code == 2 and "--network" in bad.err_lines[0]
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_terminal_view_is_whole_at_80_100_120_columns(tmp_path, width):
+    # render at fixed widths: no line longer than the width, nothing cut ("..." or an ellipsis), every
+    # part value and every return loss of the result printed whole
+    import io
+
+    from rich.console import Console
+
+    from matchtool import matching as mt
+    from matchtool.render.text.match import part_value_text, render, rl_text
+    from matchtool.sweep import load
+
+    sw = load(str(_ant(tmp_path)))
+    results = [
+        mt.propose(sw, bands=[(902e6, 928e6)]),
+        mt.propose(sw, bands=[(902e6, 928e6)], network="pi", q=mt.PartQ(30, 200),
+                   tolerance=mt.YieldSettings(0.05, 0.05, 100, 1, small_c_tolerance_f=1e-13)),
+        mt.propose(sw, bands=[(863e6, 870e6), (902e6, 928e6)], network="tee", series="E12"),
+        mt.propose(sw, f0_hz=915e6, series="exact", report_bands=[(902e6, 928e6)]),
+    ]
+    for r in results:
+        buf = io.StringIO()
+        render(r, Console(file=buf, width=width, highlight=False, force_terminal=False))
+        out = buf.getvalue()
+        assert "…" not in out and "..." not in out
+        assert all(len(line.rstrip()) <= width for line in out.splitlines()), out
+        flat = " ".join(out.split())
+        for c in r.candidates:
+            for e in c.elements:
+                assert part_value_text(e) in flat
+            assert f"worst RL {rl_text(c.worst_return_loss_db)} dB" in flat

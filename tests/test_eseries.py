@@ -52,3 +52,25 @@ def test_exact_value_is_its_own_neighbour_and_nearest():
 def test_unknown_series_is_a_usage_error():
     with pytest.raises(UsageError):
         eseries.normalize_series_name("E7")
+
+
+@pytest.mark.parametrize("name", ["E12", "E24", "E48", "E96"])
+def test_values_between_lists_every_decade_of_the_table(name):
+    # every series value in [0.1 pF, 100 nF]: the IEC 60063 digits times each power of ten, ends included
+    vals = eseries.values_between(0.1e-12, 100e-9, name)
+    table = eseries.SERIES[name]
+    per_decade = len(table)
+    assert vals[0] == 0.1e-12 and vals[-1] == 100e-9
+    assert vals.size == 6 * per_decade + 1  # six decades, plus the top end (derived)
+    scale = 10 ** (len(str(table[0])) - 1)
+    for v in vals:
+        mant = float(f"{v:.6e}".split("e")[0]) * scale
+        assert int(round(mant)) in table or int(round(mant / 10)) in table
+        assert float(repr(float(v))) == v and len(repr(float(v))) <= 9  # the decimal value, e.g. 8.2e-12
+
+
+def test_values_between_refuses_exact_and_bad_ranges():
+    with pytest.raises(UsageError):
+        eseries.values_between(1e-12, 1e-9, "exact")
+    with pytest.raises(UsageError):
+        eseries.values_between(0.0, 1e-9, "E12")

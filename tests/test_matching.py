@@ -238,8 +238,9 @@ def test_design_at_exact_matches_closed_form_and_ranks():
     r = m.design_at(sw, 915e6, series="exact")
     two = [c for c in r.candidates if len(c.elements) == 2]
     assert len(two) == 2 and all(c.return_loss_at_f0_db > 60 for c in two)
-    # a single part is listed only where it alone reaches the threshold
-    assert all(c.return_loss_at_f0_db >= 10 for c in r.candidates if len(c.elements) == 1)
+    # a single part is a candidate of its own; one that misses the threshold says so
+    for c in r.candidates:
+        assert c.meets_threshold == (c.worst_return_loss_db >= 10)
     d = [c.worst_delivered_fraction for c in r.candidates]
     assert d == sorted(d, reverse=True)
     assert r.before_return_loss_at_f0_db < 10
@@ -587,3 +588,47 @@ def test_band_design_proposes_no_wire_or_open_parts():
     for r in (m.design_for_band(sw, 902e6, 928e6), m.design_at(sw, 915e6)):
         for c in r.candidates:
             assert all(m.part_role(e, 915e6, 50.0) == "part" for e in c.elements), c
+
+
+def test_absolute_tolerances_and_small_capacitors():
+    # a capacitor below 10 pF with a percentage tolerance varies by +-0.1 pF (common practice, no
+    # source); an absolute tolerance replaces the percentage for every part of that kind
+    ys = m.YieldSettings(0.05, 0.05, 10, 1, small_c_tolerance_f=0.1e-12)
+    assert ys.half_width(m.Element("capacitor", "shunt", 2.2e-12)) == pytest.approx(0.1e-12)
+    assert ys.half_width(m.Element("capacitor", "shunt", 22e-12)) == pytest.approx(1.1e-12)
+    assert ys.half_width(m.Element("inductor", "series", 10e-9)) == pytest.approx(0.5e-9)
+    ab = m.YieldSettings(0.05, 0.05, 10, 1, tolerance_l_h=0.1e-9, tolerance_c_f=0.05e-12)
+    assert ab.half_width(m.Element("capacitor", "shunt", 22e-12)) == pytest.approx(0.05e-12)
+    assert ab.half_width(m.Element("inductor", "shunt", 100e-9)) == pytest.approx(0.1e-9)
+    # the yield with absolute tolerances equals a loop over the same draws
+    sw = _sweep(lambda f: series_rlc_z(f, 20.0, 30e-9, 880e6))
+    ys = m.YieldSettings(0.0, 0.0, 300, 5, tolerance_l_h=0.2e-9, tolerance_c_f=0.25e-12)
+    r = m.propose(sw, bands=[(902e6, 928e6)], tolerance=ys)
+    c = r.candidates[0]
+    rng = np.random.default_rng(5)
+    draws = [rng.uniform(-1, 1, size=(300, 1)) for _ in c.elements]
+    from matchtool.bands import band_samples
+    fb, gb = band_samples(sw.f_hz, sw.gamma, 902e6, 928e6)
+    ok = 0
+    for t in range(300):
+        vals = [e.value + (0.2e-9 if e.kind == "inductor" else 0.25e-12) * d[t, 0]
+                for e, d in zip(c.elements, draws, strict=True)]
+        g = m.evaluate(fb, gb, 50.0, [(e.kind, e.connection) for e in c.elements], vals).gamma_in
+        ok += bool(-20 * np.log10(np.abs(g).max()) >= 10.0)
+    assert c.yield_fraction == pytest.approx(ok / 300)
+
+
+def test_propose_takes_an_skrf_network_and_gives_networks_back():
+    f = np.linspace(850e6, 980e6, 261)
+    z = series_rlc_z(f, 20.0, 30e-9, 880e6)
+    ntw = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="Hz"), s=gamma_of(z).reshape(-1, 1, 1), z0=50)
+    r = m.propose(ntw, bands=[(902e6, 928e6)], network="pi")
+    c = r.candidates[0]
+    two = c.network_2port()
+    assert isinstance(two, skrf.Network) and two.nports == 2
+    # the matched antenna is the 2-port cascaded with the antenna (scikit-rf **)
+    assert np.allclose((two ** ntw).s[:, 0, 0], c.matched_network().s[:, 0, 0], atol=1e-12)
+    assert isinstance(r.warnings, tuple)
+    with pytest.raises(UsageError) as e:
+        m.propose(ntw, bands=[(902e6, 928e6)], network="ladder")
+    assert e.value.parameter == "network"

@@ -18,7 +18,10 @@ Cases (goals from the benchmarks issue):
       Goal: < 2 s.
   P5  ``inspect`` of a 1,000,000-point sweep: wall time and peak memory (max RSS of the process)
       against scikit-rf's own read of the same file. Goal: <= 1.3x time, <= 2x memory.
-  P6  cold ``matchtool locate FILE --velocity-factor 0.7 --loss-db-per-m 0.3 --gate 4.5m:6m
+  P7  ``matchtool match`` exhaustive search on a 1,601-point sweep: E24 L with part Q (goal <= 3x a
+      cold scikit-rf read), E24 pi with every population of the three pads (<= 6x), and two bands at
+      once against the single band (<= 1.5x).
+  P8  cold ``matchtool locate FILE --velocity-factor 0.7 --loss-db-per-m 0.3 --gate 4.5m:6m
       --json`` on a 10,001-point harmonic sweep (an antenna 5 m down a cable with a connector
       echo), against ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.5x.
 
@@ -416,8 +419,45 @@ def p5(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [rt, rm]
 
 
-def p6(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
-    row = Row("P6", f"cold locate --gate --json, {sz.p6_points:,} pts", goal="<= 1.5x", limit=1.5)
+def p7(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    """The exhaustive matching search: E24 L with part Q, E24 pi (every population of the three
+    pads), and two bands at once against one band."""
+    rl = Row("P7", f"match E24 L search + part Q, {sz.points} pts", goal="<= 3x", limit=3.0)
+    rp = Row("P7", f"match E24 pi search (all populations), {sz.points} pts", goal="<= 6x", limit=6.0)
+    rb = Row("P7", "match two bands at once vs one band", goal="<= 1.5x", limit=1.5)
+    rows = [rl, rp, rb]
+    if not has_command("match"):
+        for r in rows:
+            r.status = "not built yet"
+        return rows
+    path = write_sweep(tmp / "p6_r1.s1p", sz.points, 875e6, np.random.default_rng([SEED, 6]))
+    q = ["--q-inductor", 40, "--q-capacitor", 300, "--series", "E24", "--json"]
+    cands = {"base": skrf_read(path),
+             "l": mt("match", path, "--band", "902MHz:928MHz", *q),
+             "pi": mt("match", path, "--band", "902MHz:928MHz", "--network", "pi", *q),
+             "two": mt("match", path, "--band", "863MHz:870MHz", "--band", "902MHz:928MHz", *q)}
+    probe = run.once(cands["pi"])
+    if probe.code not in (0, 1):
+        nb = not_built(probe.err)
+        for r in rows:
+            r.status = "not built yet" if nb else "error"
+            r.note = nb or failed([probe], (0, 1)) or ""
+        return rows
+    res = run.compare(cands, min(sz.reps_fast, 5), warm=False)
+    for r, key, base in ((rl, "l", "base"), (rp, "pi", "base"), (rb, "two", "l")):
+        bad = failed(res[key], (0, 1)) or failed(res[base], (0, 1))
+        if bad:
+            r.status, r.note = "error", bad
+            continue
+        r.set_times(res[key], res[base])
+    rl.note = "ratio to a cold skrf read of the same file"
+    rb.note = "baseline: the single-band (902-928 MHz) E24 L run with part Q"
+    return rows
+
+
+def p8(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    """Cold locate with a gate on a 10,001-point harmonic sweep."""
+    row = Row("P8", f"cold locate --gate --json, {sz.p6_points:,} pts", goal="<= 1.5x", limit=1.5)
     if not has_command("locate"):
         row.status = "not built yet"
         return [row]
@@ -441,7 +481,7 @@ def p6(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [row]
 
 
-CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6}
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P7": p7, "P8": p8}
 
 
 # ------------------------------------------------------------------------------------------

@@ -3,8 +3,8 @@ solder order, before/after pictures."""
 
 from __future__ import annotations
 
-from ...matching import dc_words
 from .. import html as h
+from ..text.match import dc_words
 from ..words import fixed, network_text, part_text, q_text, schematic, target_text
 from .plots import CAPTIONS, masks
 
