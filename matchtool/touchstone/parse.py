@@ -459,8 +459,8 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
     ignored; a file that says its data are not renormalised but gives no impedances is refused.
     """
-    if "mpedance" not in text and "normali" not in text:
-        return None
+    if len(st.body) == len(text) or ("mpedance" not in text and "normali" not in text):
+        return None  # no comment at all (the scan removed none), or none about the reference
     stated, stated_line = renormalisation_statement(text)
     pz = port_impedances(text, st.path, n, m)
     if pz is None:
