@@ -18,6 +18,11 @@ Cases (goals from the benchmarks issue):
       Goal: < 2 s.
   P5  ``inspect`` of a 1,000,000-point sweep: wall time and peak memory (max RSS of the process)
       against scikit-rf's own read of the same file. Goal: <= 1.3x time, <= 2x memory.
+  P6  the Touchstone parser in-process: ``matchtool.sweep.parse_touchstone`` of a 100,000-row
+      two-port RI file (about 14 MB of text, already in memory) against ``numpy.loadtxt`` of the
+      same body (the numbers only, from an in-memory text stream), interleaved in one process,
+      CPU time (process_time), median of the repetitions. Goal: >= 1.0x loadtxt's throughput,
+      i.e. a time ratio <= 1.0.
 
 Every measurement is a fresh subprocess (so start-up is counted, as a user sees it); candidate
 and baseline runs are interleaved, repeated, and the median is reported. Peak memory comes from
@@ -98,13 +103,15 @@ class Sizes:
     p1_files: int
     points: int
     p5_points: int
+    p6_rows: int
     trials: int
     reps_fast: int  # repetitions of sub-second cases
     reps_slow: int  # repetitions of multi-second cases
 
 
-FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, trials=10_000, reps_fast=11, reps_slow=3)
-QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, trials=200, reps_fast=2, reps_slow=1)
+FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, p6_rows=100_000, trials=10_000, reps_fast=11,
+             reps_slow=3)
+QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, p6_rows=5_000, trials=200, reps_fast=2, reps_slow=1)
 
 
 @dataclass
@@ -412,7 +419,47 @@ def p5(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [rt, rm]
 
 
-CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5}
+P6_SCRIPT = """
+import io, json, statistics, sys, time
+import numpy as np
+from matchtool.sweep import parse_touchstone, touchstone_text
+rows, reps, seed = int(sys.argv[1]), int(sys.argv[2]), int(sys.argv[3])
+rng = np.random.default_rng(seed)
+f = np.linspace(100e6, 6e9, rows)
+s = rng.uniform(-0.6, 0.6, (rows, 2, 2)) + 1j * rng.uniform(-0.6, 0.6, (rows, 2, 2))
+text = touchstone_text(f, s, 50.0)
+body = text.split("\\n", 1)[1]
+ts = parse_touchstone(text, "p6.s2p", 2)
+ref = np.loadtxt(io.StringIO(body))
+assert np.array_equal(ts.f_hz, ref[:, 0]) and np.array_equal(ts.s[:, 1, 0].real, ref[:, 3])
+ours, base = [], []
+for _ in range(reps):
+    t0 = time.process_time(); parse_touchstone(text, "p6.s2p", 2); t1 = time.process_time()
+    np.loadtxt(io.StringIO(body)); t2 = time.process_time()
+    ours.append(t1 - t0); base.append(t2 - t1)
+print(json.dumps({"ours": statistics.median(ours), "base": statistics.median(base), "mb": len(text) / 1e6}))
+"""
+
+
+def p6(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    row = Row("P6", f"parse {sz.p6_rows:,} two-port RI rows in-process", goal="<= 1.0x", limit=1.0)
+    reps = max(3, sz.reps_fast)
+    p = subprocess.run([PY, "-c", P6_SCRIPT, str(sz.p6_rows), str(reps), str(SEED)], capture_output=True,
+                       text=True, env=run.env, cwd=run.cwd, timeout=600)
+    try:
+        got = json.loads(p.stdout.strip().splitlines()[-1])
+    except (ValueError, IndexError):
+        row.status = "error"
+        row.note = (p.stderr.strip().splitlines() or ["no output"])[-1][:150]
+        return [row]
+    row.ours = row.ours_cpu = got["ours"]
+    row.base = row.base_cpu = got["base"]
+    row.note = (f"{got['mb']:.1f} MB of text; CPU time in one process, median of {reps}; baseline "
+                "numpy.loadtxt of the same body; ratio = time ratio (<= 1.0x: at least loadtxt's throughput)")
+    return [row]
+
+
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6}
 
 
 # ------------------------------------------------------------------------------------------
@@ -481,7 +528,7 @@ def main(argv: list[str] | None = None) -> int:
     wanted = ["P3" if c == "P4" else c for c in wanted]
     unknown = [c for c in wanted if c not in CASES]
     if unknown:
-        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P1 P2 P3 P4 P5", file=sys.stderr)
+        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P1 P2 P3 P4 P5 P6", file=sys.stderr)
         return 2
     info = machine()
     print(f"matchtool benchmarks ({'quick' if args.quick else 'full'} sizes) - "
