@@ -94,12 +94,32 @@ def _counts_per_line(raw: np.ndarray) -> np.ndarray:
     return np.append(counts, 0) if ends_empty else counts
 
 
+_BLOCK = 1 << 20  # bytes counted at a time: the temporaries stay small whatever the file's size
+
+
+def _counts_in_blocks(data: bytes) -> np.ndarray:
+    """:func:`_counts_per_line` of ``data``, a block of about ``_BLOCK`` bytes at a time, each
+    block ending after a newline (so no line is split; a block opens with a line start)."""
+    raw = np.frombuffer(data, dtype=np.uint8)
+    if raw.size <= 2 * _BLOCK:
+        return _counts_per_line(raw)
+    parts = []
+    a = 0
+    while a < raw.size:
+        b = data.rfind(b"\n", a, a + _BLOCK) + 1
+        if b <= a:  # a line longer than a block
+            b = data.find(b"\n", a + _BLOCK) + 1 or raw.size
+        part = _counts_per_line(raw[a:b])
+        parts.append(part[:-1] if b < raw.size else part)  # the empty line after a block's last newline
+        a = b
+    return np.concatenate(parts)
+
+
 def _numbers_fast(data: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     """The common case in one C-speed conversion: ``np.fromstring`` reads every number and the
     count per line comes from byte arithmetic. None whenever anything is unusual (a token that
     is not one plain finite number: the exact path then finds and names it)."""
-    raw = np.frombuffer(data, dtype=np.uint8)
-    counts = _counts_per_line(raw)
+    counts = _counts_in_blocks(data)
     total = int(counts.sum())
     if total == 0:
         return None
@@ -114,7 +134,7 @@ def _numbers_fast(data: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     return values, counts
 
 
-def numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndarray, np.ndarray]:
+def numbers(chunk: str | bytes, first_line: int, path: str, what: str) -> tuple[np.ndarray, np.ndarray]:
     """All numbers of a data chunk, and the count of numbers on each of its lines (vectorised).
 
     Every token must be a plain finite decimal number; anything else raises TouchstoneError with
@@ -122,13 +142,18 @@ def numbers(chunk: str, first_line: int, path: str, what: str) -> tuple[np.ndarr
     common case takes :func:`_numbers_fast`; anything it does not accept goes through the exact
     path below, which finds and names the first bad token (the messages of the hostile corpus).
     """
-    try:
-        data = chunk.encode("ascii")
-    except UnicodeEncodeError:
-        raise bad_token(chunk, first_line, path, what) from None
+    if isinstance(chunk, bytes):  # ASCII already (the caller has let go of the text)
+        data = chunk
+    else:
+        try:
+            data = chunk.encode("ascii")
+        except UnicodeEncodeError:
+            raise bad_token(chunk, first_line, path, what) from None
     fast = _numbers_fast(data) if data else None
     if fast is not None:
         return fast
+    if isinstance(chunk, bytes):
+        chunk = data.decode("ascii")
     if data.translate(None, _DATA_BYTES):  # something other than digits, signs, '.', 'e' and blanks
         raise bad_token(chunk, first_line, path, what)
     raw = np.frombuffer(data, dtype=np.uint8)

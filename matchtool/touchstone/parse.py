@@ -101,6 +101,7 @@ class _State:
     repeats: int = 0  # ignored (second, third ...) option lines
     first_repeat: int = 0
     warnings: list[str] = field(default_factory=list)
+    comments: bool = False  # the text holds comments
 
 
 # ------------------------------------------------------------------------------- the option line
@@ -316,6 +317,8 @@ def _scan(text: str, path: str) -> _State:
         further = f" ({st.repeats - 1} more after it)" if st.repeats > 1 else ""
         st.warnings.append(f"{path} line {st.first_repeat}: a second option line is ignored{further} "
                            "(only the first counts)")
+    st.comments = body is not text
+    st.body, st.lines = "", Lines("")  # the scan is done: a copy of the text need not live on
     if st.in_info:
         raise TouchstoneError("[Begin Information] without [End Information]", path, st.info_line)
     if st.option is None:
@@ -474,8 +477,8 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
     ignored; a file that says its data are not renormalised but gives no impedances is refused.
     """
-    if len(st.body) == len(text) or ("mpedance" not in text and "normali" not in text):
-        return None  # no comment at all (the scan removed none), or none about the reference
+    if not st.comments or ("mpedance" not in text and "normali" not in text):
+        return None  # no comment at all, or none about the reference
     stated, stated_line = renormalisation_statement(text)
     pz = port_impedances(text, st.path, n, m)
     if pz is None:
@@ -626,7 +629,14 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
     last_f = -math.inf
     in_noise = False
     for c in chunks:
-        values, counts = numbers(c.text, c.line, path, "network data")
+        text, c.text = c.text, ""  # the chunk's text is let go of once encoded (peak memory)
+        try:
+            arg: str | bytes = text.encode("ascii")
+        except UnicodeEncodeError:
+            arg = text
+        del text
+        values, counts = numbers(arg, c.line, path, "network data")
+        del arg
         line_no = c.line + np.arange(counts.size)
         if in_noise:
             check_rows(counts, c.line, 5, path, "noise row")
