@@ -269,8 +269,8 @@ def _hfss_like(path, f_ghz, s, z_port, stated="! Data is not renormalized", per_
         lines.append(f"{f_ghz[k]:g} " + " ".join(_ri(vals, 15)))
         lines.append("! Gamma ! " + " ".join("0.001 20.9" for _ in range(n)))
         zs = _ri(z_port[k], 15)
-        if per_line:
-            lines.append("! Port Impedance " + " ".join(zs[:per_line]))
+        if per_line:  # no blank after the words, then one port per continuation line
+            lines.append("! Port Impedance" + " ".join(zs[:per_line]))
             lines += ["!  " + z for z in zs[per_line:]]
         else:
             lines.append("! Port Impedance " + " ".join(zs))

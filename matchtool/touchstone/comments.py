@@ -10,6 +10,7 @@ source in the Touchstone specification, which leaves comments free)::
     ! Gamma ! 0.0012 20.9 0.0013 21.0
     ! Port Impedance 29.1 0.4 42.6 -1.2
 
+(some exporters write the first number right after the words: ``! Port Impedance2.91e+001 ...``).
 One ``Port Impedance`` block per frequency, in order, after its data record; a block holds one
 complex value (re im) per port, or the full N x N matrix (only its diagonal is per port), and may
 continue on further comment lines that hold only numbers. This is the layout scikit-rf reads
@@ -26,7 +27,7 @@ import numpy as np
 from ..errors import TouchstoneError
 from .numbers import _NUMBER, Lines, show
 
-_PORT_Z = re.compile(r"^[ \t]*![ \t]*port[ \t]+impedance\b([^\n]*)", re.I | re.M)
+_PORT_Z = re.compile(r"^[ \t]*![ \t]*port[ \t]+impedance(?![a-z])([^\n]*)", re.I | re.M)
 _STATED = re.compile(r"^[ \t]*![^\n]*?\b(not[ \t]+)?re-?normali[sz]ed\b", re.I | re.M)
 _S_DEF = re.compile(r"S-parameter uses the (power|pseudo|traveling) definition", re.I)
 S_DEF_DEFAULT = "traveling"

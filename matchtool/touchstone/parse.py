@@ -30,6 +30,7 @@ _UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 _PARAMS = {"s", "y", "z", "h", "g"}
 _FORMATS = {"ri", "ma", "db"}
 _COMMENT = re.compile(r"![^\n]*")
+_NOT_BLANK = re.compile(r"[^ \t\n\r\v\f]")
 
 
 @dataclass(frozen=True, eq=False)
@@ -100,6 +101,7 @@ class _State:
     repeats: int = 0  # ignored (second, third ...) option lines
     first_repeat: int = 0
     warnings: list[str] = field(default_factory=list)
+    comments: bool = False  # the text holds comments
 
 
 # ------------------------------------------------------------------------------- the option line
@@ -265,10 +267,10 @@ def _on_region(st: _State, start: int, end: int) -> None:
         # as an empty line, so line numbers hold) instead of starting a chunk per line
         st.chunks[-1].more.append(seg)
         return
-    stripped = seg.lstrip()
-    if not stripped:
+    lead = _NOT_BLANK.search(seg)  # (no copy of a large region, unlike lstrip)
+    if lead is None:
         return
-    first = st.lines.at(start) + seg[: len(seg) - len(stripped)].count("\n")
+    first = st.lines.at(start) + seg.count("\n", 0, lead.start())
     if st.ended:
         raise TouchstoneError("text after [End]", st.path, first)
     if st.option is None:
@@ -280,9 +282,21 @@ def _on_region(st: _State, start: int, end: int) -> None:
     st.chunks.append(_Chunk(seg, st.lines.at(start), st.section))
 
 
+def _without_comments(text: str) -> str:
+    """``text`` with every comment ('!' to the end of its line) removed; line numbers hold. Only
+    the part up to the last comment is searched (a sweep's comments are mostly at its top)."""
+    last = text.rfind("!")
+    if last < 0:
+        return text
+    end = text.find("\n", last)
+    if end < 0 or end > len(text) // 2:
+        return _COMMENT.sub("", text)
+    return _COMMENT.sub("", text[:end]) + text[end:]
+
+
 def _scan(text: str, path: str) -> _State:
     """One pass over the control lines of ``text``; the data between them become chunks."""
-    body = _COMMENT.sub("", text)
+    body = _without_comments(text)
     st = _State(path=path, body=body, lines=Lines(body))
     prev_end = 0
     for c_start, c_end, ctrl in controls(body):
@@ -303,6 +317,8 @@ def _scan(text: str, path: str) -> _State:
         further = f" ({st.repeats - 1} more after it)" if st.repeats > 1 else ""
         st.warnings.append(f"{path} line {st.first_repeat}: a second option line is ignored{further} "
                            "(only the first counts)")
+    st.comments = body is not text
+    st.body, st.lines = "", Lines("")  # the scan is done: a copy of the text need not live on
     if st.in_info:
         raise TouchstoneError("[Begin Information] without [End Information]", path, st.info_line)
     if st.option is None:
@@ -423,6 +439,8 @@ def _frequencies_hz(f_file: np.ndarray, unit: float, rec_lines: np.ndarray, path
 
 
 def _complex_values(pairs: np.ndarray, fmt: str) -> np.ndarray:
+    if fmt == "RI":  # the pairs are already (re, im) in memory: one copy, no arithmetic
+        return np.ascontiguousarray(pairs).view(np.complex128)[..., 0]
     a, b = pairs[..., 0], pairs[..., 1]
     with np.errstate(all="ignore"):  # an overflow (DB 1e308) is reported by the caller, by line
         if fmt == "RI":
@@ -459,8 +477,8 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
     ignored; a file that says its data are not renormalised but gives no impedances is refused.
     """
-    if "mpedance" not in text and "normali" not in text:
-        return None
+    if not st.comments or ("mpedance" not in text and "normali" not in text):
+        return None  # no comment at all, or none about the reference
     stated, stated_line = renormalisation_statement(text)
     pz = port_impedances(text, st.path, n, m)
     if pz is None:
@@ -611,7 +629,14 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
     last_f = -math.inf
     in_noise = False
     for c in chunks:
-        values, counts = numbers(c.text, c.line, path, "network data")
+        text, c.text = c.text, ""  # the chunk's text is let go of once encoded (peak memory)
+        try:
+            arg: str | bytes = text.encode("ascii")
+        except UnicodeEncodeError:
+            arg = text
+        del text
+        values, counts = numbers(arg, c.line, path, "network data")
+        del arg
         line_no = c.line + np.arange(counts.size)
         if in_noise:
             check_rows(counts, c.line, 5, path, "noise row")
@@ -662,7 +687,7 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
         else:
             lines_out.append(_wrapped_records(values, counts, line_no, n, per, path))
             recs.append(values.reshape(-1, per))
-    records = np.concatenate(recs) if recs else np.empty((0, per))
+    records = (recs[0] if len(recs) == 1 else np.concatenate(recs)) if recs else np.empty((0, per))
     if records.shape[0] == 0:
         raise TouchstoneError("no data", path, expected="at least one frequency row")
     return records, np.concatenate(lines_out), noise_rows

@@ -18,6 +18,11 @@ Cases (goals from the benchmarks issue):
       Goal: < 2 s.
   P5  ``inspect`` of a 1,000,000-point sweep: wall time and peak memory (max RSS of the process)
       against scikit-rf's own read of the same file. Goal: <= 1.3x time, <= 2x memory.
+  P6  the Touchstone parser in-process: ``matchtool.sweep.parse_touchstone`` of a 100,000-row
+      two-port RI file (about 14 MB of text, already in memory) against ``numpy.loadtxt`` of the
+      same body (the numbers only, from an in-memory text stream), interleaved in one process,
+      CPU time (process_time), median of the repetitions. Goal: >= 1.0x loadtxt's throughput,
+      i.e. a time ratio <= 1.0.
   P7  ``matchtool match`` exhaustive search on a 1,601-point sweep: E24 L with part Q (goal <= 3x a
       cold scikit-rf read), E24 pi with every population of the three pads (<= 6x), and two bands at
       once against the single band (<= 1.5x).
@@ -104,14 +109,17 @@ class Sizes:
     p1_files: int
     points: int
     p5_points: int
+    p6_rows: int
     trials: int
     reps_fast: int  # repetitions of sub-second cases
     reps_slow: int  # repetitions of multi-second cases
-    p6_points: int = 10_001
+    p8_points: int = 10_001
 
 
-FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, trials=10_000, reps_fast=11, reps_slow=3)
-QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, trials=200, reps_fast=2, reps_slow=1, p6_points=1001)
+FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, p6_rows=100_000, trials=10_000, reps_fast=11,
+             reps_slow=3)
+QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, p6_rows=5_000, trials=200, reps_fast=2, reps_slow=1,
+              p8_points=1001)
 
 
 @dataclass
@@ -457,13 +465,13 @@ def p7(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
 
 def p8(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     """Cold locate with a gate on a 10,001-point harmonic sweep."""
-    row = Row("P8", f"cold locate --gate --json, {sz.p6_points:,} pts", goal="<= 1.5x", limit=1.5)
+    row = Row("P8", f"cold locate --gate --json, {sz.p8_points:,} pts", goal="<= 1.5x", limit=1.5)
     if not has_command("locate"):
         row.status = "not built yet"
         return [row]
     # a harmonic grid (k x 300 kHz): the antenna model 5 m down a VF 0.7 cable with 0.3 dB/m at 1 GHz,
     # and a small connector echo at 0.5 m (|Gamma| 0.05)
-    f = np.arange(1, sz.p6_points + 1) * (3e9 / sz.p6_points)
+    f = np.arange(1, sz.p8_points + 1) * (3e9 / sz.p8_points)
     rng = np.random.default_rng([SEED, 6])
     beta = 2 * math.pi * f / (0.7 * 299_792_458.0)
     two_way = 10 ** (-2 * 5.0 * 0.3 * np.sqrt(f / 1e9) / 20)
@@ -481,7 +489,47 @@ def p8(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [row]
 
 
-CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P7": p7, "P8": p8}
+P6_SCRIPT = """
+import io, json, statistics, sys, time
+import numpy as np
+from matchtool.sweep import parse_touchstone, touchstone_text
+rows, reps, seed = int(sys.argv[1]), int(sys.argv[2]), int(sys.argv[3])
+rng = np.random.default_rng(seed)
+f = np.linspace(100e6, 6e9, rows)
+s = rng.uniform(-0.6, 0.6, (rows, 2, 2)) + 1j * rng.uniform(-0.6, 0.6, (rows, 2, 2))
+text = touchstone_text(f, s, 50.0)
+body = text.split("\\n", 1)[1]
+ts = parse_touchstone(text, "p6.s2p", 2)
+ref = np.loadtxt(io.StringIO(body))
+assert np.array_equal(ts.f_hz, ref[:, 0]) and np.array_equal(ts.s[:, 1, 0].real, ref[:, 3])
+ours, base = [], []
+for _ in range(reps):
+    t0 = time.process_time(); parse_touchstone(text, "p6.s2p", 2); t1 = time.process_time()
+    np.loadtxt(io.StringIO(body)); t2 = time.process_time()
+    ours.append(t1 - t0); base.append(t2 - t1)
+print(json.dumps({"ours": statistics.median(ours), "base": statistics.median(base), "mb": len(text) / 1e6}))
+"""
+
+
+def p6(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    row = Row("P6", f"parse {sz.p6_rows:,} two-port RI rows in-process", goal="<= 1.0x", limit=1.0)
+    reps = max(3, sz.reps_fast)
+    p = subprocess.run([PY, "-c", P6_SCRIPT, str(sz.p6_rows), str(reps), str(SEED)], capture_output=True,
+                       text=True, env=run.env, cwd=run.cwd, timeout=600)
+    try:
+        got = json.loads(p.stdout.strip().splitlines()[-1])
+    except (ValueError, IndexError):
+        row.status = "error"
+        row.note = (p.stderr.strip().splitlines() or ["no output"])[-1][:150]
+        return [row]
+    row.ours = row.ours_cpu = got["ours"]
+    row.base = row.base_cpu = got["base"]
+    row.note = (f"{got['mb']:.1f} MB of text; CPU time in one process, median of {reps}; baseline "
+                "numpy.loadtxt of the same body; ratio = time ratio (<= 1.0x: at least loadtxt's throughput)")
+    return [row]
+
+
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6, "P7": p7, "P8": p8}
 
 
 # ------------------------------------------------------------------------------------------
