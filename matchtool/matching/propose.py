@@ -617,7 +617,7 @@ def propose(sweep_or_network, *, f0_hz: float | None = None, bands: Sequence = (
         raise UsageError("how many networks to list", parameter="max_candidates", value=max_candidates,
                          expected="1 or more")
     if (f0_hz is None) == (not bands):
-        raise UsageError("give exactly one of --at FREQ or --band LOW:HIGH", parameter="target")
+        raise UsageError("give exactly one target: f0_hz (one frequency) or bands", parameter="target")
     targets = ([Target(float(f0_hz), float(f0_hz), threshold_db)] if f0_hz is not None
                else [_as_target(b, threshold_db, True) for b in bands])
     targets += [_as_target(b, threshold_db, False) for b in report_bands]
