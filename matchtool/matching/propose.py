@@ -471,15 +471,14 @@ def _elements(fd: srch.Found) -> tuple[tuple[Element, ...], tuple[Position, ...]
 def topology_name(footprint: str, elements: Sequence[Element]) -> str:
     """The shape's name: for ``l`` "shunt-at-antenna" (series part toward the radio, shunt at the
     antenna), "series-at-antenna", "series", "shunt" or "direct"; for pi / tee the footprint and the
-    fitted positions, e.g. "pi 1+2" or "tee none"."""
+    fitted positions, e.g. "pi 1+2"; "direct" for no part on any footprint."""
+    if not elements:
+        return "direct"
     if footprint == "l":
-        if not elements:
-            return "direct"
         if len(elements) == 1:
             return elements[0].connection
         return "shunt-at-antenna" if elements[-1].connection == "shunt" else "series-at-antenna"
-    fitted = "+".join(str(e.position) for e in elements) or "none"
-    return f"{footprint} {fitted}"
+    return f"{footprint} {'+'.join(str(e.position) for e in elements)}"
 
 
 def _step_rank(run: _Run) -> None:
