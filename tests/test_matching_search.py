@@ -396,3 +396,12 @@ def test_e48_l_search_has_no_miss():
     r = m.propose(sw, bands=[(lo, hi)], series="E48", q=m.PartQ(50, 250))
     want = max(brute_force(sw, [(lo, hi, 10.0)], c, e48, 50, 250)[0] for c in (("series", "shunt"), ("shunt", "series")))
     assert _tool_margin(r) >= want - 0.01
+
+
+@pytest.mark.parametrize("seed", [2, 6])
+def test_exact_pi_and_tee_are_never_worse_than_exact_l(seed):
+    rng = np.random.default_rng(5000 + seed)
+    sw, lo, hi = _antenna(rng, points=201)
+    ell = _tool_margin(m.propose(sw, bands=[(lo, hi)], series="exact", q=m.PartQ(60, 300)))
+    for net in ("pi", "tee"):
+        assert _tool_margin(m.propose(sw, bands=[(lo, hi)], series="exact", network=net, q=m.PartQ(60, 300))) >= ell - 1e-9
