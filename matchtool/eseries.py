@@ -43,7 +43,7 @@ def normalize_series_name(name: str) -> str:
         return "exact"
     if n.upper() in SERIES:
         return n.upper()
-    raise UsageError(f"unknown value series {name!r}", key="--series", expected="exact, E12, E24, E48 or E96")
+    raise UsageError("unknown value series", parameter="series", value=name, expected="exact, E12, E24, E48 or E96")
 
 
 def neighbours(value: float, name: str, count: int = 2) -> np.ndarray:

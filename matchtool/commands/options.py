@@ -72,7 +72,7 @@ PARAMETER_FLAGS: dict[str, str] = {
     "series": "--series",
     "network": "--network",
     "bands": "--band",
-    "target": "--at / --band",
+    "target": "--at or --band",
     "tolerance_inductor": "--tolerance-inductor",
     "tolerance_capacitor": "--tolerance-capacitor",
     "trials": "--trials",

@@ -379,7 +379,14 @@ def _step_search(run: _Run) -> None:
     keep = run.max_candidates + 3
     found = srch.search(p, fps, options, keep, 10 ** (SIMPLER_GAIN_DB / 10))
     if exact:
-        found = _refine(run, fps, found + _closed_form_seeds(run, fps), keep)
+        seeds = _closed_form_seeds(run, fps)
+        if run.network != "l":  # the exact L results on the pads: a pi / tee is never worse than an L
+            sub = _Run(run.sweep, run.targets, "l", run.series, run.q, run.bounds, run.threshold_db, run.max_candidates,
+                       None, z0=run.z0, f0=run.f0, samples=run.samples, problem=run.problem)
+            _step_search(sub)
+            for fd in sub.found:
+                seeds += _placements(_elements(fd)[0], fps)
+        found = _refine(run, fps, found + seeds, keep)
     run.found = found
 
 
@@ -398,18 +405,25 @@ def _closed_form_seeds(run: _Run, fps) -> list[srch.Found]:
             z = complex(impedance_ohm(g, run.z0))
             nets = synthesize_at(z, float(f), run.z0, single_part_rl_db=0.0)
             for net in nets:
-                for fp in fps:
-                    m = len(net.elements)
-                    for combo in itertools.combinations(range(len(fp.connections)), m):
-                        if any(fp.connections[c] != e.connection for c, e in zip(combo, net.elements, strict=True)):
-                            continue
-                        kinds = [srch.NONE] * len(fp.connections)
-                        values = [math.nan] * len(fp.connections)
-                        for c, e in zip(combo, net.elements, strict=True):
-                            kinds[c] = srch.INDUCTOR if e.kind == "inductor" else srch.CAPACITOR
-                            values[c] = e.value
-                        seeds.append(srch.Found(math.inf, fp, tuple(kinds), tuple(values)))
+                seeds += _placements(net.elements, fps)
     return seeds
+
+
+def _placements(elements: Sequence[Element], fps) -> list[srch.Found]:
+    """``elements`` (radio side first) placed on every run of footprint positions with the same
+    connections in the same order, the other positions empty."""
+    out = []
+    for fp in fps:
+        for combo in itertools.combinations(range(len(fp.connections)), len(elements)):
+            if any(fp.connections[c] != e.connection for c, e in zip(combo, elements, strict=True)):
+                continue
+            kinds = [srch.NONE] * len(fp.connections)
+            values = [math.nan] * len(fp.connections)
+            for c, e in zip(combo, elements, strict=True):
+                kinds[c] = srch.INDUCTOR if e.kind == "inductor" else srch.CAPACITOR
+                values[c] = e.value
+            out.append(srch.Found(math.inf, fp, tuple(kinds), tuple(values)))
+    return out
 
 
 def _refine(run: _Run, fps, starts: list[srch.Found], keep: int) -> list[srch.Found]:
@@ -471,15 +485,14 @@ def _elements(fd: srch.Found) -> tuple[tuple[Element, ...], tuple[Position, ...]
 def topology_name(footprint: str, elements: Sequence[Element]) -> str:
     """The shape's name: for ``l`` "shunt-at-antenna" (series part toward the radio, shunt at the
     antenna), "series-at-antenna", "series", "shunt" or "direct"; for pi / tee the footprint and the
-    fitted positions, e.g. "pi 1+2" or "tee none"."""
+    fitted positions, e.g. "pi 1+2"; "direct" for no part on any footprint."""
+    if not elements:
+        return "direct"
     if footprint == "l":
-        if not elements:
-            return "direct"
         if len(elements) == 1:
             return elements[0].connection
         return "shunt-at-antenna" if elements[-1].connection == "shunt" else "series-at-antenna"
-    fitted = "+".join(str(e.position) for e in elements) or "none"
-    return f"{footprint} {fitted}"
+    return f"{footprint} {'+'.join(str(e.position) for e in elements)}"
 
 
 def _step_rank(run: _Run) -> None:
@@ -617,7 +630,7 @@ def propose(sweep_or_network, *, f0_hz: float | None = None, bands: Sequence = (
         raise UsageError("how many networks to list", parameter="max_candidates", value=max_candidates,
                          expected="1 or more")
     if (f0_hz is None) == (not bands):
-        raise UsageError("give exactly one of --at FREQ or --band LOW:HIGH", parameter="target")
+        raise UsageError("give exactly one target: f0_hz (one frequency) or bands", parameter="target")
     targets = ([Target(float(f0_hz), float(f0_hz), threshold_db)] if f0_hz is not None
                else [_as_target(b, threshold_db, True) for b in bands])
     targets += [_as_target(b, threshold_db, False) for b in report_bands]

@@ -132,14 +132,15 @@ def canonical(connections: Sequence[str], kinds: Sequence[int], values: Sequence
     return tuple((conn, tuple(sorted(items))) for conn, items in groups)
 
 
-def _walk_rows(problem: Problem, opts: Sequence[Options], idx: Sequence[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
-    """Normalised (v, i) at the input of position 2 for rows given by option indices of positions 2..k."""
-    g = problem.gamma
+def _walk_rows(g: np.ndarray, imms: Sequence[np.ndarray], connections: Sequence[str],
+               idx: Sequence[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """Normalised (v, i) at the input of position 2 for rows given by option indices of positions
+    2..k (``imms`` their immittance tables on the samples of ``g``)."""
     v = np.broadcast_to(1.0 + g, (idx[0].size, g.size)).astype(complex)
     i = np.broadcast_to(1.0 - g, (idx[0].size, g.size)).astype(complex)
-    for o, ix in zip(reversed(opts), reversed(idx), strict=True):
-        m = o.imm[ix]
-        if o.connection == "series":
+    for imm, conn, ix in zip(reversed(imms), reversed(list(connections)), reversed(idx), strict=True):
+        m = imm[ix]
+        if conn == "series":
             v = v + m * i
         else:
             i = i + m * v
@@ -166,7 +167,9 @@ def _node(first: str, v: np.ndarray, i: np.ndarray) -> tuple[np.ndarray, np.ndar
 def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Footprint, Sequence[Options]],
            keep: int, simpler_gain: float = 1.0) -> list[Found]:
     """The ``keep`` best distinct circuits (by cost, best first) over every option combination of
-    every footprint (see the module text).
+    every footprint (see the module text). Bounds and screens use subsets of the samples (the band
+    edges and centres, then about 32 evenly spaced samples): a maximum over fewer samples is a lower
+    bound of the maximum over all, so they prune without losing the optimum.
 
     ``simpler_gain`` (>= 1): a circuit of n parts counts only when its cost is below the best cost of
     every circuit with fewer parts divided by this factor (it must beat every simpler circuit by that
@@ -176,6 +179,8 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
     w = problem.weight
     n = problem.f_hz.size
     probe = _probe_samples(problem)
+    stride = max(1, n // 32)
+    probe2 = np.union1d(probe, np.arange(0, n, stride)) if n > 4 * probe.size else probe
     best: dict[tuple, Found] = {}
     max_parts = max(len(fp.connections) for fp in footprints)
     best_by_n = np.full(max_parts + 1, math.inf)  # best cost of any circuit with n parts
@@ -194,27 +199,35 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
         shape = tuple(o.kinds.size for o in rest)
         n_rows = int(np.prod(shape))
         keys = {combo: canonical(fp.connections, combo) for combo in itertools.product(range(3), repeat=len(opts))}
-        # stage 1: a lower bound of the cost of every row, and its number of fitted parts
+        conns = [o.connection for o in rest]
+        full_imm = [o.imm for o in rest]
+        sub_imm = [o.imm[:, probe2] for o in rest]
+        g_sub = problem.gamma[probe2]
+        pl4_sub, w_sub = pl4[probe2], w[probe2]
+        first_sub = first.imm[:, probe2]
+        at_probe = np.searchsorted(probe2, probe)  # the first screen's samples inside the second
+        # stage 1: a lower bound of the cost of every row (from the screening samples: a maximum
+        # over fewer samples is still a lower bound), and its number of fitted parts
         lb = np.empty(n_rows)
         n_rest = np.zeros(n_rows, dtype=np.int64)
-        chunk = max(1, EVAL_BLOCK // max(n, 1))
+        chunk = max(1, EVAL_BLOCK // max(probe2.size, 1))
         for start in range(0, n_rows, chunk):
             flat = np.arange(start, min(start + chunk, n_rows))
             idx = np.unravel_index(flat, shape)
-            v, i = _walk_rows(problem, rest, idx)
+            v, i = _walk_rows(g_sub, sub_imm, conns, idx)
             re, _, k = _node(first.connection, v, i)
-            ub = pl4 * k / (1.0 + re) ** 2
-            lb[start:start + flat.size] = np.max(w * (1.0 - ub), axis=1)
+            ub = pl4_sub * k / (1.0 + re) ** 2
+            lb[start:start + flat.size] = np.max(w_sub * (1.0 - ub), axis=1)
             n_rest[start:start + flat.size] = sum((o.kinds[ix] != NONE).astype(np.int64)
                                                   for o, ix in zip(rest, idx, strict=True))
         # stage 2: rows with fewer parts first (they set the bar for the larger circuits), each group
         # in order of its bound; every option of position 1 for a visited row. A (row, option) pair is
-        # first judged on a few samples (each band's edges and centre): the cost there is a lower
-        # bound of its cost over all samples, so a pair already no better than its bar is dropped
-        # before the full evaluation (exact, only faster).
+        # first judged on a few samples (each band's edges and centre), then on an evenly spaced
+        # subset: the cost there is a lower bound of its cost over all samples, so a pair already no
+        # better than its bar is dropped before the full evaluation (exact, only faster).
         n1 = first.kinds.size
         fitted1 = (first.kinds != NONE).astype(np.int64)
-        rchunk = max(1, EVAL_BLOCK // max(probe.size * n1, 1))
+        rchunk = max(1, EVAL_BLOCK // max(probe2.size * n1, 1))
         for group in range(len(rest) + 1):
             members = np.flatnonzero(n_rest == group)
             order = members[np.argsort(lb[members], kind="stable")]
@@ -229,18 +242,33 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
                     break
                 pos += step
                 idx = np.unravel_index(rows, shape)
-                v, i = _walk_rows(problem, rest, idx)
-                re, im, k = _node(first.connection, v, i)
-                pk = pl4 * k
                 bar = t_parts(group + fitted1, tk)  # per option of position 1
                 if np.isfinite(bar).any():
-                    cp = _cost(re[:, None, probe], im[:, None, probe], pk[:, None, probe], first.imm[None, :, probe],
-                               w[probe])
+                    v, i = _walk_rows(g_sub, sub_imm, conns, idx)
+                    re, im, k = _node(first.connection, v, i)
+                    pk = pl4_sub * k
+                    pr = at_probe
+                    cp = _cost(re[:, None, pr], im[:, None, pr], pk[:, None, pr], first_sub[None, :, pr], w_sub[pr])
                     rr, jj = np.nonzero(cp < bar[None, :])
+                    if rr.size and probe2.size > probe.size:
+                        c2 = np.empty(rr.size)
+                        pchunk = max(1, EVAL_BLOCK // probe2.size)
+                        for s0 in range(0, rr.size, pchunk):
+                            r_, j_ = rr[s0:s0 + pchunk], jj[s0:s0 + pchunk]
+                            c2[s0:s0 + r_.size] = _cost(re[r_], im[r_], pk[r_], first_sub[j_], w_sub)
+                        ok = c2 < bar[jj]
+                        rr, jj = rr[ok], jj[ok]
                 else:
                     rr, jj = np.divmod(np.arange(rows.size * n1), n1)
                 if rr.size == 0:
                     continue
+                # the full evaluation, for the rows that still hold a pair
+                live, rr = np.unique(rr, return_inverse=True)
+                rows = rows[live]
+                idx = tuple(ix[live] for ix in idx)
+                v, i = _walk_rows(problem.gamma, full_imm, conns, idx)
+                re, im, k = _node(first.connection, v, i)
+                pk = pl4 * k
                 cost = np.empty(rr.size)
                 pchunk = max(1, EVAL_BLOCK // max(n, 1))
                 for s0 in range(0, rr.size, pchunk):

@@ -124,8 +124,9 @@ def bode_fano_text(report, proposal_rl_db: float | None) -> str | None:
         return None
     where = band_text(report.target)
     lim = b.best_return_loss_db
+    lim_text = f"{RL_DISPLAY_CAP_DB:g}" if lim >= RL_DISPLAY_CAP_DB else fmt(lim)
     text = (f"Bode-Fano limit {where}: no lossless network, however many parts, can hold more than "
-            f"{rl_text(lim)} dB return loss across the whole band on this antenna (a {b.model} fitted to it, "
+            f"{lim_text} dB return loss across the whole band on this antenna (a {b.model} fitted to it, "
             f"R {b.r_ohm:.3g} ohm)")
     if proposal_rl_db is not None:
         text += f"; the proposal holds {rl_text(proposal_rl_db)} dB."
