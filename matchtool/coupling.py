@@ -51,14 +51,15 @@ from .errors import OutOfRangeError, UsageError
 from .sweep import Sweep, as_sweep
 
 DEFAULT_PHASE_STEP_DEG = 1.0
-DEFAULT_MAX_EXCITATIONS = 4096
+DEFAULT_MAX_EXCITATIONS = 1024
 """Budget of excitations on the TARC phase grid (per frequency). With the default 1-degree step two
-ports use 360; three ports a 64 x 64 grid (5.625 degrees); four ports 16^3 (22.5 degrees), each then
+ports use 360; three ports a 32 x 32 grid (11.25 degrees); four ports 10^3 (36 degrees), each then
 polished to the exact local extreme."""
 POLISH_SWEEPS = 12
 POLISH_STARTS = 6
-"""For three or more ports the polish starts from this many of the grid's most extreme excitations
-per frequency (the best TARC can have several local minima)."""
+"""For three or more ports the polish starts from this many grid excitations per frequency and
+direction: the extreme of each sector of port 2's phase, the most extreme sectors first (starts in
+different basins: the best TARC can have several local minima)."""
 ECC_DENOMINATOR_FLOOR = 1e-12
 """A denominator factor ``1 - sum |S_ni|^2`` at or below this counts as zero (no radiated power)."""
 TARC_FLOOR_DB = -CAP_DB
@@ -124,23 +125,31 @@ def _phase_grid(k: int, step_deg: float, max_excitations: int) -> tuple[np.ndarr
 
 def _quadratic(m: np.ndarray, a: np.ndarray) -> np.ndarray:
     """``Re(a^H M a)`` per frequency for excitations ``a`` (n, K) and Gram matrices ``m`` (n, K, K)."""
-    return np.einsum("fk,fkl,fl->f", a.conj(), m, a).real
+    return np.sum(a.conj() * (m @ a[:, :, None])[:, :, 0], axis=1).real
 
 
 def _polish(m: np.ndarray, a: np.ndarray, maximise: bool) -> np.ndarray:
     """One-phase-at-a-time exact optimisation of ``a^H M a`` over unit-modulus excitations, the
-    first port's phase held at 0 (each step never moves away from the extreme)."""
+    first port's phase held at 0 (each step never moves away from the extreme). Rows stop once a
+    sweep changes ``a^H M a`` by less than 1e-12 relative; at most :data:`POLISH_SWEEPS` sweeps."""
     a = a.copy()
     k = a.shape[1]
+    rows = np.arange(a.shape[0])
+    before = _quadratic(m, a)
     for _ in range(POLISH_SWEEPS):
-        before = _quadratic(m, a)
+        mm, aa = m[rows], a[rows]
         for q in range(1, k):
-            z = np.einsum("fl,fl->f", m[:, q, :], a) - m[:, q, q] * a[:, q]
+            z = np.sum(mm[:, q, :] * aa, axis=1) - mm[:, q, q] * aa[:, q]
             mag = np.abs(z)
-            unit = np.where(mag > 0, z / np.where(mag > 0, mag, 1.0), a[:, q])
-            a[:, q] = unit if maximise else -unit
-        after = _quadratic(m, a)
-        if np.all(np.abs(after - before) <= 1e-13 * np.maximum(np.abs(before), 1e-30)):
+            unit = np.where(mag > 0, z / np.where(mag > 0, mag, 1.0), aa[:, q])
+            aa[:, q] = unit if maximise else -unit
+        a[rows] = aa
+        if k == 2:  # one free phase: the single step above is already the exact extreme
+            break
+        after = _quadratic(mm, aa)
+        moving = np.abs(after - before) > 1e-12 * np.maximum(np.abs(before), 1e-30)
+        rows, before = rows[moving], after[moving]
+        if rows.size == 0:
             break
     return a
 
@@ -165,22 +174,30 @@ def tarc_extremes(s: np.ndarray, ports: Sequence[int], phase_step_deg: float = D
     pm = np.stack([a_grid[:, p].conj() * a_grid[:, q] for p, q in pairs], axis=1)  # (E, P)
     mp = np.stack([m[:, p, q] for p, q in pairs], axis=1)  # (n, P)
     e = pm.shape[0]
-    starts = 1 if k == 2 else min(POLISH_STARTS, e)  # two ports: one polish is already exact
+    per = int(round(360.0 / step))
+    rest = e // per if k > 2 else 1
+    starts = 1 if k == 2 else min(POLISH_STARTS, per)  # two ports: one polish is already exact
     hi_idx = np.empty((n, starts), dtype=int)
     lo_idx = np.empty((n, starts), dtype=int)
-    chunk = max(1, int(4_000_000 // max(1, e)))
+    chunk = max(1, int(2_000_000 // max(1, e)))
     for start in range(0, n, chunk):
         sl = slice(start, start + chunk)
         # Re(M_pq conj(a_p) a_q) summed over p < q, as real matrix products
         q_val = diag[sl, None] + 2.0 * (mp[sl].real @ pm.real.T - mp[sl].imag @ pm.imag.T)
-        if starts == e:
-            order = np.argsort(q_val, axis=1)
-            lo_idx[sl], hi_idx[sl] = order[:, :starts], order[:, ::-1][:, :starts]
-        else:
-            hi_idx[sl] = np.argpartition(-q_val, starts - 1, axis=1)[:, :starts]
-            lo_idx[sl] = np.argpartition(q_val, starts - 1, axis=1)[:, :starts]
-    q_hi = np.max([_quadratic(m, _polish(m, a_grid[hi_idx[:, c]], maximise=True)) for c in range(starts)], axis=0)
-    q_lo = np.min([_quadratic(m, _polish(m, a_grid[lo_idx[:, c]], maximise=False)) for c in range(starts)], axis=0)
+        if k == 2:
+            hi_idx[sl, 0], lo_idx[sl, 0] = np.argmax(q_val, axis=1), np.argmin(q_val, axis=1)
+            continue
+        # starts in different basins: the extreme of each sector of port 2's phase, then the most
+        # extreme sectors (the grid runs over port 2's phase slowest)
+        sectors = q_val.reshape(q_val.shape[0], per, rest)
+        for idx, arg, pick in ((hi_idx, np.argmax, -1), (lo_idx, np.argmin, 1)):
+            inner = arg(sectors, axis=2)
+            val = np.take_along_axis(sectors, inner[:, :, None], axis=2)[:, :, 0]
+            order = np.argsort(pick * val, axis=1)[:, :starts]
+            idx[sl] = order * rest + np.take_along_axis(inner, order, axis=1)
+    m_rep = np.repeat(m, starts, axis=0)  # every start of every frequency polished in one call
+    q_hi = _quadratic(m_rep, _polish(m_rep, a_grid[hi_idx.reshape(-1)], maximise=True)).reshape(n, starts).max(axis=1)
+    q_lo = _quadratic(m_rep, _polish(m_rep, a_grid[lo_idx.reshape(-1)], maximise=False)).reshape(n, starts).min(axis=1)
     worst = np.sqrt(np.maximum(q_hi, 0.0) / k)
     best = np.sqrt(np.maximum(q_lo, 0.0) / k)
     return worst, best, step, int(e)

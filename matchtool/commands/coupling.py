@@ -53,7 +53,7 @@ def register(app: typer.Typer) -> None:
             "pair, TARC of all ports].")] = None,
         phase_step: Annotated[float, typer.Option(
             "--phase-step", metavar="DEG", help="TARC phase grid step in degrees (widened for three or more "
-            "ports to keep the grid within 4096 excitations).")] = DEFAULT_PHASE_STEP_DEG,
+            "ports to keep the grid within 1024 excitations, then polished).")] = DEFAULT_PHASE_STEP_DEG,
         z0: Z0Opt = None,
         json_out: JsonOpt = False,
     ) -> int:
