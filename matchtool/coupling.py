@@ -57,6 +57,8 @@ ports use 360; three ports a 32 x 32 grid (11.25 degrees); four ports 10^3 (36 d
 polished to the exact local extreme."""
 POLISH_SWEEPS = 12
 POLISH_STARTS = 6
+KEEP_STARTS = 2
+"""Of the starts, this many per frequency and direction go on to Newton's steps after three sweeps."""
 """For three or more ports the polish starts from this many grid excitations per frequency and
 direction: the extreme of each sector of port 2's phase, the most extreme sectors first (starts in
 different basins: the best TARC can have several local minima)."""
@@ -125,30 +127,80 @@ def _phase_grid(k: int, step_deg: float, max_excitations: int) -> tuple[np.ndarr
 
 def _quadratic(m: np.ndarray, a: np.ndarray) -> np.ndarray:
     """``Re(a^H M a)`` per frequency for excitations ``a`` (n, K) and Gram matrices ``m`` (n, K, K)."""
-    return np.sum(a.conj() * (m @ a[:, :, None])[:, :, 0], axis=1).real
+    ma = np.sum(m * a[:, None, :], axis=2)  # broadcasting beats a batched matmul of tiny matrices
+    return np.sum(a.conj() * ma, axis=1).real
 
 
-def _polish(m: np.ndarray, a: np.ndarray, maximise: bool) -> np.ndarray:
-    """One-phase-at-a-time exact optimisation of ``a^H M a`` over unit-modulus excitations, the
-    first port's phase held at 0 (each step never moves away from the extreme). Rows stop once a
-    sweep changes ``a^H M a`` by less than 1e-12 relative; at most :data:`POLISH_SWEEPS` sweeps."""
+def _coordinate_sweep(m: np.ndarray, a: np.ndarray, maximise: bool) -> None:
+    """One sweep of exact one-phase-at-a-time optimisation, in place (port 1's phase held)."""
+    for q in range(1, a.shape[1]):
+        z = np.sum(m[:, q, :] * a, axis=1) - m[:, q, q] * a[:, q]
+        mag = np.abs(z)
+        unit = np.where(mag > 0, z / np.where(mag > 0, mag, 1.0), a[:, q])
+        a[:, q] = unit if maximise else -unit
+
+
+def _newton_step(m: np.ndarray, a: np.ndarray) -> np.ndarray:
+    """Newton's step on the free phases of ``f = a^H M a`` (derived: with ``c_pq = conj(a_p) M_pq a_q``
+    and ``r_k = sum_q c_kq``, df/dtheta_k = 2 Im(r_k); d2f/dtheta_k dtheta_l = 2 Re(c_kl) for k != l and
+    -2 Re(r_k - c_kk) on the diagonal). Returns the phase step (rows, K - 1)."""
+    c = a.conj()[:, :, None] * m * a[:, None, :]
+    r = np.sum(c, axis=2)
+    g = 2.0 * r.imag[:, 1:]
+    h = 2.0 * c.real[:, 1:, 1:]
+    k = a.shape[1] - 1
+    diag = -2.0 * (r.real - np.einsum("fkk->fk", c.real))[:, 1:]
+    h[:, np.arange(k), np.arange(k)] = diag
+    det_ok = np.abs(np.linalg.det(h)) > 1e-300
+    step = np.zeros_like(g)
+    if det_ok.any():
+        step[det_ok] = -np.linalg.solve(h[det_ok], g[det_ok][:, :, None])[:, :, 0]
+    return step
+
+
+def _polish(m: np.ndarray, a: np.ndarray, maximise: bool, group: int = 1) -> np.ndarray:
+    """Move each excitation ``a`` (rows, K; port 1's phase held at 0) to a local extreme of
+    ``a^H M a``: exact one-phase-at-a-time sweeps (each never moves away from the extreme), then
+    Newton steps on the phases, each kept only where it improves the value (coordinate ascent alone
+    converges slowly on some networks; Newton's method near the extreme converges fast).
+
+    With ``group`` > 1 the rows are ``group`` starts per frequency, one frequency after another; after
+    the first sweeps only the :data:`KEEP_STARTS` most extreme of each group are carried on, and the
+    result has ``KEEP_STARTS`` rows per frequency."""
     a = a.copy()
     k = a.shape[1]
+    _coordinate_sweep(m, a, maximise)
+    if k == 2:  # one free phase: the single step above is already the exact extreme
+        return a
+    for _ in range(2):
+        _coordinate_sweep(m, a, maximise)
+    if group > 1:  # of each frequency's starts, carry on with the KEEP_STARTS most extreme only
+        n = a.shape[0] // group
+        v = _quadratic(m, a).reshape(n, group)
+        keep = np.argsort((-1.0 if maximise else 1.0) * v, axis=1)[:, :min(KEEP_STARTS, group)]
+        pick = (np.arange(n)[:, None] * group + keep).reshape(-1)
+        m, a = m[pick], a[pick]
+    sign = 1.0 if maximise else -1.0
     rows = np.arange(a.shape[0])
-    before = _quadratic(m, a)
+    value = _quadratic(m, a)
     for _ in range(POLISH_SWEEPS):
         mm, aa = m[rows], a[rows]
-        for q in range(1, k):
-            z = np.sum(mm[:, q, :] * aa, axis=1) - mm[:, q, q] * aa[:, q]
-            mag = np.abs(z)
-            unit = np.where(mag > 0, z / np.where(mag > 0, mag, 1.0), aa[:, q])
-            aa[:, q] = unit if maximise else -unit
+        step = _newton_step(mm, aa)
+        trial = aa.copy()
+        trial[:, 1:] *= np.exp(1j * step)
+        new = _quadratic(mm, trial)
+        better = sign * (new - value[rows]) > 0
+        aa[better] = trial[better]
+        # where Newton did not help, take a coordinate sweep instead (never worse)
+        if (~better).any():
+            sub = aa[~better]
+            _coordinate_sweep(mm[~better], sub, maximise)
+            aa[~better] = sub
         a[rows] = aa
-        if k == 2:  # one free phase: the single step above is already the exact extreme
-            break
         after = _quadratic(mm, aa)
-        moving = np.abs(after - before) > 1e-12 * np.maximum(np.abs(before), 1e-30)
-        rows, before = rows[moving], after[moving]
+        moving = np.abs(after - value[rows]) > 1e-11 * np.maximum(np.abs(value[rows]), 1e-30)
+        value[rows] = after
+        rows = rows[moving]
         if rows.size == 0:
             break
     return a
@@ -196,8 +248,12 @@ def tarc_extremes(s: np.ndarray, ports: Sequence[int], phase_step_deg: float = D
             order = np.argsort(pick * val, axis=1)[:, :starts]
             idx[sl] = order * rest + np.take_along_axis(inner, order, axis=1)
     m_rep = np.repeat(m, starts, axis=0)  # every start of every frequency polished in one call
-    q_hi = _quadratic(m_rep, _polish(m_rep, a_grid[hi_idx.reshape(-1)], maximise=True)).reshape(n, starts).max(axis=1)
-    q_lo = _quadratic(m_rep, _polish(m_rep, a_grid[lo_idx.reshape(-1)], maximise=False)).reshape(n, starts).min(axis=1)
+    kept = min(KEEP_STARTS, starts) if k > 2 else starts
+    m_kept = np.repeat(m, kept, axis=0)
+    a_hi = _polish(m_rep, a_grid[hi_idx.reshape(-1)], maximise=True, group=starts)
+    a_lo = _polish(m_rep, a_grid[lo_idx.reshape(-1)], maximise=False, group=starts)
+    q_hi = _quadratic(m_kept, a_hi).reshape(n, kept).max(axis=1)
+    q_lo = _quadratic(m_kept, a_lo).reshape(n, kept).min(axis=1)
     worst = np.sqrt(np.maximum(q_hi, 0.0) / k)
     best = np.sqrt(np.maximum(q_lo, 0.0) / k)
     return worst, best, step, int(e)
