@@ -27,9 +27,10 @@ Conventions (all frequencies in Hz, ports numbered from 1 as in the Touchstone f
   (all combinations; with K ports that is (360 / step)^(K-1) excitations); when that exceeds
   ``max_excitations`` the step is widened to the finest grid within the budget (the result's
   ``phase_step_deg`` says which step was used).
-  At every frequency the grid's most extreme excitations are then polished by exact
-  one-phase-at-a-time optimisation (with the other phases held, TARC^2 is ``c + 2 Re(e^{-j theta_k}
-  z_k)``, extreme at ``theta_k = arg z_k`` or opposite it), which only moves toward the extreme; for
+  At every frequency grid excitations are then polished: exact one-phase-at-a-time optimisation
+  (with the other phases held, TARC^2 is ``c + 2 Re(e^{-j theta_k} z_k)``, extreme at
+  ``theta_k = arg z_k`` or opposite it), then Newton's steps on the phases kept only where they
+  improve; each step only moves toward the extreme (starts: :data:`POLISH_STARTS`). For
   two ports this gives the exact worst and best over all phases. Results are in dB
   (``20 log10 TARC``); the -10 dB TARC bandwidth is where the worst case over phase stays at or below
   -10 dB.
