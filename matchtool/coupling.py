@@ -27,9 +27,10 @@ Conventions (all frequencies in Hz, ports numbered from 1 as in the Touchstone f
   (all combinations; with K ports that is (360 / step)^(K-1) excitations); when that exceeds
   ``max_excitations`` the step is widened to the finest grid within the budget (the result's
   ``phase_step_deg`` says which step was used).
-  At every frequency the grid's most extreme excitations are then polished by exact
-  one-phase-at-a-time optimisation (with the other phases held, TARC^2 is ``c + 2 Re(e^{-j theta_k}
-  z_k)``, extreme at ``theta_k = arg z_k`` or opposite it), which only moves toward the extreme; for
+  At every frequency grid excitations are then polished: exact one-phase-at-a-time optimisation
+  (with the other phases held, TARC^2 is ``c + 2 Re(e^{-j theta_k} z_k)``, extreme at
+  ``theta_k = arg z_k`` or opposite it), then Newton's steps on the phases kept only where they
+  improve; each step only moves toward the extreme (starts: :data:`POLISH_STARTS`). For
   two ports this gives the exact worst and best over all phases. Results are in dB
   (``20 log10 TARC``); the -10 dB TARC bandwidth is where the worst case over phase stays at or below
   -10 dB.
@@ -51,14 +52,17 @@ from .errors import OutOfRangeError, UsageError
 from .sweep import Sweep, as_sweep
 
 DEFAULT_PHASE_STEP_DEG = 1.0
-DEFAULT_MAX_EXCITATIONS = 4096
+DEFAULT_MAX_EXCITATIONS = 1024
 """Budget of excitations on the TARC phase grid (per frequency). With the default 1-degree step two
-ports use 360; three ports a 64 x 64 grid (5.625 degrees); four ports 16^3 (22.5 degrees), each then
+ports use 360; three ports a 32 x 32 grid (11.25 degrees); four ports 10^3 (36 degrees), each then
 polished to the exact local extreme."""
 POLISH_SWEEPS = 12
 POLISH_STARTS = 6
-"""For three or more ports the polish starts from this many of the grid's most extreme excitations
-per frequency (the best TARC can have several local minima)."""
+KEEP_STARTS = 2
+"""Of the starts, this many per frequency and direction go on to Newton's steps after three sweeps."""
+"""For three or more ports the polish starts from this many grid excitations per frequency and
+direction: the extreme of each sector of port 2's phase, the most extreme sectors first (starts in
+different basins: the best TARC can have several local minima)."""
 ECC_DENOMINATOR_FLOOR = 1e-12
 """A denominator factor ``1 - sum |S_ni|^2`` at or below this counts as zero (no radiated power)."""
 TARC_FLOOR_DB = -CAP_DB
@@ -124,23 +128,81 @@ def _phase_grid(k: int, step_deg: float, max_excitations: int) -> tuple[np.ndarr
 
 def _quadratic(m: np.ndarray, a: np.ndarray) -> np.ndarray:
     """``Re(a^H M a)`` per frequency for excitations ``a`` (n, K) and Gram matrices ``m`` (n, K, K)."""
-    return np.einsum("fk,fkl,fl->f", a.conj(), m, a).real
+    ma = np.sum(m * a[:, None, :], axis=2)  # broadcasting beats a batched matmul of tiny matrices
+    return np.sum(a.conj() * ma, axis=1).real
 
 
-def _polish(m: np.ndarray, a: np.ndarray, maximise: bool) -> np.ndarray:
-    """One-phase-at-a-time exact optimisation of ``a^H M a`` over unit-modulus excitations, the
-    first port's phase held at 0 (each step never moves away from the extreme)."""
+def _coordinate_sweep(m: np.ndarray, a: np.ndarray, maximise: bool) -> None:
+    """One sweep of exact one-phase-at-a-time optimisation, in place (port 1's phase held)."""
+    for q in range(1, a.shape[1]):
+        z = np.sum(m[:, q, :] * a, axis=1) - m[:, q, q] * a[:, q]
+        mag = np.abs(z)
+        unit = np.where(mag > 0, z / np.where(mag > 0, mag, 1.0), a[:, q])
+        a[:, q] = unit if maximise else -unit
+
+
+def _newton_step(m: np.ndarray, a: np.ndarray) -> np.ndarray:
+    """Newton's step on the free phases of ``f = a^H M a`` (derived: with ``c_pq = conj(a_p) M_pq a_q``
+    and ``r_k = sum_q c_kq``, df/dtheta_k = 2 Im(r_k); d2f/dtheta_k dtheta_l = 2 Re(c_kl) for k != l and
+    -2 Re(r_k - c_kk) on the diagonal). Returns the phase step (rows, K - 1)."""
+    c = a.conj()[:, :, None] * m * a[:, None, :]
+    r = np.sum(c, axis=2)
+    g = 2.0 * r.imag[:, 1:]
+    h = 2.0 * c.real[:, 1:, 1:]
+    k = a.shape[1] - 1
+    diag = -2.0 * (r.real - np.einsum("fkk->fk", c.real))[:, 1:]
+    h[:, np.arange(k), np.arange(k)] = diag
+    det_ok = np.abs(np.linalg.det(h)) > 1e-300
+    step = np.zeros_like(g)
+    if det_ok.any():
+        step[det_ok] = -np.linalg.solve(h[det_ok], g[det_ok][:, :, None])[:, :, 0]
+    return step
+
+
+def _polish(m: np.ndarray, a: np.ndarray, maximise: bool, group: int = 1) -> np.ndarray:
+    """Move each excitation ``a`` (rows, K; port 1's phase held at 0) to a local extreme of
+    ``a^H M a``: exact one-phase-at-a-time sweeps (each never moves away from the extreme), then
+    Newton steps on the phases, each kept only where it improves the value (coordinate ascent alone
+    converges slowly on some networks; Newton's method near the extreme converges fast).
+
+    With ``group`` > 1 the rows are ``group`` starts per frequency, one frequency after another; after
+    the first sweeps only the :data:`KEEP_STARTS` most extreme of each group are carried on, and the
+    result has ``KEEP_STARTS`` rows per frequency."""
     a = a.copy()
     k = a.shape[1]
+    _coordinate_sweep(m, a, maximise)
+    if k == 2:  # one free phase: the single step above is already the exact extreme
+        return a
+    for _ in range(2):
+        _coordinate_sweep(m, a, maximise)
+    if group > 1:  # of each frequency's starts, carry on with the KEEP_STARTS most extreme only
+        n = a.shape[0] // group
+        v = _quadratic(m, a).reshape(n, group)
+        keep = np.argsort((-1.0 if maximise else 1.0) * v, axis=1)[:, :min(KEEP_STARTS, group)]
+        pick = (np.arange(n)[:, None] * group + keep).reshape(-1)
+        m, a = m[pick], a[pick]
+    sign = 1.0 if maximise else -1.0
+    rows = np.arange(a.shape[0])
+    value = _quadratic(m, a)
     for _ in range(POLISH_SWEEPS):
-        before = _quadratic(m, a)
-        for q in range(1, k):
-            z = np.einsum("fl,fl->f", m[:, q, :], a) - m[:, q, q] * a[:, q]
-            mag = np.abs(z)
-            unit = np.where(mag > 0, z / np.where(mag > 0, mag, 1.0), a[:, q])
-            a[:, q] = unit if maximise else -unit
-        after = _quadratic(m, a)
-        if np.all(np.abs(after - before) <= 1e-13 * np.maximum(np.abs(before), 1e-30)):
+        mm, aa = m[rows], a[rows]
+        step = _newton_step(mm, aa)
+        trial = aa.copy()
+        trial[:, 1:] *= np.exp(1j * step)
+        new = _quadratic(mm, trial)
+        better = sign * (new - value[rows]) > 0
+        aa[better] = trial[better]
+        # where Newton did not help, take a coordinate sweep instead (never worse)
+        if (~better).any():
+            sub = aa[~better]
+            _coordinate_sweep(mm[~better], sub, maximise)
+            aa[~better] = sub
+        a[rows] = aa
+        after = _quadratic(mm, aa)
+        moving = np.abs(after - value[rows]) > 1e-11 * np.maximum(np.abs(value[rows]), 1e-30)
+        value[rows] = after
+        rows = rows[moving]
+        if rows.size == 0:
             break
     return a
 
@@ -165,22 +227,34 @@ def tarc_extremes(s: np.ndarray, ports: Sequence[int], phase_step_deg: float = D
     pm = np.stack([a_grid[:, p].conj() * a_grid[:, q] for p, q in pairs], axis=1)  # (E, P)
     mp = np.stack([m[:, p, q] for p, q in pairs], axis=1)  # (n, P)
     e = pm.shape[0]
-    starts = 1 if k == 2 else min(POLISH_STARTS, e)  # two ports: one polish is already exact
+    per = int(round(360.0 / step))
+    rest = e // per if k > 2 else 1
+    starts = 1 if k == 2 else min(POLISH_STARTS, per)  # two ports: one polish is already exact
     hi_idx = np.empty((n, starts), dtype=int)
     lo_idx = np.empty((n, starts), dtype=int)
-    chunk = max(1, int(4_000_000 // max(1, e)))
+    chunk = max(1, int(2_000_000 // max(1, e)))
     for start in range(0, n, chunk):
         sl = slice(start, start + chunk)
         # Re(M_pq conj(a_p) a_q) summed over p < q, as real matrix products
         q_val = diag[sl, None] + 2.0 * (mp[sl].real @ pm.real.T - mp[sl].imag @ pm.imag.T)
-        if starts == e:
-            order = np.argsort(q_val, axis=1)
-            lo_idx[sl], hi_idx[sl] = order[:, :starts], order[:, ::-1][:, :starts]
-        else:
-            hi_idx[sl] = np.argpartition(-q_val, starts - 1, axis=1)[:, :starts]
-            lo_idx[sl] = np.argpartition(q_val, starts - 1, axis=1)[:, :starts]
-    q_hi = np.max([_quadratic(m, _polish(m, a_grid[hi_idx[:, c]], maximise=True)) for c in range(starts)], axis=0)
-    q_lo = np.min([_quadratic(m, _polish(m, a_grid[lo_idx[:, c]], maximise=False)) for c in range(starts)], axis=0)
+        if k == 2:
+            hi_idx[sl, 0], lo_idx[sl, 0] = np.argmax(q_val, axis=1), np.argmin(q_val, axis=1)
+            continue
+        # starts in different basins: the extreme of each sector of port 2's phase, then the most
+        # extreme sectors (the grid runs over port 2's phase slowest)
+        sectors = q_val.reshape(q_val.shape[0], per, rest)
+        for idx, arg, pick in ((hi_idx, np.argmax, -1), (lo_idx, np.argmin, 1)):
+            inner = arg(sectors, axis=2)
+            val = np.take_along_axis(sectors, inner[:, :, None], axis=2)[:, :, 0]
+            order = np.argsort(pick * val, axis=1)[:, :starts]
+            idx[sl] = order * rest + np.take_along_axis(inner, order, axis=1)
+    m_rep = np.repeat(m, starts, axis=0)  # every start of every frequency polished in one call
+    kept = min(KEEP_STARTS, starts) if k > 2 else starts
+    m_kept = np.repeat(m, kept, axis=0)
+    a_hi = _polish(m_rep, a_grid[hi_idx.reshape(-1)], maximise=True, group=starts)
+    a_lo = _polish(m_rep, a_grid[lo_idx.reshape(-1)], maximise=False, group=starts)
+    q_hi = _quadratic(m_kept, a_hi).reshape(n, kept).max(axis=1)
+    q_lo = _quadratic(m_kept, a_lo).reshape(n, kept).min(axis=1)
     worst = np.sqrt(np.maximum(q_hi, 0.0) / k)
     best = np.sqrt(np.maximum(q_lo, 0.0) / k)
     return worst, best, step, int(e)

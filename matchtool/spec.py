@@ -260,6 +260,10 @@ def _few_samples(ev: _Eval, what: str, lo: float, hi: float) -> int:
     return n_in
 
 
+def _mhz(lo: float, hi: float) -> str:
+    return f"{lo / 1e6:.6g} to {hi / 1e6:.6g} MHz"
+
+
 def _s_name(i: int, j: int) -> str:
     return f"S{i}{j}" if i < 10 and j < 10 else f"S{i},{j}"
 
@@ -342,8 +346,8 @@ class BandSpec(Requirement):
         return [n] + ([f"{n} mismatch loss"] if self.max_mismatch_loss_db is not None else [])
 
     def describe(self) -> str:
-        return (f"port {self.port}: {LIMITS[self.limit_key].description} {self.limit:g} "
-                f"{LIMITS[self.limit_key].unit} over {self.f_low_hz:g} to {self.f_high_hz:g} Hz")
+        return (f"port {self.port}: {self.limit_key} = {self.limit:g} ({LIMITS[self.limit_key].unit}) over "
+                f"{_mhz(self.f_low_hz, self.f_high_hz)}")
 
     @classmethod
     def parse(cls, t: dict, prefix: str, ctx: _Parse) -> BandSpec:
@@ -458,8 +462,7 @@ class IsolationSpec(_PairSpec):
 
     def describe(self) -> str:
         i, j = self.pair
-        return (f"ports {i},{j}: isolation at least {self.limit:g} dB over {self.f_low_hz:g} to "
-                f"{self.f_high_hz:g} Hz")
+        return f"ports {i},{j}: isolation at least {self.limit:g} dB over {_mhz(self.f_low_hz, self.f_high_hz)}"
 
     @classmethod
     def parse(cls, t: dict, prefix: str, ctx: _Parse) -> IsolationSpec:
@@ -511,8 +514,8 @@ class CorrelationSpec(_PairSpec):
 
     def describe(self) -> str:
         i, j = self.pair
-        return (f"ports {i},{j}: envelope correlation at most {self.limit:g} over {self.f_low_hz:g} to "
-                f"{self.f_high_hz:g} Hz (from S-parameters, lossless antennas assumed)")
+        return (f"ports {i},{j}: envelope correlation at most {self.limit:g} over "
+                f"{_mhz(self.f_low_hz, self.f_high_hz)} (from S-parameters, lossless antennas assumed)")
 
     @classmethod
     def parse(cls, t: dict, prefix: str, ctx: _Parse) -> CorrelationSpec:
@@ -574,7 +577,7 @@ class ResonanceSpec(Requirement):
         return ["resonance"]
 
     def describe(self) -> str:
-        return f"port {self.port}: best match between {self.f_low_hz:g} and {self.f_high_hz:g} Hz"
+        return f"port {self.port}: best match inside {_mhz(self.f_low_hz, self.f_high_hz)}"
 
     @classmethod
     def parse(cls, t: dict, prefix: str, ctx: _Parse) -> ResonanceSpec:

@@ -74,19 +74,23 @@ def threshold_from_options(min_return_loss_db: float | None = None, max_vswr: fl
     """
     given = [x is not None for x in (min_return_loss_db, max_vswr, max_s11_db)]
     if sum(given) > 1:
-        raise UsageError("give only one of --min-return-loss, --max-vswr, --max-s11-db")
+        names = [n for n, g in zip(("min_return_loss_db", "max_vswr", "max_s11_db"), given, strict=True) if g]
+        raise UsageError(f"give only one of the three equivalent limits (got {len(names)})", parameter=names[-1],
+                         expected="a single threshold: a return loss, a VSWR or an S11 in dB")
     if min_return_loss_db is not None:
         if not np.isfinite(min_return_loss_db) or min_return_loss_db < 0:
-            raise UsageError(f"--min-return-loss {min_return_loss_db:g} dB",
+            raise UsageError("is not a positive return loss in dB", parameter="min_return_loss_db",
+                             value=min_return_loss_db,
                              expected="a positive return loss (S11 of -10 dB is a return loss of 10 dB)")
         return float(min_return_loss_db)
     if max_vswr is not None:
         if not np.isfinite(max_vswr) or max_vswr <= 1:
-            raise UsageError(f"--max-vswr {max_vswr:g}", expected="a VSWR above 1")
+            raise UsageError("is not a VSWR above 1", parameter="max_vswr", value=max_vswr, expected="a VSWR above 1")
         return float(rf.return_loss_from_vswr(max_vswr))
     if max_s11_db is not None:
         if not np.isfinite(max_s11_db) or max_s11_db > 0:
-            raise UsageError(f"--max-s11-db {max_s11_db:g} dB", expected="a negative S11 in dB, e.g. -10")
+            raise UsageError("is not a negative S11 in dB", parameter="max_s11_db", value=max_s11_db,
+                             expected="a negative S11 in dB, e.g. -10")
         return float(-max_s11_db)
     return float(default_db)
 

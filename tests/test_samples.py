@@ -218,3 +218,34 @@ def test_antenna_through_the_cable_is_the_cascade_and_de_embeds():
     assert abs(np.median(rl_via[far] - rl_ant[far] - 2 * il_db[far])) < 0.3
     back = cable.network.inv ** via.network  # scikit-rf's de-embedding idiom
     assert np.max(np.abs(back.s[:, 0, 0] - ant.gamma)) < 1e-6
+
+
+def test_wifi_pair_matches_each_antenna_but_misses_isolation():
+    # the claims of sample_sweeps/README.md for wifi_pair.s2p; isolation = -20 log10 |S21| (Pozar,
+    # Microwave Engineering, 4th ed., sec. 4.3), both directions read
+    from matchtool.coupling import analyze_coupling
+    from matchtool.spec import check_file, load_spec
+
+    wifi = (2400e6, 2483.5e6)
+    for port, (lo, hi) in ((1, (2360e6, 2494e6)), (2, (2373e6, 2517e6))):
+        sw = _sample("wifi_pair.s2p", port=port)
+        assert _worst_rl_db(sw, *wifi)[0] >= 10
+        band = next(b for b in summarize(sw).bands if b.contains(2.44e9))
+        assert band.f_low_hz == pytest.approx(lo, abs=3e6) and band.f_high_hz == pytest.approx(hi, abs=3e6)
+    res = analyze_coupling(_sample("wifi_pair.s2p"), bands=[wifi])
+    b = res.pairs[0].bands[0]
+    assert 8.0 < b.min_isolation_db < 9.0 and b.max_ecc < 0.05
+    assert -6.0 < res.tarc.band_worst_db[0] < -4.5
+    u = check_file(SAMPLES / "wifi_pair.s2p", load_spec(SAMPLES / "spec_wifi_pair.toml"))
+    assert [r.passed for r in u.requirements] == [True, True, False, True] and u.error is None
+
+
+def test_dipole_mutual_impedance_reproduces_the_textbook_values():
+    # Balanis, Antenna Theory, 3rd ed., sec. 8.6 (from memory): side-by-side half-wave dipoles have
+    # Z21 -> 73.1 + j42.5 ohm as d -> 0 (the dipole's own impedance) and about 40.8 - j28.3 ohm at d = lambda/4
+    gen = _generator()
+    lam = 299_792_458.0 / 1e9
+    z0 = gen.dipole_mutual_z(np.array([1e9]), 1e-7)[0]
+    z4 = gen.dipole_mutual_z(np.array([1e9]), lam / 4)[0]
+    assert z0.real == pytest.approx(73.1, abs=0.1) and z0.imag == pytest.approx(42.5, abs=0.1)
+    assert z4.real == pytest.approx(40.8, abs=0.1) and z4.imag == pytest.approx(-28.3, abs=0.1)

@@ -7,8 +7,8 @@ the script twice gives byte-identical files (``tests/test_samples.py`` checks th
     python3 tools/make_samples.py              # rewrite sample_sweeps/
     python3 tools/make_samples.py --out DIR    # write the files somewhere else
 
-Scenario: a 915 MHz ISM sensor node whose PCB antenna must serve 902-928 MHz. See
-``sample_sweeps/README.md`` for which file shows what.
+Scenario: a 915 MHz ISM sensor node whose PCB antenna must serve 902-928 MHz, and a 2.4 GHz Wi-Fi
+board with two antennas. See ``sample_sweeps/README.md`` for which file shows what.
 
 Models (textbook circuit theory; the values are our own choices, not measurements):
 
@@ -19,6 +19,9 @@ Models (textbook circuit theory; the values are our own choices, not measurement
 - Feed pigtail / coax: a matched line, Gamma_in = Gamma_L exp(-2 gamma l) (Pozar, Microwave
   Engineering, 4th ed., eqs. 2.90-2.94), conductor loss scaling with sqrt(f) and dielectric loss
   with f (common practice, no source).
+- Two antennas side by side: each a series RLC, coupled by the mutual impedance of two
+  side-by-side half-wave dipoles (Balanis, Antenna Theory, 3rd ed., sec. 8.6, from memory),
+  scaled to the radiators' radiation resistance; S from the Z-matrix with ``skrf.network.z2s``.
 - Two-ports are cascades of ABCD matrices (Pozar 4th ed., table 4.1, from memory for the table
   number) turned into S with ``skrf.network.a2s``.
 - Measurement noise: complex Gaussian, RMS magnitude -60 dB on reflections (a plausible trace
@@ -183,6 +186,37 @@ def fm_dipole_gamma(f_hz: np.ndarray) -> np.ndarray:
     return through_pigtail(f_hz, gamma_from_impedance(z, 75.0), 0.5, 0.82, 0.25)
 
 
+def dipole_mutual_z(f_hz: np.ndarray, spacing_m: float) -> np.ndarray:
+    """Mutual impedance (ohms) of two parallel side-by-side half-wave dipoles ``spacing_m`` apart:
+    Z21 = (eta/4 pi) [2 Ci(u0) - Ci(u1) - Ci(u2)] - j (eta/4 pi) [2 Si(u0) - Si(u1) - Si(u2)],
+    u0 = kd, u1 = k(sqrt(d^2 + l^2) + l), u2 = k(sqrt(d^2 + l^2) - l), l = lambda/2 (Balanis, Antenna
+    Theory, 3rd ed., sec. 8.6, eqs. 8-71a,b; from memory: checked here in the sense that d -> 0 gives
+    the dipole's own 73.1 + j42.5 ohm and d = lambda/4 gives 40.8 - j28.3 ohm). The half-wave form
+    is held at every frequency (only k d follows the frequency): our simplification for demo data."""
+    from scipy.special import sici
+
+    k = _w(f_hz) / C0_M_PER_S
+    d = k * spacing_m  # electrical spacing k d
+    half = math.pi  # k l for l = lambda / 2
+    root = np.sqrt(d ** 2 + half ** 2)
+    (s0, c0), (s1, c1), (s2, c2) = sici(d), sici(root + half), sici(root - half)
+    eta = 376.730313  # free-space wave impedance, ohm (CODATA mu0 c0)
+    return eta / (4 * math.pi) * ((2 * c0 - c1 - c2) - 1j * (2 * s0 - s1 - s2))
+
+
+def wifi_pair_s(f_hz: np.ndarray) -> np.ndarray:
+    """Two 2.4 GHz antennas of a Wi-Fi MIMO board, 28 mm apart (about 0.23 wavelength): each a series
+    RLC radiator (radiation resistance 45 ohm at 2.45 GHz growing as f^2, 2 ohm loss), the pair
+    coupled by the side-by-side dipole mutual impedance scaled by 45 / 73.1 (the radiators'
+    radiation resistance over a free dipole's; our simplification), S at 50 ohm by z2s."""
+    r_rad, r_loss = 45.0, 2.0
+    z = np.zeros((f_hz.size, 2, 2), dtype=complex)
+    z[:, 0, 0] = series_rlc_z(f_hz, r_rad, r_loss, 30e-9, 2.435e9, 2.45e9)
+    z[:, 1, 1] = series_rlc_z(f_hz, r_rad, r_loss, 30e-9, 2.455e9, 2.45e9)
+    z[:, 0, 1] = z[:, 1, 0] = dipole_mutual_z(f_hz, 0.028) * (r_rad / 73.13)
+    return np.asarray(skrf.network.z2s(z, np.full(2, 50.0)))
+
+
 def cable_s(f_hz: np.ndarray) -> np.ndarray:
     """3 m of 50-ohm 5 mm solid-PE class coax (VF 0.66, about 0.66 dB/m at 1 GHz; references.md
     table, from memory) with SMA transitions (0.12 pF shunt each end) and a 50.6-ohm line."""
@@ -287,6 +321,14 @@ def build(out_dir: Path) -> dict[str, str]:
         "Radio-module fixture, two-port: port 2 = U.FL socket at the r3 antenna's feed (S22 is the antenna);",
         "port 1 = the radio's conducted sample port, coupled to the antenna node by 1 pF (S21 about -5 to -12 dB).",
         setup.format("700 MHz to 1.1 GHz", 801, "SMA (port 1) and U.FL (port 2) test sockets")))
+
+    fw = np.linspace(2.2e9, 2.7e9, 1001)
+    s = wifi_pair_s(fw)
+    s = s + noise(rng(9), s.shape, -60.0) * np.array([[1.0, 0.3], [0.3, 1.0]])
+    files["wifi_pair.s2p"] = touchstone_text(fw, s, 50.0, header(
+        "2.4 GHz Wi-Fi MIMO board, two antennas 28 mm apart (about 0.23 wavelength): port 1 = antenna A,",
+        "port 2 = antenna B. Each matched in 2400-2483.5 MHz; isolation about 8.4 dB (misses a 10 dB target).",
+        setup.format("2.2 GHz to 2.7 GHz", 1001, "SMA of each antenna's 30 mm pigtail, both ports at once")))
 
     s = cable_s(f)
     s = s + noise(rng(8), s.shape, -65.0)

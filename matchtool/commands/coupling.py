@@ -17,11 +17,11 @@ from .options import JsonOpt, Z0Opt
 
 EPILOG = """Examples:
 
-  matchtool coupling board.s4p
+  matchtool coupling sample_sweeps/wifi_pair.s2p --band 2.4GHz:2.4835GHz
 
   matchtool coupling board.s4p --band 2.4GHz:2.4835GHz --band 5.15GHz:5.85GHz
 
-  matchtool coupling wifi_pair.s2p --pair 1,2 --json
+  matchtool coupling board.s4p --pair 1,2 --json
 
 Isolation is -20 log10 |S_ij| in positive dB (both S_ij and S_ji are read). ECC is computed from
 S-parameters, which assumes lossless antennas: it reads low (optimistic) as the radiation
@@ -53,7 +53,7 @@ def register(app: typer.Typer) -> None:
             "pair, TARC of all ports].")] = None,
         phase_step: Annotated[float, typer.Option(
             "--phase-step", metavar="DEG", help="TARC phase grid step in degrees (widened for three or more "
-            "ports to keep the grid within 4096 excitations).")] = DEFAULT_PHASE_STEP_DEG,
+            "ports to keep the grid within 1024 excitations, then polished).")] = DEFAULT_PHASE_STEP_DEG,
         z0: Z0Opt = None,
         json_out: JsonOpt = False,
     ) -> int:

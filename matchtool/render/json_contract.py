@@ -194,8 +194,9 @@ def tarc_note(t) -> str:
     grid = (f"a = [1, e^(j theta)] with theta on a {t.phase_step_deg:g}-degree grid" if k == 2 else
             f"unit amplitudes on ports {', '.join(map(str, t.ports))} with every combination of relative phases "
             f"on a {t.phase_step_deg:g}-degree grid ({t.excitations} excitations)")
-    return (f"TARC = |S a| / |a| (other ports terminated): {grid}; each frequency's worst and best polished by exact "
-            "one-phase-at-a-time optimisation" + (" (exact for two ports)" if k == 2 else ""))
+    return (f"TARC = |S a| / |a| (other ports terminated): {grid}; each frequency's worst and best polished to the "
+            "extreme (exact one-phase-at-a-time steps" + (", exact for two ports)" if k == 2 else
+                                                          ", then Newton's steps on the phases)"))
 
 
 def _band_range(b) -> dict[str, Any]:

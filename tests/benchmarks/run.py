@@ -29,6 +29,8 @@ Cases (goals from the benchmarks issue):
   P8  cold ``matchtool locate FILE --velocity-factor 0.7 --loss-db-per-m 0.3 --gate 4.5m:6m
       --json`` on a 10,001-point harmonic sweep (an antenna 5 m down a cable with a connector
       echo), against ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.5x.
+  P9  ``matchtool coupling`` of a 4-port 1,601-point file with TARC at 1-degree phase steps,
+      against the cold ``skrf.Network(FILE)`` read of the same file. Goal: <= 2x.
 
 Every measurement is a fresh subprocess (so start-up is counted, as a user sees it); candidate
 and baseline runs are interleaved, repeated, and the median is reported. Peak memory comes from
@@ -529,7 +531,45 @@ def p6(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [row]
 
 
-CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6, "P7": p7, "P8": p8}
+def write_four_port(path: Path, n_points: int, rng: np.random.Generator) -> Path:
+    """A four-antenna board (2.4 GHz class): series RLC antennas with a mutual impedance between each
+    pair (falling with their distance in the row), S from scikit-rf's z2s, a little noise."""
+    import skrf
+
+    f = np.linspace(2.2e9, 2.7e9, n_points)
+    w = 2 * math.pi * f
+    z = np.zeros((n_points, 4, 4), dtype=complex)
+    for k, f0 in enumerate((2.43e9, 2.44e9, 2.45e9, 2.47e9)):
+        c_f = 1.0 / ((2 * math.pi * f0) ** 2 * 8e-9)
+        z[:, k, k] = 45.0 + 1j * (w * 8e-9 - 1.0 / (w * c_f))
+    for a in range(4):
+        for b in range(a + 1, 4):
+            z[:, a, b] = z[:, b, a] = (8 + 20j) / (b - a)
+    s = skrf.network.z2s(z, np.full(4, 50.0))
+    s = s + 1e-3 * (rng.standard_normal(s.shape) + 1j * rng.standard_normal(s.shape))
+    path.write_text(touchstone_text(f, s, 50.0, ["synthetic benchmark 4-port (tests/benchmarks/run.py)"]))
+    return path
+
+
+def p9(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    row = Row("P9", f"coupling 4-port {sz.points} pts, TARC at 1-degree steps", goal="<= 2x", limit=2.0)
+    if not has_command("coupling"):
+        row.status = "not built yet"
+        return [row]
+    path = write_four_port(tmp / "p9_board.s4p", sz.points, np.random.default_rng([SEED, 6]))
+    res = run.compare({"base": skrf_read(path), "ours": mt("coupling", path, "--json", "--phase-step", 1)},
+                      sz.reps_fast)
+    bad = failed(res["ours"]) or failed(res["base"])
+    if bad:
+        row.status, row.note = "error", bad
+        return [row]
+    row.set_times(res["ours"], res["base"])
+    row.note = ("cold scikit-rf read of the same file as baseline; every pair's isolation and ECC, TARC of the "
+                "four ports (grid widened to 36 degrees for four ports, then polished)")
+    return [row]
+
+
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6, "P7": p7, "P8": p8, "P9": p9}
 
 
 # ------------------------------------------------------------------------------------------
