@@ -63,8 +63,22 @@ NOISE_MARGIN_DB = 10.0
 """Default noise floor: this far above the median of the uncompensated trace."""
 
 SIDELOBE_MARGIN_DB = 10.0
-"""Nothing is listed closer than this above the strongest reflection's window sidelobes: a
-reflection whose spectrum is not flat (a reactive one rises with f) widens them (checked in the tests)."""
+"""A reflection is listed only this far above the window sidelobes (at its distance) of every stronger
+one: a reflection whose spectrum is not flat (a reactive one rises with f, a lossy cable tilts it)
+raises them (checked in the tests)."""
+
+DYNAMIC_RANGE_DB = 40.0
+"""Without ``floor_return_loss_db``, nothing more than this below the strongest reflection (at the
+analyzer) is listed: the time-domain dynamic range a calibrated analyzer sweep usually has
+(common practice, no source); a given floor replaces it."""
+
+PROMINENCE_DB = 3.0
+"""A listed reflection stands at least this far (dB, at the analyzer) above the lowest point between it
+and the nearest stronger response on either side (its topographic prominence); ripples on the skirt or
+the dispersive tail of a stronger reflection do not (checked in the tests)."""
+
+NONPHYSICAL_TOL = 1e-3
+"""A compensated |Gamma| above 1 + this is not listed (a passive feed cannot reflect more than it receives)."""
 
 _RECT_6DB_BINS = 1.2067  # -6 dB main-lobe width of the rectangular window, DFT bins (measured below)
 
@@ -119,6 +133,22 @@ def window_info(name: str) -> WindowInfo:
     side_db = 20 * math.log10(max(float(side.max()), 1e-300)) if side.size else -math.inf
     return WindowInfo(name=key, label=_WINDOWS[key][0], sidelobe_db=float(side_db), mainlobe_6db_bins=float(width_bins),
                       widening=float(width_bins / _RECT_6DB_BINS))
+
+
+@functools.cache
+def _sidelobe_envelope(name: str) -> tuple[np.ndarray, np.ndarray]:
+    """(offset in DFT bins, dB): the highest sidelobe of the window's transform at that offset from
+    the main lobe's centre or beyond (0 dB inside the main lobe). Measured like :func:`window_info`."""
+    w = _window_fn(name)(256)
+    over = 64
+    spec = np.abs(np.fft.rfft(w, 256 * over))
+    spec = spec / spec[0]
+    d = np.diff(spec)
+    first_min = int(np.argmax(d > 0)) if np.any(d > 0) else spec.size - 1
+    level = spec.copy()
+    level[:first_min] = 1.0
+    env = np.maximum.accumulate(level[::-1])[::-1]  # the largest value at this offset or beyond
+    return np.arange(spec.size) / over, 20 * np.log10(np.maximum(env, 1e-15))
 
 
 @dataclass(frozen=True)
@@ -178,9 +208,11 @@ class LocateResult:
     (|Gamma| per distance, loss compensated), ``raw_reflection_mag`` (uncompensated), ``step``
     (signed step response in reflection-coefficient units, ``lowpass-step`` only). ``trace_*``: the
     same sampled to at most :data:`TRACE_POINTS` points keeping every local maximum's bucket peak.
-    ``floor_mag``: nothing below it is listed as a peak (the larger of ``noise_floor_mag`` and
-    ``sidelobe_floor_mag``, the strongest reflection's window sidelobes plus
-    :data:`SIDELOBE_MARGIN_DB`), both on the uncompensated trace."""
+    ``floor_mag``: nothing below it (at the analyzer, uncompensated) is listed as a peak: the larger
+    of ``noise_floor_mag`` and ``sidelobe_floor_mag`` (:data:`DYNAMIC_RANGE_DB` below the strongest;
+    not applied when a floor is given). A listed peak also clears the window sidelobes of every
+    stronger one at its distance by :data:`SIDELOBE_MARGIN_DB` and stands
+    :data:`PROMINENCE_DB` out of its surroundings."""
 
     path: str
     port: int
@@ -324,8 +356,11 @@ def _compensation(f: np.ndarray, w: np.ndarray, cable: CableModel, d: np.ndarray
     fk, wk = f[::stride], wk[::stride]
     alpha = cable.alpha_np_per_m(fk)
     grid = np.linspace(0.0, float(d.max()), 129)
-    att = np.exp(-2.0 * np.outer(grid, alpha))
-    factor_db = 20 * np.log10(np.sum(wk) / (att @ wk))
+    # log of sum(w exp(-2 alpha d)) without underflow on a long lossy cable (a log-sum-exp)
+    expo = np.log(np.maximum(wk, 1e-300))[None, :] - 2.0 * np.outer(grid, alpha)
+    top = expo.max(axis=1)
+    log_sum = top + np.log(np.sum(np.exp(expo - top[:, None]), axis=1))
+    factor_db = (20 / math.log(10)) * (math.log(float(np.sum(wk))) - log_sum)
     return 10 ** (np.interp(d, grid, factor_db) / 20)
 
 
@@ -337,6 +372,23 @@ def _trace(d: np.ndarray, *ys: np.ndarray, points: int = TRACE_POINTS) -> tuple[
     edges = np.linspace(0, n, points + 1).astype(int)
     idx = np.array([a + int(np.argmax(ys[0][a:b])) for a, b in zip(edges[:-1], edges[1:], strict=True) if b > a])
     return (d[idx], *(y[idx] for y in ys))
+
+
+def _prominence_db(y_db: np.ndarray, i: int) -> float:
+    """Topographic prominence of sample ``i`` of the periodic trace ``y_db`` (dB): its height over the
+    higher of the two lowest points met on the way, left and right, to a higher sample (or half a
+    period away). Hand-written with numpy: scipy.signal.peak_prominences costs scipy.signal's start-up."""
+    n = y_db.size
+    c = n // 2
+    r = np.roll(y_db, c - i)
+    top = r[c]
+    left, right = r[:c][::-1], r[c + 1:]
+    lows = []
+    for side in (left, right):
+        higher = np.flatnonzero(side > top)
+        stretch = side[:higher[0]] if higher.size else side
+        lows.append(float(stretch.min()) if stretch.size else top)
+    return float(top - max(lows))
 
 
 def _classify(step: np.ndarray, k: int, half: int) -> tuple[str, float]:
@@ -467,12 +519,15 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
             warnings.append(f"{sw.name}: the view is cut at the alias-free range {max_range:.3g} m, not at "
                             f"{md:.3g} m (a finer frequency step reaches further)")
         view_max = min(md, max_range)
-    keep = dist <= view_max * (1 + 1e-12)
-    dist, raw = dist[keep], raw[keep]
+    # the whole period [0, 1/df) is searched for peaks (it is periodic: a reflection at 0 m has its
+    # neighbours at both ends), then the view is cut at view_max
+    comp_full = _compensation(work.frequency.f, wv, cab, dist, lowpass)
+    mag_full, raw_full, dist_full = raw * comp_full, raw, dist
+    keep = dist_full <= view_max * (1 + 1e-12)
+    dist, raw, mag, comp = dist_full[keep], raw_full[keep], mag_full[keep], comp_full[keep]
+    step_full = step_trace
     if step_trace is not None:
         step_trace = step_trace[keep]
-    comp = _compensation(work.frequency.f, wv, cab, dist, lowpass)
-    mag = raw * comp
     if not cab.lossless and np.max(comp) > 10 ** (20 / 20):
         warnings.append(f"{sw.name}: the loss compensation reaches {20 * math.log10(np.max(comp)):.0f} dB at "
                         f"{view_max:.3g} m; far reflections there are noise amplified by as much")
@@ -481,7 +536,7 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     sep = res if min_separation_m is None else float(min_separation_m)
     if not (math.isfinite(sep) and sep >= 0):
         raise UsageError("out of range", parameter="min_separation_m", value=sep, expected="a distance of 0 or more")
-    ddist = float(dist[1] - dist[0]) if dist.size > 1 else 1.0
+    ddist = float(dist_full[1] - dist_full[0])
     # the floors are properties of the measurement, so they apply to the uncompensated trace (loss
     # compensation would otherwise lift the far noise and sidelobes into the list)
     noise = float(np.median(raw)) * 10 ** (NOISE_MARGIN_DB / 20) if raw.size else 0.0
@@ -492,36 +547,62 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
                              expected="a return loss of 0 dB or more, e.g. 40")
         noise = 10 ** (-fd / 20)
     peaks: list[Peak] = []
-    side = 0.0
-    floor = noise
-    if mag.size >= 3:
-        idx = skrf.time.indexes(mag, thres=0.0, min_dist=max(int(sep / ddist), 1))
-        idx = np.asarray([i for i in idx if 0 < i < mag.size - 1], dtype=int)
-        if idx.size:
-            side = float(np.max(raw[idx])) * 10 ** ((info.sidelobe_db + SIDELOBE_MARGIN_DB) / 20)
-        floor = max(noise, side)
-        chosen = sorted((int(i) for i in idx if raw[i] > floor), key=lambda i: -mag[i])[:max(int(max_peaks), 0)]
-        for i in chosen:
-            # parabolic interpolation through the three samples around the maximum (hand-written:
-            # three lines; it places the peak between samples)
-            y0, y1, y2 = mag[i - 1], mag[i], mag[i + 1]
-            den = y0 - 2 * y1 + y2
-            p = 0.5 * (y0 - y2) / den if den < 0 else 0.0
-            p = float(np.clip(p, -0.5, 0.5))
-            d_pk = float(dist[i] + p * ddist)
-            m_pk = float(y1 - 0.25 * (y0 - y2) * p)
-            c_pk = float(np.interp(d_pk, dist, comp))
-            raw_pk = m_pk / c_pk
-            kind = change = None
-            if step_trace is not None:
-                kind, change = _classify(step_trace, i, max(int(1.5 * res / ddist), 2))
-            peaks.append(Peak(distance_m=d_pk, round_trip_s=float(cab.round_trip_s(d_pk)), reflection_mag=m_pk,
-                              return_loss_db=float(-20 * math.log10(m_pk)), raw_reflection_mag=raw_pk,
-                              raw_return_loss_db=float(-20 * math.log10(raw_pk)),
-                              two_way_loss_db=float(20 * math.log10(c_pk)), kind=kind, step_change=change))
-    if any(pk.reflection_mag > 1.0 + 1e-6 for pk in peaks):
-        warnings.append(f"{sw.name}: a reflection above |Gamma| = 1 after loss compensation: the loss given is "
-                        "more than the cable has, or the sweep is not calibrated")
+    nf = mag_full.size
+    # found and placed on the trace as measured: the compensation rises with distance and would pull a
+    # broad (dispersed) reflection's maximum outward; its amplitude is compensated afterwards
+    ext = np.concatenate([raw_full[-1:], raw_full, raw_full[:1]])
+    idx = np.asarray(skrf.time.indexes(ext, thres=0.0, min_dist=max(int(sep / ddist), 1)), dtype=int) - 1
+    idx = idx[(idx >= 0) & (idx < nf)]
+    idx = idx[keep[idx]]
+    # a listing range below the strongest reflection (at the analyzer); with --floor the user sets it
+    side = float(np.max(raw_full[idx])) * 10 ** (-DYNAMIC_RANGE_DB / 20) if idx.size else 0.0
+    floor = noise if floor_return_loss_db is not None else max(noise, side)
+    raw_db = _db(np.maximum(raw_full, 1e-300))
+    env_bins, env_db = _sidelobe_envelope(info.name)
+    period_m = ddist * nf
+    dropped_nonphysical = 0
+    listed: list[int] = []
+    # strongest at the analyzer first: a candidate must clear the noise floor, stand out from the skirt
+    # it sits on, and clear the window sidelobes of every stronger reflection already listed
+    for i in sorted((int(i) for i in idx if raw_full[i] > floor), key=lambda i: -raw_full[i]):
+        if len(listed) >= max(int(max_peaks), 0):
+            break
+        if _prominence_db(raw_db, i) < PROMINENCE_DB:
+            continue  # a ripple on the skirt or the tail of a stronger reflection, not one of its own
+        if listed:
+            # the sidelobes of the stronger ones add up (in amplitude, at worst) where this one sits
+            gap = np.abs(dist_full[listed] - dist_full[i])
+            gap = np.minimum(gap, period_m - gap) / base_res
+            lobes = raw_full[listed] * 10 ** (np.interp(gap, env_bins, env_db, right=env_db[-1]) / 20)
+            if raw_full[i] < float(np.sum(lobes)) * 10 ** (SIDELOBE_MARGIN_DB / 20):
+                continue
+        if mag_full[i] > 1.0 + NONPHYSICAL_TOL:
+            dropped_nonphysical += 1
+            continue
+        listed.append(i)
+    listed.sort(key=lambda i: -mag_full[i])
+    if dropped_nonphysical:
+        warnings.append(f"{sw.name}: {dropped_nonphysical} reflection(s) above |Gamma| = 1 after loss compensation "
+                        "were not listed (non-physical): the loss given is more than the cable has, the sweep is "
+                        "not calibrated, or they are noise lifted by the compensation")
+    for i in listed:
+        # parabolic interpolation through the three samples around the maximum (hand-written:
+        # three lines; it places the peak between samples)
+        y0, y1, y2 = raw_full[(i - 1) % nf], raw_full[i], raw_full[(i + 1) % nf]
+        den = y0 - 2 * y1 + y2
+        p = 0.5 * (y0 - y2) / den if den < 0 else 0.0
+        p = float(np.clip(p, -0.5, 0.5))
+        d_pk = max(float(dist_full[i] + p * ddist), 0.0)
+        raw_pk = float(y1 - 0.25 * (y0 - y2) * p)
+        c_pk = float(np.interp(d_pk, dist_full, comp_full))
+        m_pk = raw_pk * c_pk
+        kind = change = None
+        if step_full is not None:
+            kind, change = _classify(step_full, i, max(int(1.5 * res / ddist), 2))
+        peaks.append(Peak(distance_m=d_pk, round_trip_s=float(cab.round_trip_s(d_pk)), reflection_mag=m_pk,
+                          return_loss_db=float(-20 * math.log10(m_pk)), raw_reflection_mag=raw_pk,
+                          raw_return_loss_db=float(-20 * math.log10(raw_pk)),
+                          two_way_loss_db=float(20 * math.log10(c_pk)), kind=kind, step_change=change))
 
     trace = _trace(dist, np.maximum(mag, 1e-15), np.maximum(raw, 1e-15))  # -300 dB stands for nothing
     gate = None

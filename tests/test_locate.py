@@ -321,3 +321,25 @@ def test_floor_option_and_peak_count():
     with pytest.raises(UsageError) as info:
         lc.analyze(net, velocity_factor=vf, floor_return_loss_db=-3)
     assert info.value.parameter == "floor_return_loss_db"
+
+
+@pytest.mark.parametrize("f", [np.arange(1, 401) * 5e6, np.linspace(700e6, 2.7e9, 401)], ids=["lowpass", "bandpass"])
+def test_a_load_at_the_reference_plane_is_found_at_zero(f):
+    """An antenna measured without any cable (a 100-ohm load, Gamma 1/3, derived) sits at 0 m: the
+    transform is periodic, so the peak at the first sample is found like any other."""
+    net = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="Hz"), s=np.full(f.size, 1 / 3 + 0j), z0=50)
+    r = lc.analyze(net, velocity_factor=0.7)
+    assert r.peaks and r.peaks[0].distance_m == pytest.approx(0.0, abs=r.resolution_m / 4)
+    assert r.peaks[0].return_loss_db == pytest.approx(-20 * math.log10(1 / 3), abs=1.0)
+
+
+def test_a_very_lossy_long_view_does_not_overflow():
+    """3 dB/m over a 300 m view is 1,800 dB two-way at the far end: the compensation stays finite
+    (log-sum-exp), is warned about, and the near load is still right."""
+    f = np.arange(1, 1001) * 1e6
+    m = media(f, 0.66, 3.0)
+    r = lc.analyze(m.line(2, "m") ** m.load(gamma_r(150.0)), cable=cable_model(0.66, 3.0))
+    assert np.isfinite(r.reflection_mag).all() and any("compensation" in w for w in r.warnings)
+    pk = r.peaks[0]
+    assert pk.distance_m == pytest.approx(2.0, abs=r.resolution_m / 4)
+    assert pk.return_loss_db == pytest.approx(-20 * math.log10(0.5), abs=1.0)
