@@ -179,31 +179,71 @@ def _filters(tbl, lot, since, spec):
     return conds
 
 
-def _aggregate(st, lot, since, spec, k_hz):
-    """Per-store partial aggregates (additive across stores)."""
+def _raw_parts(st, lot, since, spec):
+    """Per-store aggregates computed from the unit rows (for a ``since`` with a time of day, which
+    the per-day running statistics cannot answer). Sums of squares are taken about a shift (the
+    store's first best-match frequency for Hz values) and turned into (count, mean, M2)."""
     from sqlalchemy import Float, and_, case, cast, func, select
 
     _, _, U, R = _tables()
-    uw = _filters(U, lot, since, spec)
-    fx = U.c.best_f_hz - k_hz
-    q_units = (select(U.c.lot, func.count(), func.sum(case((U.c.passed, 1), else_=0)),
-                      func.sum(case((U.c.error.is_not(None), 1), else_=0)), func.min(U.c.checked_at),
-                      func.max(U.c.checked_at), func.count(U.c.best_f_hz), func.sum(fx), func.sum(fx * fx),
-                      func.min(U.c.best_f_hz), func.max(U.c.best_f_hz))
-               .where(and_(True, *uw)).group_by(U.c.lot))
-    shift = case((R.c.key == "resonance", k_hz), else_=0.0)
-    w = cast(R.c.worst, Float) - shift
-    q_reqs = (select(R.c.lot, R.c.name, R.c.key, func.min(R.c.position), func.count(),
-                     func.sum(case((R.c.passed, 1), else_=0)), func.count(R.c.worst), func.sum(w), func.sum(w * w),
-                     func.min(R.c.worst), func.max(R.c.worst), func.min(R.c.limit_value), func.max(R.c.limit_value),
-                     func.min(R.c.f_low_hz), func.max(R.c.f_low_hz), func.min(R.c.f_high_hz), func.max(R.c.f_high_hz))
-              .where(and_(True, *_filters(R, lot, since, spec))).group_by(R.c.lot, R.c.name, R.c.key))
-    q_names = select(U.c.lot, U.c.spec_name, U.c.station).where(and_(True, *uw)).distinct()
     with st.engine.connect() as conn:
-        units = conn.execute(q_units).all()
-        reqs = conn.execute(q_reqs).all()
-        names = conn.execute(q_names).all()
-    return units, reqs, names
+        k_hz = conn.execute(select(U.c.best_f_hz).where(U.c.best_f_hz.is_not(None)).limit(1)).scalar() or 0.0
+        uw = _filters(U, lot, since, spec)
+        fx = U.c.best_f_hz - k_hz
+        units = conn.execute(
+            select(U.c.lot, U.c.spec_name, U.c.station, func.count(), func.sum(case((U.c.passed, 1), else_=0)),
+                   func.sum(case((U.c.error.is_not(None), 1), else_=0)), func.count(U.c.best_f_hz), func.sum(fx),
+                   func.sum(fx * fx), func.min(U.c.best_f_hz), func.max(U.c.best_f_hz), func.min(U.c.checked_at),
+                   func.max(U.c.checked_at))
+            .where(and_(True, *uw)).group_by(U.c.lot, U.c.spec_name, U.c.station)).all()
+        shift = case((R.c.key == "resonance", k_hz), else_=0.0)
+        w = cast(R.c.worst, Float) - shift
+        reqs = conn.execute(
+            select(R.c.lot, R.c.name, R.c.key, func.min(R.c.position), func.count(),
+                   func.sum(case((R.c.passed, 1), else_=0)), func.count(R.c.worst), func.sum(w), func.sum(w * w),
+                   func.min(R.c.worst), func.max(R.c.worst), func.min(R.c.limit_value), func.max(R.c.limit_value),
+                   func.min(R.c.f_low_hz), func.max(R.c.f_low_hz), func.min(R.c.f_high_hz), func.max(R.c.f_high_hz))
+            .where(and_(True, *_filters(R, lot, since, spec))).group_by(R.c.lot, R.c.name, R.c.key)).all()
+
+    def mm(n, s1, s2, k):
+        if not n:
+            return 0, None, None
+        s1, s2 = float(s1 or 0.0), float(s2 or 0.0)
+        return n, s1 / n + k, max(0.0, s2 - s1 * s1 / n)
+
+    up = [(lt, sn, sta, n, int(p or 0), int(e or 0), *mm(nf, sf, sf2, k_hz), fmin, fmax, t0, t1)
+          for (lt, sn, sta, n, p, e, nf, sf, sf2, fmin, fmax, t0, t1) in units]
+    rp = [(lt, name, key, pos, n, int(p or 0), *mm(nw, s1, s2, k_hz if key == "resonance" else 0.0), *rest)
+          for (lt, name, key, pos, n, p, nw, s1, s2, *rest) in reqs]
+    return up, rp
+
+
+def _stat_parts(st, lot, since, spec):
+    """Per-store aggregates from the running statistics kept by every write (a few rows per lot)."""
+    from sqlalchemy import and_, select
+
+    from .store import stats_tables
+
+    LU, LR = stats_tables()
+    out = []
+    for t in (LU, LR):
+        conds = []
+        if lot is not None:
+            conds.append(t.c.lot == lot)
+        if spec is not None:
+            conds.append(t.c.spec_name == spec)
+        if since is not None:
+            conds.append(t.c.day >= since.date().isoformat())
+        out.append(and_(True, *conds))
+    with st.engine.connect() as conn:
+        units = conn.execute(select(LU.c.lot, LU.c.spec_name, LU.c.station, LU.c.units, LU.c.passed, LU.c.errors,
+                                    LU.c.f_n, LU.c.f_mean, LU.c.f_m2, LU.c.f_min, LU.c.f_max, LU.c.first_at,
+                                    LU.c.last_at).where(out[0])).all()
+        reqs = conn.execute(select(LR.c.lot, LR.c.name, LR.c.key, LR.c.position, LR.c.evaluated, LR.c.passed,
+                                   LR.c.n_values, LR.c.mean, LR.c.m2, LR.c.min, LR.c.max, LR.c.limit_min,
+                                   LR.c.limit_max, LR.c.f_low_min, LR.c.f_low_max, LR.c.f_high_min,
+                                   LR.c.f_high_max).where(out[1])).all()
+    return [tuple(r) for r in units], [tuple(r) for r in reqs]
 
 
 def _worst_candidates(st, lots, failing_names, lot_f, since, spec, n_worst):
@@ -286,14 +326,13 @@ def _series(stores, lot, since, spec):
 
 # ----------------------------------------------------------------------------------------- assembly
 
-def _stats(n: int, s1: float, s2: float, shift: float) -> tuple[float | None, float | None]:
-    if n == 0:
+def _stats(n: int, mean: float | None, m2: float | None) -> tuple[float | None, float | None]:
+    """(mean, sample standard deviation) from (count, mean, sum of squared deviations)."""
+    if not n:
         return None, None
-    mean = s1 / n + shift
-    if n < 2:
+    if n < 2 or m2 is None:
         return mean, None
-    var = max(0.0, (s2 - s1 * s1 / n) / (n - 1))
-    return mean, math.sqrt(var)
+    return mean, math.sqrt(max(0.0, m2) / (n - 1))
 
 
 def _cpk_of(key, n, mean, std, lim_lo, lim_hi, flo, fhi) -> tuple[float | None, str, str]:
@@ -334,50 +373,39 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
 
 
 def _history(opened, lot, since_t, spec, n_worst, series) -> HistoryResult:
-    from sqlalchemy import select
 
-    _, _, U, _ = _tables()
+    from .store import combine
+
     warnings: list[str] = []
-    k_hz = 0.0  # a fixed shift for the sums of squares in Hz (a few MHz spread on ~1 GHz)
-    for st in opened:
-        with st.engine.connect() as conn:
-            v = conn.execute(select(U.c.best_f_hz).where(U.c.best_f_hz.is_not(None)).limit(1)).scalar()
-        if v is not None:
-            k_hz = float(v)
-            break
+    midnight = since_t is None or (since_t.hour, since_t.minute, since_t.second, since_t.microsecond) == (0, 0, 0, 0)
     lots: dict[str, dict] = {}
     for st in opened:
-        units, reqs, names = _aggregate(st, lot, since_t, spec, k_hz)
-        for (lt, n, p, e, t0, t1, nf, sf, sf2, fmin, fmax) in units:
-            d = lots.setdefault(lt, {"n": 0, "p": 0, "e": 0, "t0": None, "t1": None, "nf": 0, "sf": 0.0, "sf2": 0.0,
+        units, reqs = (_stat_parts if midnight else _raw_parts)(st, lot, since_t, spec)
+        for (lt, sn, sta, n, p, e, nf, fm, fq, fmin, fmax, t0, t1) in units:
+            d = lots.setdefault(lt, {"n": 0, "p": 0, "e": 0, "t0": None, "t1": None, "f": (0, None, None),
                                      "fmin": None, "fmax": None, "reqs": {}, "specs": set(), "stations": set()})
             d["n"] += n
-            d["p"] += int(p or 0)
-            d["e"] += int(e or 0)
-            d["t0"] = t0 if d["t0"] is None or (t0 is not None and t0 < d["t0"]) else d["t0"]
-            d["t1"] = t1 if d["t1"] is None or (t1 is not None and t1 > d["t1"]) else d["t1"]
-            d["nf"] += nf
-            d["sf"] += float(sf or 0.0)
-            d["sf2"] += float(sf2 or 0.0)
-            d["fmin"] = _mn(d["fmin"], fmin)
-            d["fmax"] = _mx(d["fmax"], fmax)
-        for (lt, name, key, pos, n, p, nw, s1, s2, wmin, wmax, lmin, lmax, flo0, flo1, fhi0, fhi1) in reqs:
-            d = lots[lt]["reqs"].setdefault((name, key), {"pos": pos, "n": 0, "p": 0, "nw": 0, "s1": 0.0, "s2": 0.0,
+            d["p"] += p
+            d["e"] += e
+            d["t0"], d["t1"] = _mn(d["t0"], t0), _mx(d["t1"], t1)
+            d["f"] = combine(d["f"], (nf, fm, fq))
+            d["fmin"], d["fmax"] = _mn(d["fmin"], fmin), _mx(d["fmax"], fmax)
+            d["specs"].add(sn)
+            d["stations"].add(sta)
+        for (lt, name, key, pos, n, p, nw, wm, wq, wmin, wmax, lmin, lmax, flo0, flo1, fhi0, fhi1) in reqs:
+            if lt not in lots:
+                continue
+            d = lots[lt]["reqs"].setdefault((name, key), {"pos": pos, "n": 0, "p": 0, "w": (0, None, None),
                                                            "wmin": None, "wmax": None, "lmin": None, "lmax": None,
                                                            "flo": [None, None], "fhi": [None, None]})
             d["pos"] = min(d["pos"], pos)
             d["n"] += n
-            d["p"] += int(p or 0)
-            d["nw"] += nw
-            d["s1"] += float(s1 or 0.0)
-            d["s2"] += float(s2 or 0.0)
+            d["p"] += p
+            d["w"] = combine(d["w"], (nw, wm, wq))
             d["wmin"], d["wmax"] = _mn(d["wmin"], wmin), _mx(d["wmax"], wmax)
             d["lmin"], d["lmax"] = _mn(d["lmin"], lmin), _mx(d["lmax"], lmax)
             d["flo"] = [_mn(d["flo"][0], flo0), _mx(d["flo"][1], flo1)]
             d["fhi"] = [_mn(d["fhi"][0], fhi0), _mx(d["fhi"][1], fhi1)]
-        for lt, sn, sta in names:
-            lots[lt]["specs"].add(sn)
-            lots[lt]["stations"].add(sta)
     if len(opened) > 1:
         warnings += _overlap_warnings(opened, lot, since_t, spec)
     failing_names = {lt: [nm for (nm, _k), r in sorted(d["reqs"].items(), key=lambda kv: (kv[1]["pos"], kv[0][0]))
@@ -388,16 +416,16 @@ def _history(opened, lot, since_t, spec, n_worst, series) -> HistoryResult:
     for lt, d in sorted(lots.items(), key=lambda kv: (kv[1]["t0"] or datetime.min, kv[0])):
         rh = []
         for (name, key), r in sorted(d["reqs"].items(), key=lambda kv: kv[1]["pos"]):
-            mean, std = _stats(r["nw"], r["s1"], r["s2"], k_hz if key == "resonance" else 0.0)
-            c, side, why = _cpk_of(key, r["nw"], mean, std, r["lmin"], r["lmax"], r["flo"], r["fhi"])
-            rh.append(RequirementHistory(name=name, key=key, evaluated=r["n"], passed=r["p"], n_values=r["nw"],
+            mean, std = _stats(*r["w"])
+            c, side, why = _cpk_of(key, r["w"][0], mean, std, r["lmin"], r["lmax"], r["flo"], r["fhi"])
+            rh.append(RequirementHistory(name=name, key=key, evaluated=r["n"], passed=r["p"], n_values=r["w"][0],
                                          mean=mean, std=std, min=r["wmin"], max=r["wmax"],
                                          limit=r["lmin"] if r["lmin"] == r["lmax"] else None,
                                          f_low_hz=r["flo"][1], f_high_hz=r["fhi"][0], cpk=c, cpk_side=side,
                                          cpk_reason=why))
-        fmean, fstd = _stats(d["nf"], d["sf"], d["sf2"], k_hz)
+        fmean, fstd = _stats(*d["f"])
         out.append(LotHistory(lot=lt, units=d["n"], passed=d["p"], failed=d["n"] - d["p"] - d["e"], errors=d["e"],
-                              requirements=tuple(rh), resonance_n=d["nf"], resonance_mean_hz=fmean,
+                              requirements=tuple(rh), resonance_n=d["f"][0], resonance_mean_hz=fmean,
                               resonance_std_hz=fstd, resonance_min_hz=d["fmin"], resonance_max_hz=d["fmax"],
                               worst=_merge_worst(lt, failing_names.get(lt, []), cands, n_worst),
                               specs=tuple(sorted(d["specs"])), stations=tuple(sorted(d["stations"])),

@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import math
 import os
 import random
 import time
@@ -50,6 +51,7 @@ if TYPE_CHECKING:  # pragma: no cover
 SCHEMA_VERSION = 1
 BUSY_TIMEOUT_S = 30.0
 WRITE_RETRIES = 8
+LOCK_KEY = 0x6D74_7374  # the PostgreSQL advisory lock that serialises writers ("mtst")
 
 
 @dataclass(frozen=True)
@@ -121,20 +123,79 @@ def _tables():
         Column("port", Integer),
         Column("ports", String(200)),
         Index("requirements_lot", "lot", "name"),
+        Index("requirements_failing", "lot", "passed", "name"),
     )
-    return md, schema, units, reqs
+    def group():
+        return [Column("lot", String(200), primary_key=True), Column("spec_name", String(200), primary_key=True),
+                Column("station", String(200), primary_key=True), Column("day", String(10), primary_key=True)]
+
+    lot_units = Table(
+        "lot_units", md, *group(),
+        Column("units", Integer, nullable=False), Column("passed", Integer, nullable=False),
+        Column("errors", Integer, nullable=False), Column("f_n", Integer, nullable=False),
+        Column("f_mean", Float), Column("f_m2", Float), Column("f_min", Float), Column("f_max", Float),
+        Column("first_at", DateTime), Column("last_at", DateTime),
+    )
+    lot_reqs = Table(
+        "lot_requirements", md, *group(),
+        Column("name", String(200), primary_key=True), Column("key", String(40), primary_key=True),
+        Column("position", Integer, nullable=False), Column("evaluated", Integer, nullable=False),
+        Column("passed", Integer, nullable=False), Column("n_values", Integer, nullable=False),
+        Column("mean", Float), Column("m2", Float), Column("min", Float), Column("max", Float),
+        Column("limit_min", Float), Column("limit_max", Float), Column("f_low_min", Float), Column("f_low_max", Float),
+        Column("f_high_min", Float), Column("f_high_max", Float),
+    )
+    return md, schema, units, reqs, lot_units, lot_reqs
 
 
-_MD, SCHEMA, UNITS, REQUIREMENTS = (None,) * 4
+_T: tuple | None = None
+
+
+def _all_tables() -> tuple:
+    global _T
+    if _T is None:
+        _T = _tables()
+    return _T
 
 
 def tables():
     """(metadata, schema table, units table, requirements table), built on first use (so that
     importing this module does not import SQLAlchemy)."""
-    global _MD, SCHEMA, UNITS, REQUIREMENTS
-    if _MD is None:
-        _MD, SCHEMA, UNITS, REQUIREMENTS = _tables()
-    return _MD, SCHEMA, UNITS, REQUIREMENTS
+    return _all_tables()[:4]
+
+
+def stats_tables():
+    """(lot_units, lot_requirements): running counts, means and sums of squared deviations per
+    lot, spec, station and day, kept up to date by every write so that ``history`` reads a few
+    rows per lot instead of every unit."""
+    return _all_tables()[4:]
+
+
+# ------------------------------------------------------------------------------- running statistics
+
+def combine(a: tuple[int, float | None, float | None], b: tuple[int, float | None, float | None]):
+    """Two groups' (count, mean, sum of squared deviations) as one group's: the pairwise update
+    of Chan, Golub and LeVeque, "Algorithms for computing the sample variance" (1983), exact in
+    exact arithmetic and stable in floating point (no sum of squares about zero)."""
+    na, ma, qa = a
+    nb, mb, qb = b
+    if not nb:
+        return a
+    if not na:
+        return b
+    n = na + nb
+    d = mb - ma
+    return n, ma + d * nb / n, qa + qb + d * d * na * nb / n
+
+
+def moments(values) -> tuple[int, float | None, float | None]:
+    """(count, mean, sum of squared deviations) of the values that are not None (two passes,
+    correctly rounded sums)."""
+    x = [float(v) for v in values if v is not None]
+    if not x:
+        return 0, None, None
+    m = math.fsum(x) / len(x)
+    return len(x), m, math.fsum((v - m) ** 2 for v in x)
 
 
 # --------------------------------------------------------------------------------------------- URLs
@@ -292,7 +353,7 @@ class Store:
     def add_lot(self, units: Iterable[CheckedUnit], spec: Spec, lot: str, station: str,
                 checked_at: datetime | None = None, spec_sha256: str | None = None) -> StoreInfo:
         """Append every unit (see the module docstring for what is kept); returns the counts."""
-        from sqlalchemy import func, select
+        from sqlalchemy import select
         from sqlalchemy.exc import SQLAlchemyError
 
         from . import __version__
@@ -305,10 +366,13 @@ class Store:
         spec_name = spec.name or Path(spec.path).stem
         when = _utc_naive(checked_at)
         urows, rrows = [], []
+        from .batch import file_sha256
+
         for seq, c in enumerate(units):
             u = c.result
-            uid = unit_uid(c.sha256, u.file, spec_hash, lot, station)
-            urows.append({"uid": uid, "lot": lot, "station": station, "file": _clean(u.file), "sweep_sha256": c.sha256,
+            digest = c.sha256 if c.sha256 is not None or u.error is not None else file_sha256(u.file)
+            uid = unit_uid(digest, u.file, spec_hash, lot, station)
+            urows.append({"uid": uid, "lot": lot, "station": station, "file": _clean(u.file), "sweep_sha256": digest,
                           "spec_name": spec_name, "spec_sha256": spec_hash, "checked_at": when, "passed": bool(u.passed),
                           "error": _clean(u.error) if u.error is not None else None, "best_f_hz": _f(u.best_f_hz),
                           "best_return_loss_db": _f(u.best_return_loss_db), "tool_version": __version__})
@@ -323,17 +387,29 @@ class Store:
                               "port": int(port) if port is not None else None,
                               "ports": json.dumps(list(ports)) if ports else None})
         ins = self._insert()
+        lot_units_t, lot_reqs_t = stats_tables()
 
         def work(conn):
-            before = conn.execute(select(func.count()).select_from(units_t).where(units_t.c.lot == lot,
-                                                                                  units_t.c.station == station)).scalar()
-            for k in range(0, len(urows), 5000):
-                conn.execute(ins(units_t).on_conflict_do_nothing(index_elements=["uid"]), urows[k:k + 5000])
-            for k in range(0, len(rrows), 5000):
-                conn.execute(ins(reqs_t).on_conflict_do_nothing(index_elements=["uid", "position"]), rrows[k:k + 5000])
-            after = conn.execute(select(func.count()).select_from(units_t).where(units_t.c.lot == lot,
-                                                                                 units_t.c.station == station)).scalar()
-            return after - before
+            from sqlalchemy import text
+
+            if not self.sqlite:  # one writer at a time updates the running statistics (SQLite: BEGIN IMMEDIATE)
+                conn.execute(text("SELECT pg_advisory_xact_lock(:k)"), {"k": LOCK_KEY})
+            uids = list(dict.fromkeys(r["uid"] for r in urows))
+            have: set[str] = set()
+            for k in range(0, len(uids), 500):
+                have |= {x[0] for x in conn.execute(select(units_t.c.uid).where(units_t.c.uid.in_(uids[k:k + 500])))}
+            seen: set[str] = set()
+            new_u = []
+            for r in urows:
+                if r["uid"] not in have and r["uid"] not in seen:
+                    seen.add(r["uid"])
+                    new_u.append(r)
+            new_r = [r for r in rrows if r["uid"] in seen]
+            _bulk(conn, ins(units_t).on_conflict_do_nothing(index_elements=["uid"]), units_t, new_u)
+            _bulk(conn, ins(reqs_t).on_conflict_do_nothing(index_elements=["uid", "position"]), reqs_t, new_r)
+            if new_u:
+                self._update_stats(conn, new_u, new_r, station)
+            return len(new_u)
 
         try:
             added = self._transaction(work) if urows else 0
@@ -341,12 +417,104 @@ class Store:
             raise OutputError(f"cannot write to the results store ({_db_reason(exc)})", path=self.shown) from None
         return StoreInfo(self.shown, lot, station, int(added), len(urows) - int(added))
 
+    def _update_stats(self, conn, new_u: list[dict], new_r: list[dict], station: str) -> None:
+        """Fold the new rows into ``lot_units`` / ``lot_requirements`` (inside the write
+        transaction, which holds the store's write lock)."""
+        from sqlalchemy import and_, select
+
+        lot_units_t, lot_reqs_t = stats_tables()
+        ugroups: dict[tuple, list[dict]] = {}
+        for r in new_u:
+            ugroups.setdefault((r["lot"], r["spec_name"], station, r["checked_at"].date().isoformat()), []).append(r)
+        for key, rows in ugroups.items():
+            f = [r["best_f_hz"] for r in rows if r["error"] is None]
+            fm = moments(f)
+            fvals = [x for x in f if x is not None]
+            add = {"units": len(rows), "passed": sum(r["passed"] for r in rows),
+                   "errors": sum(r["error"] is not None for r in rows), "f_min": min(fvals, default=None),
+                   "f_max": max(fvals, default=None), "first_at": min(r["checked_at"] for r in rows),
+                   "last_at": max(r["checked_at"] for r in rows)}
+            where = and_(*(c == v for c, v in zip((lot_units_t.c.lot, lot_units_t.c.spec_name, lot_units_t.c.station,
+                                                   lot_units_t.c.day), key, strict=True)))
+            old = conn.execute(select(lot_units_t).where(where)).mappings().first()
+            n, m, q = combine((old["f_n"], old["f_mean"], old["f_m2"]) if old else (0, None, None), fm)
+            vals = {"f_n": n, "f_mean": m, "f_m2": q}
+            if old is None:
+                conn.execute(lot_units_t.insert().values(lot=key[0], spec_name=key[1], station=key[2], day=key[3],
+                                                          **add, **vals))
+            else:
+                conn.execute(lot_units_t.update().where(where).values(
+                    units=old["units"] + add["units"], passed=old["passed"] + add["passed"],
+                    errors=old["errors"] + add["errors"], f_min=_least(old["f_min"], add["f_min"]),
+                    f_max=_most(old["f_max"], add["f_max"]), first_at=_least(old["first_at"], add["first_at"]),
+                    last_at=_most(old["last_at"], add["last_at"]), **vals))
+        rgroups: dict[tuple, list[dict]] = {}
+        for r in new_r:
+            rgroups.setdefault((r["lot"], r["spec_name"], station, r["checked_at"].date().isoformat(), r["name"],
+                                r["key"]), []).append(r)
+        cols = (lot_reqs_t.c.lot, lot_reqs_t.c.spec_name, lot_reqs_t.c.station, lot_reqs_t.c.day, lot_reqs_t.c.name,
+                lot_reqs_t.c.key)
+        for key, rows in rgroups.items():
+            w = [r["worst"] for r in rows if r["worst"] is not None]
+            lims = [r["limit_value"] for r in rows if r["limit_value"] is not None]
+            flo = [r["f_low_hz"] for r in rows if r["f_low_hz"] is not None]
+            fhi = [r["f_high_hz"] for r in rows if r["f_high_hz"] is not None]
+            add = {"position": min(r["position"] for r in rows), "evaluated": len(rows),
+                   "passed": sum(r["passed"] for r in rows), "min": min(w, default=None), "max": max(w, default=None),
+                   "limit_min": min(lims, default=None), "limit_max": max(lims, default=None),
+                   "f_low_min": min(flo, default=None), "f_low_max": max(flo, default=None),
+                   "f_high_min": min(fhi, default=None), "f_high_max": max(fhi, default=None)}
+            where = and_(*(c == v for c, v in zip(cols, key, strict=True)))
+            old = conn.execute(select(lot_reqs_t).where(where)).mappings().first()
+            n, m, q = combine((old["n_values"], old["mean"], old["m2"]) if old else (0, None, None), moments(w))
+            vals = {"n_values": n, "mean": m, "m2": q}
+            if old is None:
+                conn.execute(lot_reqs_t.insert().values(**dict(zip(("lot", "spec_name", "station", "day", "name", "key"),
+                                                                    key, strict=True)), **add, **vals))
+            else:
+                merged = {"position": min(old["position"], add["position"]),
+                          "evaluated": old["evaluated"] + add["evaluated"], "passed": old["passed"] + add["passed"]}
+                for k in ("min", "limit_min", "f_low_min", "f_high_min"):
+                    merged[k] = _least(old[k], add[k])
+                for k in ("max", "limit_max", "f_low_max", "f_high_max"):
+                    merged[k] = _most(old[k], add[k])
+                conn.execute(lot_reqs_t.update().where(where).values(**merged, **vals))
+
     def _insert(self):
         if self.sqlite:
             from sqlalchemy.dialects.sqlite import insert
         else:
             from sqlalchemy.dialects.postgresql import insert
         return insert
+
+
+def _bulk(conn, stmt, table, rows: list[dict]) -> None:
+    """Execute one INSERT for many rows: the statement is compiled once by SQLAlchemy for the
+    connection's dialect and handed to the driver's ``executemany`` with each column's bind
+    processor applied, which skips SQLAlchemy's per-row parameter handling (about two thirds of
+    the cost of storing a lot of a thousand units)."""
+    if not rows:
+        return
+    dialect = conn.dialect
+    compiled = stmt.compile(dialect=dialect, column_keys=list(rows[0]))
+    procs = {c.name: c.type._cached_bind_processor(dialect) for c in table.columns}
+    if compiled.positional:
+        keys = list(compiled.positiontup)
+        params = [tuple(procs[k](r[k]) if procs.get(k) else r[k] for k in keys) for r in rows]
+    else:
+        keys = list(rows[0])
+        params = [{k: procs[k](r[k]) if procs.get(k) else r[k] for k in keys} for r in rows]
+    sql = compiled.string
+    for k in range(0, len(params), 5000):
+        conn.exec_driver_sql(sql, params[k:k + 5000])
+
+
+def _least(a, b):
+    return b if a is None else a if b is None else min(a, b)
+
+
+def _most(a, b):
+    return b if a is None else a if b is None else max(a, b)
 
 
 def _utc_naive(t: datetime | None) -> datetime:

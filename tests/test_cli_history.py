@@ -187,3 +187,15 @@ def test_history_views_and_errors(cli, lot):
     r = cli("history", "--store", db)
     assert r.code == 2 and len(r.err_lines) == 1 and "newer than this matchtool" in r.err
     json.loads(cli("history", "--store", d / "r.db", "--json").out or "{}")  # nothing half-printed on stdout
+
+
+def test_report_section_and_trend_of_the_store(cli, lot):
+    from matchtool.history import history
+    from matchtool.render.report_history import section_html
+
+    d, spec, folder = lot
+    db = d / "r.db"
+    cli("check", folder, "--spec", spec, "--store", db, "--lot", "lot<7>")
+    page = section_html(history([str(db)], series=True))
+    assert "Lot lot&lt;7&gt;" in page and "<svg" in page and "http" not in page.split("<svg")[0]
+    assert page.count("<tr>") == 3 + 1  # header and three requirements

@@ -167,3 +167,38 @@ def test_a_missing_store_is_not_created(tmp_path):
     with pytest.raises(InputError, match="no such store"):
         history.history([str(tmp_path / "nothing.db")])
     assert not (tmp_path / "nothing.db").exists()
+
+
+def test_running_statistics_equal_a_recount_from_the_unit_rows(tmp_path, spec):
+    # the per-day running statistics (kept by each write) against the aggregates recomputed from
+    # the unit rows (used for a --since with a time of day); several writes into one lot and day
+    rng = np.random.default_rng(21)
+    db = tmp_path / "r.db"
+    vals = []
+    for run in range(4):
+        rl = rng.normal(12, 2, 17)
+        vals += list(rl)
+        put(db, [unit(f"r{run}u{k}.s1p", rl_req(rl[k]), res_req(915e6 + rng.normal(0, 4e6))) for k in range(17)],
+            spec, station=f"s{run % 2}", when=datetime(2026, 11, 5, 9 + run))
+    fast = history.history([str(db)], since="2026-11-05").lots[0]
+    slow = history.history([str(db)], since="2026-11-05T00:00:01").lots[0]
+    assert (fast.units, fast.passed, fast.resonance_n) == (slow.units, slow.passed, slow.resonance_n) == (68, fast.passed, 68)
+    for a, b in zip(fast.requirements, slow.requirements, strict=True):
+        assert (a.evaluated, a.passed, a.n_values, a.min, a.max) == (b.evaluated, b.passed, b.n_values, b.min, b.max)
+        assert (a.mean, a.std, a.cpk) == pytest.approx((b.mean, b.std, b.cpk), rel=1e-9)
+    assert fast.requirements[0].std == pytest.approx(np.std(vals, ddof=1), rel=1e-9)  # numpy on the stored values
+    assert fast.resonance_std_hz == pytest.approx(slow.resonance_std_hz, rel=1e-6)
+    assert [w.file for w in fast.worst] == [w.file for w in slow.worst]
+    later = history.history([str(db)], since="2026-11-05T11:00").lots[0]
+    assert later.units == 34  # only the runs at 11:00 and 12:00
+
+
+def test_combine_is_the_pooled_mean_and_variance():
+    from matchtool.store import combine, moments
+
+    rng = np.random.default_rng(4)
+    x = rng.normal(915e6, 2e6, 1000)
+    parts = [moments(x[:10]), moments(x[10:400]), moments(x[400:])]
+    n, m, q = combine(combine(parts[0], parts[1]), parts[2])
+    assert n == 1000 and m == pytest.approx(x.mean(), rel=1e-14)
+    assert q / (n - 1) == pytest.approx(np.var(x, ddof=1), rel=1e-10)  # numpy's two-pass variance

@@ -31,6 +31,10 @@ Cases (goals from the benchmarks issue):
       echo), against ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.5x.
   P9  ``matchtool coupling`` of a 4-port 1,601-point file with TARC at 1-degree phase steps,
       against the cold ``skrf.Network(FILE)`` read of the same file. Goal: <= 2x.
+  P10 ``check`` of the P1 lot with ``--store`` (a fresh SQLite store each run) against the same
+      check without a store. Goal: <= 1.2x.
+  P11 ``history --json`` over a generated SQLite store of 1,000,000 unit rows (50 lots, two
+      requirements each). Goal: < 2 s.
 
 Every measurement is a fresh subprocess (so start-up is counted, as a user sees it); candidate
 and baseline runs are interleaved, repeated, and the median is reported. Peak memory comes from
@@ -116,12 +120,13 @@ class Sizes:
     reps_fast: int  # repetitions of sub-second cases
     reps_slow: int  # repetitions of multi-second cases
     p8_points: int = 10_001
+    history_units: int = 1_000_000
 
 
 FULL = Sizes(p1_files=1000, points=1601, p5_points=1_000_000, p6_rows=100_000, trials=10_000, reps_fast=11,
              reps_slow=3)
 QUICK = Sizes(p1_files=12, points=201, p5_points=20_000, p6_rows=5_000, trials=200, reps_fast=2, reps_slow=1,
-              p8_points=1001)
+              p8_points=1001, history_units=2_000)
 
 
 @dataclass
@@ -569,7 +574,94 @@ def p9(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [row]
 
 
-CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6, "P7": p7, "P8": p8, "P9": p9}
+def p10(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    """check of the P1 lot with --store (a fresh SQLite store each run) against the same check
+    without a store."""
+    row = Row("P10", f"check {sz.p1_files} files --store (SQLite)", goal="<= 1.2x", limit=1.2)
+    if not has_command("history"):
+        row.status = "not built yet"
+        return [row]
+    lot = tmp / "lot"
+    files = sorted(lot.glob("*.s1p")) if lot.is_dir() else write_lot(lot, sz.p1_files, sz.points)
+    spec = tmp / "spec.toml"
+    spec.write_text(SPEC_TOML)
+    db = tmp / "p6.db"
+    args = " ".join(f"'{a}'" for a in map(str, mt("check", lot, "--spec", spec, "--json", "--jobs", 1)))
+    clean = f"rm -f '{db}' '{db}-wal' '{db}-shm'"
+    cands = {"base": ["sh", "-c", f"{clean} && exec {args}"],
+             "ours": ["sh", "-c", f"{clean} && exec {args} --store '{db}' --lot bench"]}
+    res = run.compare(cands, sz.reps_slow)
+    bad = failed(res["ours"], (0, 1)) or failed(res["base"], (0, 1))
+    if bad:
+        row.status, row.note = "error", bad
+        return [row]
+    row.set_times(res["ours"], res["base"])
+    row.note = f"baseline: the same check of the {len(files)} files without --store (both --jobs 1)"
+    return [row]
+
+
+def make_history_store(path: Path, n_units: int, n_lots: int = 50) -> None:
+    """A results store of ``n_units`` generated units (two requirements each: a minimum return loss
+    and the resonance window) in ``n_lots`` lots, written through matchtool's own store writer one
+    lot at a time, as ``check --store`` would (values drawn from normal distributions; no sweeps
+    are evaluated: what is measured is the reading)."""
+    import datetime as dt
+    import hashlib
+
+    sys.path.insert(0, str(TREE))
+    from matchtool.batch import CheckedUnit
+    from matchtool.spec import RequirementResult, UnitResult, parse_spec
+    from matchtool.store import Store
+
+    spec_path = path.with_suffix(".toml")
+    spec_path.write_text('name = "bench_spec"\n[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\n'
+                         'min_return_loss_db = 10\n[resonance]\nf_low = "905 MHz"\nf_high = "925 MHz"\n')
+    spec = parse_spec(spec_path.read_text(), spec_path)
+    rng = np.random.default_rng([SEED, 7])
+    per_lot = max(1, n_units // n_lots)
+    t0 = dt.datetime(2026, 1, 1)
+    with Store(str(path)) as st:
+        for lot in range(n_lots):
+            rl = rng.normal(14.0, 1.6, per_lot)
+            fr = rng.normal(915e6, 3e6, per_lot)
+            units = []
+            for k in range(per_lot):
+                r1 = RequirementResult(name="ism", key="min_return_loss_db", passed=bool(rl[k] >= 10), limit=10.0,
+                                       worst=float(rl[k]), worst_f_hz=902e6, margin_db=float(rl[k] - 10),
+                                       f_low_hz=902e6, f_high_hz=928e6, worst_return_loss_db=float(rl[k]))
+                m = float(min(fr[k] - 905e6, 925e6 - fr[k]))
+                r2 = RequirementResult(name="resonance", key="resonance", passed=m >= 0, limit=None, worst=float(fr[k]),
+                                       worst_f_hz=float(fr[k]), margin_db=None, f_low_hz=905e6, f_high_hz=925e6,
+                                       margin_hz=m)
+                name = f"lot{lot:03d}/u{k}.s1p"
+                u = UnitResult(file=name, passed=r1.passed and r2.passed, requirements=(r1, r2), best_f_hz=float(fr[k]),
+                               best_return_loss_db=float(rl[k] + 8))
+                units.append(CheckedUnit(u, hashlib.sha256(name.encode()).hexdigest()))
+            st.add_lot(units, spec, f"lot{lot:03d}", "bench", checked_at=t0 + dt.timedelta(days=lot))
+
+
+def p11(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    n = sz.history_units
+    row = Row("P11", f"history --json over {n:,} stored units", goal="< 2 s", goal_kind="abs", limit=2.0)
+    if not has_command("history"):
+        row.status = "not built yet"
+        return [row]
+    db = tmp / "p7.db"
+    t = time.perf_counter()
+    make_history_store(db, n)
+    res = run.compare({"ours": mt("history", "--store", db, "--json")}, sz.reps_slow)
+    bad = failed(res["ours"])
+    if bad:
+        row.status, row.note = "error", bad
+        return [row]
+    row.set_times(res["ours"], None)
+    row.note = (f"{n:,} units in 50 lots, two requirements each, written by matchtool's store writer in "
+                f"{time.perf_counter() - t:.0f} s")
+    return [row]
+
+
+CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6, "P7": p7, "P8": p8, "P9": p9,
+         "P10": p10, "P11": p11}
 
 
 # ------------------------------------------------------------------------------------------
