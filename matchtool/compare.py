@@ -339,8 +339,8 @@ def revisions(sweeps_or_networks: Sequence[Any], threshold_return_loss_db: float
                             "its bandwidth is a lower bound")
         if found.noise_crossings:
             warnings.append(f"{sw.path}: {len(found.noise_crossings)} threshold crossing(s) narrower than "
-                            f"{found.min_width_hz / 1e6:.6g} MHz or {found.min_samples} samples are noise-level "
-                            "crossings, not bands")
+                            f"{found.min_width_hz / 1e6:.6g} MHz or holding fewer than {found.min_samples} samples are "
+                            "noise-level crossings, not bands")
         unit = None
         if spec is not None:
             from .spec import evaluate
