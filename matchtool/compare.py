@@ -279,16 +279,17 @@ def _overlap(a: Band, b: Band) -> float:
     return min(a.f_high_hz, b.f_high_hz) - max(a.f_low_hz, b.f_low_hz)
 
 
-def _pair_bands(bands: Sequence[Band], base: Sequence[Band], best_band: Band | None,
-                base_best: Band | None) -> tuple[RevisionBand, ...]:
-    """The band holding the best sample pairs with the baseline's (as ``delta_bandwidth_hz``);
-    every other band with the baseline band it overlaps most (None when none overlaps)."""
+def _pair_bands(bands: Sequence[Band], base: Sequence[Band], best_band: Band | None) -> tuple[RevisionBand, ...]:
+    """Pair each threshold band with a baseline band: in frequency order when both sweeps have
+    the same number of bands (a resonance that moved is still the same band), else the baseline
+    band it overlaps most (None when none overlaps)."""
     out = []
-    for b in bands:
-        over = [(_overlap(b, x), x) for x in base if _overlap(b, x) > 0]
-        m = max(over, key=lambda t: t[0])[1] if over else None
-        if b is best_band and base_best is not None:
-            m = base_best
+    for k, b in enumerate(bands):
+        if len(bands) == len(base):
+            m = base[k]
+        else:
+            over = [(_overlap(b, x), x) for x in base if _overlap(b, x) > 0]
+            m = max(over, key=lambda t: t[0])[1] if over else None
         out.append(RevisionBand(b, b is best_band, m,
                                 None if m is None else b.f_center_hz - m.f_center_hz,
                                 None if m is None else b.bandwidth_hz - m.bandwidth_hz))
@@ -338,8 +339,8 @@ def revisions(sweeps_or_networks: Sequence[Any], threshold_return_loss_db: float
                             "its bandwidth is a lower bound")
         if found.noise_crossings:
             warnings.append(f"{sw.path}: {len(found.noise_crossings)} threshold crossing(s) narrower than "
-                            f"{found.min_width_hz / 1e6:.6g} MHz or {found.min_samples} samples are noise-level "
-                            "crossings, not bands")
+                            f"{found.min_width_hz / 1e6:.6g} MHz or holding fewer than {found.min_samples} samples are "
+                            "noise-level crossings, not bands")
         unit = None
         if spec is not None:
             from .spec import evaluate
@@ -368,8 +369,7 @@ def revisions(sweeps_or_networks: Sequence[Any], threshold_return_loss_db: float
         rows.append(Revision(file=sw.path, best_f_hz=float(f[i]), best_return_loss_db=float(rf.return_loss_db(g[i])),
                              band=band, bands=tuple(worst), delta_best_f_hz=d_f, delta_bandwidth_hz=d_bw,
                              delta_worst_return_loss_db=d_worst, is_baseline=base is None, spec=unit,
-                             delta_margin=d_margin, threshold_bands=_pair_bands(found.bands, base_bands, band,
-                                                                         band if base is None else base.band),
+                             delta_margin=d_margin, threshold_bands=_pair_bands(found.bands, base_bands, band),
                              noise_crossings=found.noise_crossings))
     verdicts = []
     for k, b in enumerate(all_bands):

@@ -476,3 +476,19 @@ def test_mismatch_cost_in_log_distance_range():
     assert p.matched_range_m / p.max_range_model_m == pytest.approx(10 ** (ml / (10 * n)), rel=1e-5)
     # max_range_m stays the free-space figure (the contract's definition)
     assert p.max_range_m > p.max_range_model_m
+
+
+def test_evaluate_takes_a_path_or_a_validated_input(tmp_path):
+    # the one entry point: budget.evaluate(path) == budget.evaluate(read_budget_file(path))
+    import shutil
+
+    from matchtool.budget import evaluate, read_budget_file
+
+    root = Path(__file__).resolve().parents[1] / "sample_sweeps"
+    for n in ("link_915.toml", "ant_r2.s1p", "ant_r3.s1p"):
+        shutil.copy(root / n, tmp_path / n)
+    a = evaluate(tmp_path / "link_915.toml")
+    b = evaluate(read_budget_file(tmp_path / "link_915.toml"))
+    assert a == b and isinstance(a.warnings, tuple)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        a.distance_m = 1.0

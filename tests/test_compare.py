@@ -164,3 +164,41 @@ def test_spec_rows_are_the_spec_evaluation_and_best_is_the_largest_margin():
 def test_without_spec_there_are_no_spec_results():
     c = compare([rlc_sweep("a", 900e6)], 10.0, [("ism", 902e6, 928e6, 10.0)])
     assert c.spec_path is None and c.spec_verdicts == () and not c.spec_failed and c.rows[0].spec is None
+
+
+def test_revisions_accepts_skrf_networks_and_gives_the_same_rows():
+    import skrf
+
+    from matchtool.compare import revisions
+
+    sweeps = [rlc_sweep("r1", 900e6), rlc_sweep("r2", 915e6)]
+    freq = skrf.Frequency.from_f(sweeps[0].f_hz, unit="hz")
+    nets = [skrf.Network(frequency=freq, s=s.gamma.reshape(-1, 1, 1), z0=50.0, name=s.path) for s in sweeps]
+    a = revisions(sweeps, 10.0)
+    b = revisions(nets, 10.0)
+    assert [r.best_f_hz for r in b.rows] == [r.best_f_hz for r in a.rows]
+    assert [r.bandwidth_hz for r in b.rows] == pytest.approx([r.bandwidth_hz for r in a.rows], rel=1e-12)
+    import dataclasses
+
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        a.rows[0].best_f_hz = 0.0  # results are frozen
+    assert isinstance(a.rows, tuple) and isinstance(a.warnings, tuple)
+
+
+def test_every_threshold_band_of_a_dual_band_sweep_and_pairing_with_the_baseline():
+    from matchtool.compare import revisions
+
+    # derived: two series resonances in parallel-free sum (|Gamma| = min of two RLC loads' |Gamma|)
+    f = np.linspace(2.0e9, 6.0e9, 4001)
+    g1 = gamma_of(series_rlc_z(f, 50.0, 20e-9, 2.44e9))
+    g2 = gamma_of(series_rlc_z(f, 50.0, 10e-9, 5.5e9))
+    g = np.where(np.abs(g1) < np.abs(g2), g1, g2)
+    g_b = np.where(np.abs(g1) < np.abs(g2), g1, gamma_of(series_rlc_z(f, 50.0, 8e-9, 5.5e9)))
+    c = revisions([sweep_from_arrays(f, g, 50.0, path="a"), sweep_from_arrays(f, g_b, 50.0, path="b")], 10.0)
+    a, b = c.rows
+    assert len(a.threshold_bands) == len(b.threshold_bands) == 2
+    # the 5.5 GHz band of b is wider (L 8 nH against 10 nH): bandwidth (2/3) R / (2 pi L), derived as above
+    d = b.threshold_bands[1].delta_bandwidth_hz
+    expect = (2 / 3) * 50 / (2 * math.pi) * (1 / 8e-9 - 1 / 10e-9)
+    assert d == pytest.approx(expect, rel=2e-2)
+    assert b.threshold_bands[0].delta_bandwidth_hz == pytest.approx(0.0, abs=2e3)

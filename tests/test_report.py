@@ -207,3 +207,24 @@ def test_a_report_section_of_another_capability_is_one_registry_line(cli, tmp_pa
     text = out.read_text()
     assert '<section id="fake"><h2>Fake capability</h2>' in text and "q = 42 &lt;ok&gt;" in text
     assert text.index('id="fake"') < text.index('id="traceability"')
+
+
+def test_build_report_is_the_core_of_the_page(tmp_path):
+    # the core computes; render/report only formats: the context holds the comparison and hashes
+    import dataclasses
+
+    from matchtool.proposal import MatchRequest
+    from matchtool.report import build_report
+    from matchtool.sweep import load
+
+    r1 = load(write_rlc(tmp_path / "r1.s1p", f0_hz=900e6))
+    r2 = load(write_rlc(tmp_path / "r2.s1p", f0_hz=915e6))
+    ctx = build_report([r1, r2], 10.0, match_request=MatchRequest(f0_hz=915e6), match_index=1)
+    assert ctx.match.sweep is r2 and ctx.comparison.rows[1].file == r2.path
+    assert [f.sha256 for f in ctx.inputs] == [hashlib.sha256(open(p, "rb").read()).hexdigest()
+                                              for p in (r1.path, r2.path)]
+    assert not ctx.failed and not ctx.judged
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        ctx.match_index = 0
+    with pytest.raises(matchtool.errors.UsageError):
+        build_report([r1], 10.0, match_index=3)

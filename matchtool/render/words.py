@@ -247,4 +247,11 @@ def target_text(r: Any) -> str:
 
 
 def frequency(f_hz: float) -> str:
+    """A frequency given by the user or measured (the digits it has: ``2.4835 GHz``)."""
     return ff(f_hz)
+
+
+def computed_frequency(f_hz: float) -> str:
+    """A computed width or centre: three decimals, never the extra digits of
+    :func:`matchtool.units.format_frequency` (they would be false precision here)."""
+    return ff(f_hz, max_extra_digits=0)

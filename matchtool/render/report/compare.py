@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from ...units import format_frequency as ff
 from .. import html as h
-from ..words import band_verdict_sentence, fixed, margin
+from ..words import band_verdict_sentence, computed_frequency, fixed, margin
 
 
 def _d(x: float | None, scale: float = 1e6, digits: int = 3) -> str:
@@ -27,12 +27,13 @@ def section(ctx, names) -> h.Section | None:
             b = t.band
             band = f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)}" + (" (best match)" if t.holds_best else "")
             rows.append([lab if k == 0 else "", ff(r.best_f_hz) if k == 0 else "", fixed(r.best_return_loss_db)
-                         if k == 0 else "", band, ff(b.bandwidth_hz), _d(r.delta_best_f_hz) if k == 0 else "",
+                         if k == 0 else "", band, computed_frequency(b.bandwidth_hz), _d(r.delta_best_f_hz) if k == 0 else "",
                          _d(t.delta_bandwidth_hz)])
     parts = [h.table(["file", "best match", "RL dB", "threshold band", "width", "d best MHz", "d width MHz"], rows,
                      [False, True, True, False, True, True, True],
                      caption=f"Against {base} (d = this file minus the baseline; every threshold band listed)")]
-    noise = [f"{names[r.file]}: {ff(b.f_low_hz)} to {ff(b.f_high_hz)}" for r in c.rows for b in r.noise_crossings]
+    noise = [f"{names[r.file]}: at {computed_frequency(b.f_center_hz)}, {computed_frequency(b.bandwidth_hz)} wide"
+             for r in c.rows for b in r.noise_crossings]
     if noise:
         parts.append(h.paragraph("Noise-level crossings (too narrow to be bands; never used in a verdict): "
                                  + "; ".join(noise) + ".", "note"))

@@ -6,7 +6,16 @@ from __future__ import annotations
 from ... import reflection as rf
 from ...units import format_frequency as ff
 from .. import html as h
-from ..words import band_verdict_sentence, fixed, margin, model_words, network_text, range_text, spec_verdict_line
+from ..words import (
+    band_verdict_sentence,
+    computed_frequency,
+    fixed,
+    margin,
+    model_words,
+    network_text,
+    range_text,
+    spec_verdict_line,
+)
 from .common import CAUTIONS
 
 
@@ -28,7 +37,7 @@ def section(ctx, names) -> h.Section:
     for r in c.rows:
         lab = names[r.file]
         if r.threshold_bands:
-            widths = ", ".join(f"{ff(t.band.f_low_hz)} to {ff(t.band.f_high_hz)} ({ff(t.band.bandwidth_hz)} wide)"
+            widths = ", ".join(f"{ff(t.band.f_low_hz)} to {ff(t.band.f_high_hz)} ({computed_frequency(t.band.bandwidth_hz)} wide)"
                                for t in r.threshold_bands)
             bw = f"{len(r.threshold_bands)} threshold band(s): {widths}"
         else:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from ...units import format_frequency as ff
 from .. import html as h
-from ..words import fixed
+from ..words import computed_frequency, fixed
 
 
 def section(ctx, names) -> h.Section:
@@ -25,7 +25,7 @@ def section(ctx, names) -> h.Section:
         if s.bands:
             parts.append(h.table(
                 ["low edge", "high edge", "centre", "width", "fractional", "note"],
-                [[ff(x.f_low_hz), ff(x.f_high_hz), ff(x.f_center_hz), ff(x.bandwidth_hz),
+                [[ff(x.f_low_hz), ff(x.f_high_hz), computed_frequency(x.f_center_hz), computed_frequency(x.bandwidth_hz),
                   f"{100 * x.fractional_bandwidth:.2f} %",
                   ", ".join(n for n, on in (("runs past the sweep start", x.clipped_low),
                                             ("runs past the sweep stop", x.clipped_high)) if on)] for x in s.bands],

@@ -43,7 +43,8 @@ def render(res: BudgetResult, con=None) -> None:
         say(con, f"{'range'.ljust(width)}  none: the antennas are cross-polarised (no link in the ideal model)")
     else:
         if res.path_loss_exponent is not None:  # the model in use first, each line naming its model
-            say(con, _range_line(f"{res.path_loss_model} ({model_words(res)})", res.required_margin_db,
+            label = f"log-distance (n = {res.path_loss_exponent:g} beyond {res.reference_distance_m:g} m)"
+            say(con, _range_line(label, res.required_margin_db,
                                  w.max_range_model_m, w.zero_margin_range_model_m))
         say(con, _range_line("free-space", res.required_margin_db, w.max_range_m, w.zero_margin_range_m)
             + ("" if res.path_loss_exponent is None else " (for comparison only; not the model in use)"))

@@ -60,8 +60,9 @@ def render(c: Comparison, con=None) -> None:
                ["file", "band MHz", "width\nMHz", "d width\nMHz", "note"], rows, [False, False, True, True, False])
     for name, r in zip(names, c.rows, strict=True):
         if r.noise_crossings:
-            spans = ", ".join(f"{b.f_low_hz / 1e6:.3f}-{b.f_high_hz / 1e6:.3f}" for b in r.noise_crossings)
-            say(con, f"{name}: noise-level crossings (too narrow to be bands, see --min-band-width): {spans} MHz")
+            spans = ", ".join(f"{b.f_low_hz / 1e6:.3f}-{b.f_high_hz / 1e6:.3f} MHz ({b.bandwidth_hz / 1e3:.1f} kHz wide)"
+                              for b in r.noise_crossings)
+            say(con, f"{name}: noise-level crossings (too narrow to be bands, see --min-band-width): {spans}")
     shown = c.verdicts[:c.adhoc_bands]
     for k, v in enumerate(shown):
         lim = "" if v.limit_return_loss_db is None else f", limit return loss {v.limit_return_loss_db:.2f} dB"
