@@ -730,7 +730,7 @@ def main(argv: list[str] | None = None) -> int:
     wanted = ["P3" if c == "P4" else c for c in wanted]
     unknown = [c for c in wanted if c not in CASES]
     if unknown:
-        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P1 P2 P3 P4 P5 P6", file=sys.stderr)
+        print(f"error: unknown case(s) {', '.join(unknown)}; expected some of P4 {' '.join(CASES)}", file=sys.stderr)
         return 2
     info = machine()
     print(f"matchtool benchmarks ({'quick' if args.quick else 'full'} sizes) - "
