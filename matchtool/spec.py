@@ -67,7 +67,6 @@ Evaluation rules (see docs/check.md):
 from __future__ import annotations
 
 import math
-import os
 import tomllib
 import unicodedata
 from dataclasses import dataclass, field
@@ -686,26 +685,6 @@ class Spec:
 
 # ----------------------------------------------------------------------------------------- loading
 
-def _decode(raw: bytes, path: str) -> str:
-    if raw.startswith(b"\xef\xbb\xbf"):
-        raw = raw[3:]
-    elif raw.startswith((b"\xff\xfe", b"\xfe\xff")):
-        try:
-            return raw.decode("utf-16")
-        except UnicodeDecodeError:
-            raise SpecError("file starts with a UTF-16 byte-order mark but is not valid UTF-16", path=path,
-                            expected="UTF-8 text") from None
-    if b"\x00" in raw:
-        raise SpecError("file holds NUL bytes (UTF-16 without a byte-order mark, or binary)", path=path,
-                        expected="UTF-8 text (TOML)")
-    try:
-        return raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        line = raw.count(b"\n", 0, exc.start) + 1
-        raise SpecError(f"byte 0x{raw[exc.start]:02x} is not UTF-8", path=path, line=line,
-                        expected="UTF-8 text (TOML)") from None
-
-
 def _number(value: Any, path: str, key: str, what: str) -> float:
     if isinstance(value, bool) or not isinstance(value, int | float):
         raise SpecError(f"{what} is {value!r}, not a number", path=path, key=key)
@@ -958,19 +937,9 @@ def _golden(g: Any, path: str, bands: tuple[BandSpec, ...], port: int, z0_ohm: f
 def load_spec(path: str | Path, port: int | None = None, z0_ohm: float | None = None) -> Spec:
     """Read and validate a spec file (UTF-8 TOML; a byte-order mark is accepted, UTF-16 with a
     byte-order mark is decoded). Raises :class:`SpecError`."""
-    p = Path(path)
-    if p.is_dir():
-        raise SpecError("is a directory", path=path, expected="a TOML spec file")
-    try:
-        with p.open("rb") as fh:
-            raw = fh.read(MAX_SPEC_BYTES + 1)
-    except FileNotFoundError:
-        raise SpecError("no such spec file", path=path) from None
-    except OSError as exc:
-        raise SpecError(f"cannot read: {exc.strerror or exc}", path=path) from None
-    if len(raw) > MAX_SPEC_BYTES:
-        raise SpecError(f"is larger than {MAX_SPEC_BYTES} bytes", path=path, expected="a small TOML spec file")
-    text = _decode(raw, str(path))
+    from .inputs import read_text as read_input
+
+    text = read_input(path, kind="toml", max_bytes=MAX_SPEC_BYTES, what="a TOML spec file", error=SpecError)
     if not text.strip():
         raise SpecError("the spec file is empty (an empty spec would pass every unit)", path=path,
                         expected="at least one [[band]] with a limit")
@@ -1088,24 +1057,8 @@ def evaluate(sweep: Sweep | Any, spec: Spec) -> UnitResult:
                            warnings=sweep.warnings)
 
 
-SPECIAL_FILE = "is not a regular file (a FIFO, socket or device)"
-
-
-def is_special_file(path: str | Path) -> bool:
-    """Whether ``path`` exists but is neither a regular file nor a directory (a FIFO, socket or
-    device, or a link to one): reading one can block for ever or never end, so it is never opened."""
-    import stat
-
-    try:
-        mode = os.stat(path).st_mode
-    except (OSError, ValueError):
-        return False  # missing or unreadable: the reader reports it
-    return not (stat.S_ISREG(mode) or stat.S_ISDIR(mode))
-
-
-def special_file_error(path: str | Path) -> str | None:
-    """The one-line error for a sweep path that :func:`is_special_file`, else None."""
-    return f"{path}: {SPECIAL_FILE}; expected a Touchstone file" if is_special_file(path) else None
+# one input policy (matchtool/inputs.py): the special-file check lives there; kept importable here
+from .inputs import SPECIAL_FILE, is_special_file, special_file_error  # noqa: E402,F401
 
 
 def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, list[str], int]:

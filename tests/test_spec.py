@@ -248,7 +248,7 @@ def test_encodings(tmp_path):
     latin.write_bytes(("# caf\u00e9\n" + text).encode("latin-1"))
     with pytest.raises(SpecError, match="line 1.*not UTF-8"):
         sp.load_spec(latin)
-    with pytest.raises(SpecError, match="no such spec file"):
+    with pytest.raises(SpecError, match="no such file; expected a TOML spec file"):
         sp.load_spec(tmp_path / "nope.toml")
 
 
