@@ -363,3 +363,41 @@ def load_library(path: str | Path) -> PartsLibrary:
     text = read_text(path, kind="toml", max_bytes=MAX_LIBRARY_BYTES, what="a TOML parts library",
                      error=PartsLibraryError)
     return parse_library(text, path)
+
+
+def part_two_port(part: Part, f_hz: np.ndarray, z0_ohm: float, connection: str = "series",
+                  value: float | None = None):
+    """The part as an ``skrf.Network`` 2-port at ``f_hz`` and reference ``z0_ohm``.
+
+    A measured part in series gives its measurement itself (S interpolated in complex S onto
+    ``f_hz``, renormalised to ``z0_ohm``) unless ``value`` shifts it; every other case gives the
+    ideal series or shunt element of impedance Z(f).
+    """
+    import skrf
+
+    f = np.asarray(f_hz, dtype=float)
+    freq = skrf.Frequency.from_f(f, unit="Hz")
+    z = part.series_impedance_ohm(f, value)  # also refuses frequencies outside a measured part's sweep
+    if part.measured and connection == "series" and value is None:
+        s = np.stack([np.stack([_interp_complex(f, part.f_hz, part.s[:, i, j]) for j in range(2)], axis=-1)
+                      for i in range(2)], axis=-2)
+        if not math.isclose(part.z0_ohm, z0_ohm):
+            s = skrf.network.renormalize_s(s, np.full(2, part.z0_ohm), np.full(2, float(z0_ohm)))
+        return skrf.Network(frequency=freq, s=s, z0=z0_ohm, name=part.label)
+    if connection == "series":
+        a = np.zeros((f.size, 2, 2), dtype=complex)
+        a[:, 0, 0] = a[:, 1, 1] = 1.0
+        a[:, 0, 1] = z
+    elif connection == "shunt":
+        a = np.zeros((f.size, 2, 2), dtype=complex)
+        a[:, 0, 0] = a[:, 1, 1] = 1.0
+        a[:, 1, 0] = 1.0 / z
+    else:
+        raise UsageError("unknown connection", parameter="connection", value=connection, expected="series or shunt")
+    s = skrf.network.a2s(a, z0_ohm)
+    return skrf.Network(frequency=freq, s=s, z0=z0_ohm, name=part.label)
+
+
+def impedance_table(parts: Sequence[Part], f_hz: np.ndarray) -> np.ndarray:
+    """Series impedances of ``parts`` at ``f_hz``: shape (len(parts), len(f_hz)), ohm."""
+    return np.stack([p.series_impedance_ohm(f_hz) for p in parts]) if parts else np.zeros((0, np.size(f_hz)), complex)
