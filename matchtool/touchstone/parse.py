@@ -102,6 +102,7 @@ class _State:
     first_repeat: int = 0
     warnings: list[str] = field(default_factory=list)
     comments: bool = False  # the text holds comments
+    comment_end: int = 0  # ... none after this offset
 
 
 # ------------------------------------------------------------------------------- the option line
@@ -259,9 +260,11 @@ def _on_keyword(st: _State, ctrl: str, ln: int) -> None:
 
 def _on_region(st: _State, start: int, end: int) -> None:
     """The text between two control lines: data of the current section, or an error."""
-    seg = st.body[start:end]
     if st.in_info:
         return
+    seg = st.body[start:end]
+    if start < st.comment_end and "!" in seg:
+        seg = _COMMENT.sub("", seg)
     if st.merge and st.chunks and st.chunks[-1].section == st.section:
         # only ignored option lines since the last chunk: continue it (an ignored line stays
         # as an empty line, so line numbers hold) instead of starting a chunk per line
@@ -282,28 +285,24 @@ def _on_region(st: _State, start: int, end: int) -> None:
     st.chunks.append(_Chunk(seg, st.lines.at(start), st.section))
 
 
-def _without_comments(text: str) -> str:
-    """``text`` with every comment ('!' to the end of its line) removed; line numbers hold. Only
-    the part up to the last comment is searched (a sweep's comments are mostly at its top)."""
-    last = text.rfind("!")
-    if last < 0:
-        return text
-    end = text.find("\n", last)
-    if end < 0 or end > len(text) // 2:
-        return _COMMENT.sub("", text)
-    return _COMMENT.sub("", text[:end]) + text[end:]
-
-
 def _scan(text: str, path: str) -> _State:
-    """One pass over the control lines of ``text``; the data between them become chunks."""
-    body = _without_comments(text)
-    st = _State(path=path, body=body, lines=Lines(body))
+    """One pass over the control lines of ``text``; the data between them become chunks.
+
+    Comments ('!' to the end of the line) are removed from each control line and each data
+    region as it is taken (line numbers hold), not from the whole text: a sweep's comments are
+    mostly at its top, and a copy of a large file costs time and memory."""
+    body = text
+    last = text.rfind("!")
+    st = _State(path=path, body=body, lines=Lines(body), comments=last >= 0,
+                comment_end=0 if last < 0 else (text.find("\n", last) + 1 or len(text)))
     prev_end = 0
     for c_start, c_end, ctrl in controls(body):
         _on_region(st, prev_end, c_start)
         prev_end = c_end
         ln = st.lines.at(c_start)
         st.merge = False
+        if "!" in ctrl:
+            ctrl = ctrl.partition("!")[0].rstrip()
         if ctrl.startswith("#"):
             _on_option_line(st, ctrl, ln)
         else:
@@ -317,7 +316,6 @@ def _scan(text: str, path: str) -> _State:
         further = f" ({st.repeats - 1} more after it)" if st.repeats > 1 else ""
         st.warnings.append(f"{path} line {st.first_repeat}: a second option line is ignored{further} "
                            "(only the first counts)")
-    st.comments = body is not text
     st.body, st.lines = "", Lines("")  # the scan is done: a copy of the text need not live on
     if st.in_info:
         raise TouchstoneError("[Begin Information] without [End Information]", path, st.info_line)
@@ -477,7 +475,8 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
     ignored; a file that says its data are not renormalised but gives no impedances is refused.
     """
-    if not st.comments or ("mpedance" not in text and "normali" not in text):
+    end = st.comment_end
+    if not st.comments or (text.find("mpedance", 0, end) < 0 and text.find("normali", 0, end) < 0):
         return None  # no comment at all, or none about the reference
     stated, stated_line = renormalisation_statement(text)
     pz = port_impedances(text, st.path, n, m)
