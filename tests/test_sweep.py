@@ -343,8 +343,8 @@ def test_not_renormalised_without_impedances_or_with_the_wrong_count_is_refused(
     p.write_text("! Data is not renormalized\n# GHz S RI R 50\n1 0.1 0.2\n! Port Impedance 30 0\n2 0.2 0.1\n")
     with pytest.raises(TouchstoneError, match="line 4: 1 'Port Impedance' comments for 2 frequencies"):
         load(p)
-    p.write_text("! Data is not renormalized\n# GHz S RI R 50\n1 0.1 0.2\n! Port Impedance 30 0 5\n")
-    with pytest.raises(TouchstoneError, match="line 4: 'Port Impedance' comment gives 3 numbers for a 1-port"):
+    p.write_text("! Port Impedance\n! Data is not renormalized\n# GHz S RI R 50\n1 0.1 0.2\n! Port Impedance 30 0 5\n")
+    with pytest.raises(TouchstoneError, match="line 5: 'Port Impedance' comment gives 3 numbers for a 1-port"):
         load(p)
 
 

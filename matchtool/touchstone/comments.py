@@ -77,7 +77,6 @@ def port_impedances(text: str, path: str, n: int, m: int) -> PortImpedances | No
     first = 0
     for match in _PORT_Z.finditer(text):
         line = lines.at(match.start())
-        first = first or line
         vals = _block_numbers(match.group(1).rpartition("!")[2].lstrip(" \t:="), path, line)
         pos = match.end()
         while pos < len(text):  # continuation: comment lines that hold only numbers
@@ -89,9 +88,12 @@ def port_impedances(text: str, path: str, n: int, m: int) -> PortImpedances | No
                 break
             vals.extend(float(t) for t in toks)
             pos = end
+        if not vals:  # a heading such as '! Port Impedance' over the columns: no values
+            continue
         if len(vals) not in (2 * n, 2 * n * n):
             raise TouchstoneError(f"'Port Impedance' comment gives {len(vals)} numbers for a {n}-port", path, line,
                                   expected=f"{2 * n} (re im for each port) or {2 * n * n} (the full matrix)")
+        first = first or line
         blocks.append(vals)
     if not blocks:
         return None
