@@ -526,7 +526,8 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     vals = _complex_values(records[:, 1:].reshape(len(records), npairs, 2), opt.fmt)
     mat = _to_matrix(vals, n, layout, order)
     s = _to_s(mat, opt.param, z0, opt.r_ohm, st.version)
-    bad = ~np.isfinite(s).all(axis=(1, 2))
+    # finite numbers stay finite as RI or MA S-parameters; DB and the conversions can overflow
+    bad = np.zeros(len(s), dtype=bool) if opt.param == "S" and opt.fmt != "DB" else ~np.isfinite(s).all(axis=(1, 2))
     if bad.any():
         i = int(np.argmax(bad))
         what = "values out of range" if opt.param == "S" else \
