@@ -48,8 +48,6 @@ class PortImpedances:
 def renormalisation_statement(text: str) -> tuple[bool | None, int | None]:
     """(True if a comment says the data are renormalised, False if it says they are not, None if
     no comment says; the line of that comment)."""
-    if "normali" not in text:
-        return None, None
     m = _STATED.search(text)
     if m is None:
         return None, None
@@ -70,8 +68,6 @@ def port_impedances(text: str, path: str, n: int, m: int) -> PortImpedances | No
     """The ``Port Impedance`` comment blocks of ``text`` for an ``n``-port of ``m`` frequencies,
     or None when there are none. Raises TouchstoneError when they cannot be read one per
     frequency (wrong count of blocks or of values, non-finite values, a real part <= 0)."""
-    if "mpedance" not in text:
-        return None
     lines = Lines(text)
     blocks: list[list[float]] = []
     first = 0

@@ -441,8 +441,6 @@ def _complex_values(pairs: np.ndarray, fmt: str) -> np.ndarray:
         return np.ascontiguousarray(pairs).view(np.complex128)[..., 0]
     a, b = pairs[..., 0], pairs[..., 1]
     with np.errstate(all="ignore"):  # an overflow (DB 1e308) is reported by the caller, by line
-        if fmt == "RI":
-            return a + 1j * b
         if fmt == "MA":
             return a * np.exp(1j * np.deg2rad(b))
         return 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
@@ -475,11 +473,14 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
     ignored; a file that says its data are not renormalised but gives no impedances is refused.
     """
-    end = st.comment_end
-    if not st.comments or (text.find("mpedance", 0, end) < 0 and text.find("normali", 0, end) < 0):
-        return None  # no comment at all, or none about the reference
-    stated, stated_line = renormalisation_statement(text)
-    pz = port_impedances(text, st.path, n, m)
+    if not st.comments:
+        return None
+    region = text[: st.comment_end]  # every comment lies in it (line numbers hold: a prefix)
+    low = region.lower()
+    if "mpedance" not in low and "normali" not in low:
+        return None  # no comment about the reference
+    stated, stated_line = renormalisation_statement(region)
+    pz = port_impedances(region, st.path, n, m)
     if pz is None:
         if stated is False and st.option.param == "S":
             raise TouchstoneError("the file says its data are not renormalised but gives no port impedances",
