@@ -617,6 +617,46 @@ def _wrapped_records(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray
     return line_no[heads]
 
 
+def _v1_noise_start(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray, per: int, last_f: float,
+                    path: str) -> int | None:
+    """The line (index in the chunk) where a version 1 two-port's noise block starts: the first
+    frequency not above the one before (Touchstone 1.1), accepted only when every row from there
+    on holds the five noise numbers. None when the chunk holds network rows only."""
+    starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
+    rows = np.flatnonzero(counts)
+    row_f = values[starts[rows]] if values.size else np.empty(0)
+    full = counts[rows] == per
+    # first row whose frequency is not above the one before (vectorised; a short or long row
+    # before it ends the search and is reported by _row_error)
+    prev_f = np.concatenate(([last_f], row_f[:-1]))
+    falls = row_f <= prev_f
+    stop = np.flatnonzero(falls | ~full)
+    if not (stop.size and falls[stop[0]]):
+        return None
+    noise_at = int(stop[0])
+    after = rows[noise_at:]
+    if np.all(counts[after] == 5):
+        return int(rows[noise_at])
+    if counts[rows[noise_at]] == per:
+        raise TouchstoneError(f"frequency {row_f[noise_at]:g} does not increase (previous {prev_f[noise_at]:g})",
+                              path, int(line_no[rows[noise_at]]), expected="strictly increasing frequencies")
+    bad = after[counts[after] != 5]
+    k = int(bad[0]) if bad.size else int(rows[noise_at])
+    raise TouchstoneError(f"expected 5 numbers for a noise row, found {int(counts[k])}", path, int(line_no[k]))
+
+
+def _chunk_numbers(c: _Chunk, path: str) -> tuple[np.ndarray, np.ndarray]:
+    """Numbers and counts per line of a network-data chunk; its text is let go of once encoded
+    (peak memory of a large file)."""
+    text, c.text = c.text, ""
+    try:
+        arg: str | bytes = text.encode("ascii")
+    except UnicodeEncodeError:
+        arg = text
+    del text
+    return numbers(arg, c.line, path, "network data")
+
+
 def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, from_name: bool = False):
     """Group the numbers of the network-data chunks into records of ``per`` numbers.
 
@@ -630,64 +670,29 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
     last_f = -math.inf
     in_noise = False
     for c in chunks:
-        text, c.text = c.text, ""  # the chunk's text is let go of once encoded (peak memory)
-        try:
-            arg: str | bytes = text.encode("ascii")
-        except UnicodeEncodeError:
-            arg = text
-        del text
-        values, counts = numbers(arg, c.line, path, "network data")
-        del arg
+        values, counts = _chunk_numbers(c, path)
         line_no = c.line + np.arange(counts.size)
         if in_noise:
             check_rows(counts, c.line, 5, path, "noise row")
             noise_rows += int(np.count_nonzero(counts))
-        elif version == "1" and n <= 2:
-            if n == 2:
-                _join_split_two_port_records(values, counts, last_f)
-                # a v1 two-port switches to noise data at the first frequency not above the last
-                starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
-                rows = np.flatnonzero(counts)
-                row_f = values[starts[rows]] if values.size else np.empty(0)
-                full = counts[rows] == per
-                # first row whose frequency is not above the one before (vectorised; a short or
-                # long row before it ends the search and is reported by _row_error below)
-                prev_f = np.concatenate(([last_f], row_f[:-1]))
-                falls = row_f <= prev_f
-                stop = np.flatnonzero(falls | ~full)
-                noise_at = int(stop[0]) if stop.size and falls[stop[0]] else None
-                prev = float(prev_f[noise_at]) if noise_at is not None else last_f
-                if noise_at is not None:
-                    after = rows[noise_at:]
-                    if np.all(counts[after] == 5):
-                        in_noise = True
-                        noise_rows += int(after.size)
-                        keep = rows[:noise_at]
-                        _row_error(counts[: rows[noise_at]], c.line, per, n, path, from_name)
-                        if keep.size:
-                            block = values[: starts[rows[noise_at]]].reshape(-1, per)
-                            recs.append(block)
-                            lines_out.append(line_no[keep])
-                            last_f = float(block[-1, 0])
-                        continue
-                    if counts[rows[noise_at]] == per:
-                        k = rows[noise_at]
-                        raise TouchstoneError(
-                            f"frequency {row_f[noise_at]:g} does not increase (previous {prev:g})",
-                            path, int(line_no[k]), expected="strictly increasing frequencies")
-                    bad = after[counts[after] != 5]
-                    k = int(bad[0]) if bad.size else int(rows[noise_at])
-                    raise TouchstoneError(f"expected 5 numbers for a noise row, found {int(counts[k])}",
-                                          path, int(line_no[k]))
-            _row_error(counts, c.line, per, n, path, from_name)
+            continue
+        if not (version == "1" and n <= 2):
+            lines_out.append(_wrapped_records(values, counts, line_no, n, per, path))
+            recs.append(values.reshape(-1, per))
+            continue
+        if n == 2:
+            _join_split_two_port_records(values, counts, last_f)
+            cut = _v1_noise_start(values, counts, line_no, per, last_f, path)
+            if cut is not None:
+                in_noise = True
+                noise_rows += int(np.count_nonzero(counts[cut:]))
+                values, counts, line_no = values[: int(counts[:cut].sum())], counts[:cut], line_no[:cut]
+        _row_error(counts, c.line, per, n, path, from_name)
+        if values.size:
             block = values.reshape(-1, per)
             recs.append(block)
             lines_out.append(line_no[counts != 0])
-            if block.size:
-                last_f = float(block[-1, 0])
-        else:
-            lines_out.append(_wrapped_records(values, counts, line_no, n, per, path))
-            recs.append(values.reshape(-1, per))
+            last_f = float(block[-1, 0])
     records = (recs[0] if len(recs) == 1 else np.concatenate(recs)) if recs else np.empty((0, per))
     if records.shape[0] == 0:
         raise TouchstoneError("no data", path, expected="at least one frequency row")
