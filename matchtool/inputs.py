@@ -159,7 +159,9 @@ def decode_touchstone(raw: bytes, path: str | Path) -> str:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
         text = raw.decode("latin-1")
-    return text.replace("\r\n", "\n").replace("\r", "\n")
+    if "\r" in text:  # (two replacements of a large text cost more than this look)
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+    return text
 
 
 def decode_toml(raw: bytes, path: str | Path, error: type[InputError] = InputError,

@@ -1,10 +1,12 @@
 """Fuzzing the Touchstone loader with near-valid text (hypothesis).
 
-Two properties:
+Three properties:
 1. Anything near-valid (random option lines in any order, numbers, comments, line endings, BOM,
    truncations, version 2 keywords) either loads with finite, strictly increasing data or raises
    matchtool's own MatchtoolError with a one-line message naming the file - never anything else.
 2. Valid files in any harmless layout load with exactly the numbers written (nothing misread).
+3. The parser's fast path agrees with its exact path (numbers, counts, or the same error), and
+   both with Python's own reading of the text.
 
 At least 1,000 examples per test in the normal run; the long run is
     HYPOTHESIS_PROFILE=long python -m pytest tests/test_fuzz.py
@@ -247,3 +249,37 @@ def mutated(draw) -> tuple[bytes, str]:
 @given(mutated())
 def test_byte_edits_of_valid_files_load_cleanly_or_fail_with_our_error(case):
     test_near_valid_text_loads_cleanly_or_fails_with_our_error.hypothesis.inner_test(case)
+
+
+# Property 3: the parser's fast path (one np.fromstring, counts from byte arithmetic) gives exactly
+# what the exact path gives, or hands over to it: the same numbers and counts per line, or the
+# same error (message and line) for text made of number-like pieces.
+_PIECES = ["0", "1", "23", "4.5", ".5", "6.", "-7", "+8", "1e3", "2E-2", "-", "+", ".", "e", "1.2.3", "1-2",
+           "nan", "inf", "1e999", "0,5", "x", "0x10", " ", "  ", "\t", "\f", "\v", "\n", "\n\n"]
+
+
+@FUZZ
+@given(st.lists(st.sampled_from(_PIECES), min_size=1, max_size=60))
+def test_fast_path_agrees_with_the_exact_path(pieces):
+    import matchtool.touchstone.numbers as nm
+    from matchtool.errors import TouchstoneError
+
+    text = "".join(pieces)
+
+    def run(fast: bool):
+        saved = nm._numbers_fast
+        if not fast:
+            nm._numbers_fast = lambda data: None
+        try:
+            v, c = nm.numbers(text, 10, "f.s1p", "network data")
+            return ("ok", v.tolist(), c.tolist())
+        except TouchstoneError as exc:
+            return ("error", str(exc), exc.line)
+        finally:
+            nm._numbers_fast = saved
+
+    fast = run(True)
+    assert fast == run(False)
+    if fast[0] == "ok":  # and both agree with Python's own reading of the same text
+        assert fast[1] == [float(t) for t in text.split()]
+        assert fast[2] == [len(line.split()) for line in text.split("\n")]

@@ -48,8 +48,6 @@ class PortImpedances:
 def renormalisation_statement(text: str) -> tuple[bool | None, int | None]:
     """(True if a comment says the data are renormalised, False if it says they are not, None if
     no comment says; the line of that comment)."""
-    if "normali" not in text:
-        return None, None
     m = _STATED.search(text)
     if m is None:
         return None, None
@@ -70,14 +68,11 @@ def port_impedances(text: str, path: str, n: int, m: int) -> PortImpedances | No
     """The ``Port Impedance`` comment blocks of ``text`` for an ``n``-port of ``m`` frequencies,
     or None when there are none. Raises TouchstoneError when they cannot be read one per
     frequency (wrong count of blocks or of values, non-finite values, a real part <= 0)."""
-    if "mpedance" not in text:
-        return None
     lines = Lines(text)
     blocks: list[list[float]] = []
     first = 0
     for match in _PORT_Z.finditer(text):
         line = lines.at(match.start())
-        first = first or line
         vals = _block_numbers(match.group(1).rpartition("!")[2].lstrip(" \t:="), path, line)
         pos = match.end()
         while pos < len(text):  # continuation: comment lines that hold only numbers
@@ -89,9 +84,12 @@ def port_impedances(text: str, path: str, n: int, m: int) -> PortImpedances | No
                 break
             vals.extend(float(t) for t in toks)
             pos = end
+        if not vals:  # a heading such as '! Port Impedance' over the columns: no values
+            continue
         if len(vals) not in (2 * n, 2 * n * n):
             raise TouchstoneError(f"'Port Impedance' comment gives {len(vals)} numbers for a {n}-port", path, line,
                                   expected=f"{2 * n} (re im for each port) or {2 * n * n} (the full matrix)")
+        first = first or line
         blocks.append(vals)
     if not blocks:
         return None

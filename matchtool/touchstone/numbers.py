@@ -94,11 +94,12 @@ def _counts_per_line(raw: np.ndarray) -> np.ndarray:
     return np.append(counts, 0) if ends_empty else counts
 
 
-_BLOCK = 1 << 20  # bytes counted at a time: the temporaries stay small whatever the file's size
+_BLOCK = 1 << 19  # bytes counted at a time: the temporaries stay small whatever the file's size
 
 
 def _counts_in_blocks(data: bytes) -> np.ndarray:
-    """:func:`_counts_per_line` of ``data``, a block of about ``_BLOCK`` bytes at a time, each
+    """:func:`_counts_per_line` of ``data``, a block of about ``_BLOCK`` bytes at a time (half a
+    megabyte measured fastest: the temporaries stay in cache), each
     block ending after a newline (so no line is split; a block opens with a line start)."""
     raw = np.frombuffer(data, dtype=np.uint8)
     if raw.size <= 2 * _BLOCK:

@@ -102,6 +102,7 @@ class _State:
     first_repeat: int = 0
     warnings: list[str] = field(default_factory=list)
     comments: bool = False  # the text holds comments
+    comment_end: int = 0  # ... none after this offset
 
 
 # ------------------------------------------------------------------------------- the option line
@@ -259,9 +260,11 @@ def _on_keyword(st: _State, ctrl: str, ln: int) -> None:
 
 def _on_region(st: _State, start: int, end: int) -> None:
     """The text between two control lines: data of the current section, or an error."""
-    seg = st.body[start:end]
     if st.in_info:
         return
+    seg = st.body[start:end]
+    if start < st.comment_end and "!" in seg:
+        seg = _COMMENT.sub("", seg)
     if st.merge and st.chunks and st.chunks[-1].section == st.section:
         # only ignored option lines since the last chunk: continue it (an ignored line stays
         # as an empty line, so line numbers hold) instead of starting a chunk per line
@@ -282,28 +285,24 @@ def _on_region(st: _State, start: int, end: int) -> None:
     st.chunks.append(_Chunk(seg, st.lines.at(start), st.section))
 
 
-def _without_comments(text: str) -> str:
-    """``text`` with every comment ('!' to the end of its line) removed; line numbers hold. Only
-    the part up to the last comment is searched (a sweep's comments are mostly at its top)."""
-    last = text.rfind("!")
-    if last < 0:
-        return text
-    end = text.find("\n", last)
-    if end < 0 or end > len(text) // 2:
-        return _COMMENT.sub("", text)
-    return _COMMENT.sub("", text[:end]) + text[end:]
-
-
 def _scan(text: str, path: str) -> _State:
-    """One pass over the control lines of ``text``; the data between them become chunks."""
-    body = _without_comments(text)
-    st = _State(path=path, body=body, lines=Lines(body))
+    """One pass over the control lines of ``text``; the data between them become chunks.
+
+    Comments ('!' to the end of the line) are removed from each control line and each data
+    region as it is taken (line numbers hold), not from the whole text: a sweep's comments are
+    mostly at its top, and a copy of a large file costs time and memory."""
+    body = text
+    last = text.rfind("!")
+    st = _State(path=path, body=body, lines=Lines(body), comments=last >= 0,
+                comment_end=0 if last < 0 else (text.find("\n", last) + 1 or len(text)))
     prev_end = 0
     for c_start, c_end, ctrl in controls(body):
         _on_region(st, prev_end, c_start)
         prev_end = c_end
         ln = st.lines.at(c_start)
         st.merge = False
+        if "!" in ctrl:
+            ctrl = ctrl.partition("!")[0].rstrip()
         if ctrl.startswith("#"):
             _on_option_line(st, ctrl, ln)
         else:
@@ -317,7 +316,6 @@ def _scan(text: str, path: str) -> _State:
         further = f" ({st.repeats - 1} more after it)" if st.repeats > 1 else ""
         st.warnings.append(f"{path} line {st.first_repeat}: a second option line is ignored{further} "
                            "(only the first counts)")
-    st.comments = body is not text
     st.body, st.lines = "", Lines("")  # the scan is done: a copy of the text need not live on
     if st.in_info:
         raise TouchstoneError("[Begin Information] without [End Information]", path, st.info_line)
@@ -443,8 +441,6 @@ def _complex_values(pairs: np.ndarray, fmt: str) -> np.ndarray:
         return np.ascontiguousarray(pairs).view(np.complex128)[..., 0]
     a, b = pairs[..., 0], pairs[..., 1]
     with np.errstate(all="ignore"):  # an overflow (DB 1e308) is reported by the caller, by line
-        if fmt == "RI":
-            return a + 1j * b
         if fmt == "MA":
             return a * np.exp(1j * np.deg2rad(b))
         return 10.0 ** (a / 20.0) * np.exp(1j * np.deg2rad(b))
@@ -477,10 +473,14 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     loads at its reference; Z/Y/H/G data do not depend on a reference, so their comments are
     ignored; a file that says its data are not renormalised but gives no impedances is refused.
     """
-    if not st.comments or ("mpedance" not in text and "normali" not in text):
-        return None  # no comment at all, or none about the reference
-    stated, stated_line = renormalisation_statement(text)
-    pz = port_impedances(text, st.path, n, m)
+    if not st.comments:
+        return None
+    region = text[: st.comment_end]  # every comment lies in it (line numbers hold: a prefix)
+    low = region.lower()
+    if "mpedance" not in low and "normali" not in low:
+        return None  # no comment about the reference
+    stated, stated_line = renormalisation_statement(region)
+    pz = port_impedances(region, st.path, n, m)
     if pz is None:
         if stated is False and st.option.param == "S":
             raise TouchstoneError("the file says its data are not renormalised but gives no port impedances",
@@ -527,7 +527,8 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     vals = _complex_values(records[:, 1:].reshape(len(records), npairs, 2), opt.fmt)
     mat = _to_matrix(vals, n, layout, order)
     s = _to_s(mat, opt.param, z0, opt.r_ohm, st.version)
-    bad = ~np.isfinite(s).all(axis=(1, 2))
+    # finite numbers stay finite as RI or MA S-parameters; DB and the conversions can overflow
+    bad = np.zeros(len(s), dtype=bool) if opt.param == "S" and opt.fmt != "DB" else ~np.isfinite(s).all(axis=(1, 2))
     if bad.any():
         i = int(np.argmax(bad))
         what = "values out of range" if opt.param == "S" else \
@@ -616,6 +617,46 @@ def _wrapped_records(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray
     return line_no[heads]
 
 
+def _v1_noise_start(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray, per: int, last_f: float,
+                    path: str) -> int | None:
+    """The line (index in the chunk) where a version 1 two-port's noise block starts: the first
+    frequency not above the one before (Touchstone 1.1), accepted only when every row from there
+    on holds the five noise numbers. None when the chunk holds network rows only."""
+    starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
+    rows = np.flatnonzero(counts)
+    row_f = values[starts[rows]] if values.size else np.empty(0)
+    full = counts[rows] == per
+    # first row whose frequency is not above the one before (vectorised; a short or long row
+    # before it ends the search and is reported by _row_error)
+    prev_f = np.concatenate(([last_f], row_f[:-1]))
+    falls = row_f <= prev_f
+    stop = np.flatnonzero(falls | ~full)
+    if not (stop.size and falls[stop[0]]):
+        return None
+    noise_at = int(stop[0])
+    after = rows[noise_at:]
+    if np.all(counts[after] == 5):
+        return int(rows[noise_at])
+    if counts[rows[noise_at]] == per:
+        raise TouchstoneError(f"frequency {row_f[noise_at]:g} does not increase (previous {prev_f[noise_at]:g})",
+                              path, int(line_no[rows[noise_at]]), expected="strictly increasing frequencies")
+    bad = after[counts[after] != 5]
+    k = int(bad[0]) if bad.size else int(rows[noise_at])
+    raise TouchstoneError(f"expected 5 numbers for a noise row, found {int(counts[k])}", path, int(line_no[k]))
+
+
+def _chunk_numbers(c: _Chunk, path: str) -> tuple[np.ndarray, np.ndarray]:
+    """Numbers and counts per line of a network-data chunk; its text is let go of once encoded
+    (peak memory of a large file)."""
+    text, c.text = c.text, ""
+    try:
+        arg: str | bytes = text.encode("ascii")
+    except UnicodeEncodeError:
+        arg = text
+    del text
+    return numbers(arg, c.line, path, "network data")
+
+
 def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, from_name: bool = False):
     """Group the numbers of the network-data chunks into records of ``per`` numbers.
 
@@ -629,64 +670,29 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
     last_f = -math.inf
     in_noise = False
     for c in chunks:
-        text, c.text = c.text, ""  # the chunk's text is let go of once encoded (peak memory)
-        try:
-            arg: str | bytes = text.encode("ascii")
-        except UnicodeEncodeError:
-            arg = text
-        del text
-        values, counts = numbers(arg, c.line, path, "network data")
-        del arg
+        values, counts = _chunk_numbers(c, path)
         line_no = c.line + np.arange(counts.size)
         if in_noise:
             check_rows(counts, c.line, 5, path, "noise row")
             noise_rows += int(np.count_nonzero(counts))
-        elif version == "1" and n <= 2:
-            if n == 2:
-                _join_split_two_port_records(values, counts, last_f)
-                # a v1 two-port switches to noise data at the first frequency not above the last
-                starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
-                rows = np.flatnonzero(counts)
-                row_f = values[starts[rows]] if values.size else np.empty(0)
-                full = counts[rows] == per
-                # first row whose frequency is not above the one before (vectorised; a short or
-                # long row before it ends the search and is reported by _row_error below)
-                prev_f = np.concatenate(([last_f], row_f[:-1]))
-                falls = row_f <= prev_f
-                stop = np.flatnonzero(falls | ~full)
-                noise_at = int(stop[0]) if stop.size and falls[stop[0]] else None
-                prev = float(prev_f[noise_at]) if noise_at is not None else last_f
-                if noise_at is not None:
-                    after = rows[noise_at:]
-                    if np.all(counts[after] == 5):
-                        in_noise = True
-                        noise_rows += int(after.size)
-                        keep = rows[:noise_at]
-                        _row_error(counts[: rows[noise_at]], c.line, per, n, path, from_name)
-                        if keep.size:
-                            block = values[: starts[rows[noise_at]]].reshape(-1, per)
-                            recs.append(block)
-                            lines_out.append(line_no[keep])
-                            last_f = float(block[-1, 0])
-                        continue
-                    if counts[rows[noise_at]] == per:
-                        k = rows[noise_at]
-                        raise TouchstoneError(
-                            f"frequency {row_f[noise_at]:g} does not increase (previous {prev:g})",
-                            path, int(line_no[k]), expected="strictly increasing frequencies")
-                    bad = after[counts[after] != 5]
-                    k = int(bad[0]) if bad.size else int(rows[noise_at])
-                    raise TouchstoneError(f"expected 5 numbers for a noise row, found {int(counts[k])}",
-                                          path, int(line_no[k]))
-            _row_error(counts, c.line, per, n, path, from_name)
+            continue
+        if not (version == "1" and n <= 2):
+            lines_out.append(_wrapped_records(values, counts, line_no, n, per, path))
+            recs.append(values.reshape(-1, per))
+            continue
+        if n == 2:
+            _join_split_two_port_records(values, counts, last_f)
+            cut = _v1_noise_start(values, counts, line_no, per, last_f, path)
+            if cut is not None:
+                in_noise = True
+                noise_rows += int(np.count_nonzero(counts[cut:]))
+                values, counts, line_no = values[: int(counts[:cut].sum())], counts[:cut], line_no[:cut]
+        _row_error(counts, c.line, per, n, path, from_name)
+        if values.size:
             block = values.reshape(-1, per)
             recs.append(block)
             lines_out.append(line_no[counts != 0])
-            if block.size:
-                last_f = float(block[-1, 0])
-        else:
-            lines_out.append(_wrapped_records(values, counts, line_no, n, per, path))
-            recs.append(values.reshape(-1, per))
+            last_f = float(block[-1, 0])
     records = (recs[0] if len(recs) == 1 else np.concatenate(recs)) if recs else np.empty((0, per))
     if records.shape[0] == 0:
         raise TouchstoneError("no data", path, expected="at least one frequency row")
