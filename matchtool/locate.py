@@ -138,7 +138,8 @@ def window_info(name: str) -> WindowInfo:
 @functools.cache
 def _sidelobe_envelope(name: str) -> tuple[np.ndarray, np.ndarray]:
     """(offset in DFT bins, dB): the highest sidelobe of the window's transform at that offset from
-    the main lobe's centre or beyond (0 dB inside the main lobe). Measured like :func:`window_info`."""
+    the main lobe's centre, half a bin nearer, or beyond (0 dB inside the main lobe). Measured like
+    :func:`window_info`."""
     w = _window_fn(name)(256)
     over = 64
     spec = np.abs(np.fft.rfft(w, 256 * over))
@@ -148,6 +149,10 @@ def _sidelobe_envelope(name: str) -> tuple[np.ndarray, np.ndarray]:
     level = spec.copy()
     level[:first_min] = 1.0
     env = np.maximum.accumulate(level[::-1])[::-1]  # the largest value at this offset or beyond
+    # and up to half a bin nearer, so a point between two sidelobes gets the nearer (higher) one
+    # (outside the main lobe: just past its first null a point gets the first sidelobe, not the lobe)
+    shifted = np.concatenate([np.full(over // 2, env[first_min]), env[:-(over // 2)]])
+    env = np.where(np.arange(env.size) < first_min, 1.0, np.maximum(env, np.minimum(shifted, env[first_min])))
     return np.arange(spec.size) / over, 20 * np.log10(np.maximum(env, 1e-15))
 
 
@@ -486,7 +491,14 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     wv = win_fn(2 * n_freq)[n_freq:] if lowpass else win_fn(n_freq)
     gain = _coherent_gain(wv, lowpass, n)
     step_trace = None
+    offset = 0.0
     if lowpass:
+        # the 0 Hz sample is a guess; an error in it adds the same constant to every time sample. A
+        # feed's response is sparse (most of the time axis holds no reflection), so that constant is
+        # the median of the real response: remove it (derived; it makes the guess of the 0 Hz value
+        # harmless)
+        offset = float(np.median(np.real(h)))
+        h = np.real(h) - offset
         # the envelope of the real response (its analytic signal, as scipy.signal.hilbert forms it;
         # written with numpy because importing scipy.signal costs more than the whole command)
         spec = np.fft.fft(h)
@@ -502,7 +514,8 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
             i0 = int(np.argmin(np.abs(t_st)))
             pos = st[i0:] - st[i0]
             neg = st[:i0] + (st[-1] - st[i0])
-            step_trace = np.concatenate([pos, neg]) / float(wv[0])
+            # the constant removed above, integrated over k samples, is offset x k
+            step_trace = (np.concatenate([pos, neg]) - offset * np.arange(n)) / float(wv[0])
     else:
         raw = np.abs(h) * gain
     dist = cab.distance_m(tt)

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import math
 
-from ...locate import LocateResult, Peak
+from ...locate import DYNAMIC_RANGE_DB, LocateResult, Peak
 from ...units import format_frequency as ff
 from . import console, fmt
 
@@ -61,6 +61,14 @@ def compensation_text(r: LocateResult) -> str:
     return (f"VF {c.velocity_factor:g}, loss {c.loss_db_per_m:g} dB/m (sqrt f){diel} at "
             f"{c.loss_ref_hz / 1e6:g} MHz: each reflection is compensated for the cable's two-way loss to "
             "its distance")
+
+
+def listing_text(r: LocateResult) -> str:
+    floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
+    return (f"reflections above return loss {fmt(floor_rl, 1)} dB at the analyzer (the noise, and at most "
+            f"{DYNAMIC_RANGE_DB:g} dB below the strongest unless --floor is given), standing out of their "
+            f"surroundings and clear of stronger ones' window sidelobes, at least {r.min_separation_m:.3g} m apart; "
+            "strongest first")
 
 
 def reading(r: LocateResult) -> str:
@@ -125,9 +133,7 @@ def render(r: LocateResult, out: str | None = None, uncompensated: bool = False)
     c.print(f"Cable: {compensation_text(r)}")
     c.print(f"Window: {window_text(r)}")
     c.print(f"Range: {resolution_text(r)}; view 0 to {r.view_max_m:.4g} m")
-    floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
-    c.print(f"Listed: reflections above return loss {fmt(floor_rl, 1)} dB at the analyzer (noise and the "
-            f"window's sidelobes lie below), at least {r.min_separation_m:.3g} m apart, strongest first")
+    c.print(f"Listed: {listing_text(r)}")
     if r.peaks:
         t = Table(title="Reflections (RL = return loss of that reflection alone, positive dB)", title_justify="left",
                   show_edge=False)
