@@ -77,6 +77,9 @@ PROMINENCE_DB = 3.0
 and the nearest stronger response on either side (its topographic prominence); ripples on the skirt or
 the dispersive tail of a stronger reflection do not (checked in the tests)."""
 
+WRAP_GUARD = 3.0
+"""No reflection is listed within this many resolutions below the alias-free range (see above)."""
+
 NONPHYSICAL_TOL = 1e-3
 """A compensated |Gamma| above 1 + this is not listed (a passive feed cannot reflect more than it receives)."""
 
@@ -567,6 +570,9 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     idx = np.asarray(skrf.time.indexes(ext, thres=0.0, min_dist=max(int(sep / ddist), 1)), dtype=int) - 1
     idx = idx[(idx >= 0) & (idx < nf)]
     idx = idx[keep[idx]]
+    # the last WRAP_GUARD resolutions of the period hold what lies just before 0 m (the transform
+    # wraps): leakage of the reflections at the reference plane, not a reflection far away
+    idx = idx[dist_full[idx] < max_range - WRAP_GUARD * res]
     # a listing range below the strongest reflection (at the analyzer); with --floor the user sets it
     side = float(np.max(raw_full[idx])) * 10 ** (-DYNAMIC_RANGE_DB / 20) if idx.size else 0.0
     floor = noise if floor_return_loss_db is not None else max(noise, side)

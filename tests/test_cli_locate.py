@@ -205,3 +205,19 @@ def test_distance_picture_and_report_section(tmp_path):
     html = section_html(r)
     assert html.startswith("<section") and "<svg" in html and "4.000" in html and "mast" in html
     assert "http://" not in html.replace("http://www.w3.org", "")
+
+
+def test_reading_names_the_reference_plane_and_an_open_line(cli, tmp_path):
+    """A bare load at the reference plane is read as such; an open cable end (|Gamma| = 1, RL 0 dB)
+    as a total reflection (a broken or disconnected line)."""
+    f = np.arange(1, 401) * 5e6
+    bare = tmp_path / "bare.s1p"
+    bare.write_text(touchstone_text(f, np.full(f.size, 0.5 + 0j), 50.0))
+    r = cli("locate", bare, "--velocity-factor", "0.7", "--json")
+    assert "reference plane" in r.json()["reading"], r.json()["reading"]
+    m = _media(f)
+    opened = tmp_path / "open.s1p"
+    opened.write_text(touchstone_text(f, (m.line(6.0, "m") ** m.open()).s, 50.0))
+    doc = cli("locate", opened, "--velocity-factor", "0.7", "--json").json()
+    assert doc["peaks"][0]["distance_m"] == pytest.approx(6.0, abs=doc["resolution_m"] / 4)
+    assert "open or a short" in doc["reading"]

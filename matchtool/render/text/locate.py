@@ -81,8 +81,9 @@ def reading(r: LocateResult) -> str:
     farthest = max(r.peaks, key=lambda q: q.distance_m)
     if p.return_loss_db < 1.0:
         why = "nearly total reflection: an open or a short (a broken, crushed or disconnected line)"
-    elif p.distance_m < r.resolution_m:
-        why = "at the reference plane: the analyzer's connector or the first adapter"
+    elif p.distance_m < 1.5 * r.resolution_m:
+        why = ("within the resolution of the reference plane: the antenna right at the analyzer's connector, "
+               "or the first connector or adapter")
     elif p is farthest:
         why = "likely the antenna (the farthest reflection listed)"
     else:
@@ -135,8 +136,8 @@ def render(r: LocateResult, out: str | None = None, uncompensated: bool = False)
     c.print(f"Range: {resolution_text(r)}; view 0 to {r.view_max_m:.4g} m")
     c.print(f"Listed: {listing_text(r)}")
     if r.peaks:
-        t = Table(title="Reflections (RL = return loss of that reflection alone, positive dB)", title_justify="left",
-                  show_edge=False)
+        c.print("Reflections, strongest first (RL = return loss of that reflection alone, positive dB):")
+        t = Table(show_edge=False)
         cols = ["#", "distance m", "RL dB", "|Gamma|"]
         if uncompensated or r.loss_compensated:
             cols += ["RL at analyzer dB", "2-way loss dB"]
