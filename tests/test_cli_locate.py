@@ -126,7 +126,7 @@ def test_uncompensated_on_request(cli, tmp_path):
 def test_step_mode_names_the_kind(cli, tmp_path):
     p = _cable_file(tmp_path / "feed.s1p")
     r = cli("locate", p, "--velocity-factor", "0.7", "--mode", "lowpass-step")
-    assert r.code == 0 and "higher impedance" in r.out, r.out
+    assert r.code == 0 and "higher Z (step up)" in r.out, r.out
     doc = cli("locate", p, "--velocity-factor", "0.7", "--mode", "lowpass-step", "--json").json()
     assert doc["mode"] == "lowpass-step" and doc["peaks"][0]["kind"] == "higher_impedance"
 

@@ -27,8 +27,8 @@ MODE_TEXT = {
 }
 
 KIND_TEXT = {
-    "higher_impedance": "higher impedance (step up)",
-    "lower_impedance": "lower impedance (step down)",
+    "higher_impedance": "higher Z (step up)",
+    "lower_impedance": "lower Z (step down)",
     "capacitive": "capacitive (dip)",
     "inductive": "inductive (bump)",
 }
@@ -78,14 +78,15 @@ def reading(r: LocateResult) -> str:
         return "no reflection above the listing floor"
     p = r.peaks[0]
     head = f"largest reflection at {p.distance_m:.2f} m, return loss {fmt(p.return_loss_db, 1)} dB"
-    farthest = max(r.peaks, key=lambda q: q.distance_m)
+    # the far end is the farthest reflection of some size (weak ones further out are echoes or noise)
+    farthest = max((q for q in r.peaks if q.return_loss_db <= p.return_loss_db + 20.0), key=lambda q: q.distance_m)
     if p.return_loss_db < 1.0:
         why = "nearly total reflection: an open or a short (a broken, crushed or disconnected line)"
     elif p.distance_m < 1.5 * r.resolution_m:
         why = ("within the resolution of the reference plane: the antenna right at the analyzer's connector, "
                "or the first connector or adapter")
     elif p is farthest:
-        why = "likely the antenna (the farthest reflection listed)"
+        why = "likely the antenna (the farthest large reflection)"
     else:
         why = (f"before the far end ({farthest.distance_m:.2f} m): a connector, adapter, kink or water "
                "in the cable there")
@@ -140,7 +141,7 @@ def render(r: LocateResult, out: str | None = None, uncompensated: bool = False)
         t = Table(show_edge=False)
         cols = ["#", "distance m", "RL dB", "|Gamma|"]
         if uncompensated or r.loss_compensated:
-            cols += ["RL at analyzer dB", "2-way loss dB"]
+            cols += ["RL analyzer", "2-way loss"]
         if r.mode == "lowpass-step":
             cols.append("kind")
         for col in cols:
