@@ -627,7 +627,7 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     gate = None
     if gate_m is not None or gate_s is not None:
         gate = _gate(net, sw.path, cab, res, step, f, g, gate_m, gate_s, band, peaks, max_range)
-        warnings += _gate_warnings(gate, sw.name)
+        warnings += _gate_warnings(gate, sw.name, cab)
 
     return LocateResult(
         path=sw.path, port=sw.port, z0_ohm=sw.z0_ohm, points=int(f.size), f_start_hz=float(f[0]),
@@ -707,9 +707,21 @@ def _gate(net, path: str, cab: CableModel, res: float, step: float, f: np.ndarra
         return_loss_before_db=rl_b, return_loss_after_db=rl_a)
 
 
-def _gate_warnings(gate: GateResult, name: str) -> list[str]:
+def _gate_warnings(gate: GateResult, name: str, cab: CableModel) -> list[str]:
     out = []
-    if gate.band_in_edge:
+    f = gate.network.f
+    if not f[0] + gate.edge_hz < f[-1] - gate.edge_hz:
+        # the edge regions meet: the gate's spectrum (~ 2 / T_gate) is as wide as the sweep
+        need_m = float(cab.distance_m(8.0 / (f[-1] - f[0])))  # edges of a quarter of the sweep each
+        out.append(f"{name}: the gate ({gate.stop_m - gate.start_m:.3g} m) is too short for this sweep: its edge "
+                   f"regions ({gate.edge_hz / 1e6:.3g} MHz at each end) cover the whole sweep, so the gated sweep "
+                   f"is unreliable everywhere; make the gate at least {need_m:.3g} m long or sweep wider")
+    elif gate.band_in_edge:
         out.append(f"{name}: the band reaches into the gate's edge regions ({gate.edge_hz / 1e6:.3g} MHz at each end "
                    "of the sweep), where the gated return loss is unreliable; a wider sweep or a longer gate helps")
+    over = np.abs(gate.network.s[:, 0, 0]) > 1.0 + NONPHYSICAL_TOL
+    if over.any():
+        out.append(f"{name}: {int(over.sum())} point(s) of the gated sweep have |Gamma| > 1 (up to "
+                   f"{float(np.max(np.abs(gate.network.s[:, 0, 0]))):.3g}): gate edge effects, not the antenna; "
+                   "do not use those frequencies")
     return out

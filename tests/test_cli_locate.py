@@ -221,3 +221,17 @@ def test_reading_names_the_reference_plane_and_an_open_line(cli, tmp_path):
     doc = cli("locate", opened, "--velocity-factor", "0.7", "--json").json()
     assert doc["peaks"][0]["distance_m"] == pytest.approx(6.0, abs=doc["resolution_m"] / 4)
     assert "open or a short" in doc["reading"]
+
+
+def test_a_gate_too_short_for_the_sweep_is_warned_about(cli, tmp_path):
+    """Edge regions 2 / T_gate wide at each end (T_gate the round trip through the gate): a 0.5 m gate
+    at VF 0.7 is 4.76 ns, 420 MHz per end, more than half of a 700 MHz sweep (derived)."""
+    f = np.linspace(800.5e6, 1.5e9, 701)
+    m = _media(f)
+    p = tmp_path / "narrow.s1p"
+    p.write_text(touchstone_text(f, (m.line(2.0, "m") ** m.load(0.3)).s, 50.0))
+    r = cli("locate", p, "--velocity-factor", "0.7", "--gate", "1.75m:2.25m", "--json")
+    assert r.code == 0
+    doc = r.json()
+    assert doc["gate"]["edge_hz"] == pytest.approx(2 / (2 * 0.5 / (0.7 * C0)), rel=1e-9)
+    assert any("too short" in w for w in doc["warnings"]) and "too short" in r.err
