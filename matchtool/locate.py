@@ -499,8 +499,8 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
         # the 0 Hz sample is a guess; an error in it adds the same constant to every time sample. A
         # feed's response is sparse (most of the time axis holds no reflection), so that constant is
         # the median of the real response: remove it (derived; it makes the guess of the 0 Hz value
-        # harmless)
-        offset = float(np.median(np.real(h)))
+        # harmless); a measured 0 Hz point is kept as it is
+        offset = float(np.median(np.real(h))) if extrapolated else 0.0
         h = np.real(h) - offset
         # the envelope of the real response (its analytic signal, as scipy.signal.hilbert forms it;
         # written with numpy because importing scipy.signal costs more than the whole command)
