@@ -77,6 +77,9 @@ PROMINENCE_DB = 3.0
 and the nearest stronger response on either side (its topographic prominence); ripples on the skirt or
 the dispersive tail of a stronger reflection do not (checked in the tests)."""
 
+WRAP_GUARD = 3.0
+"""No reflection is listed within this many resolutions below the alias-free range (see above)."""
+
 NONPHYSICAL_TOL = 1e-3
 """A compensated |Gamma| above 1 + this is not listed (a passive feed cannot reflect more than it receives)."""
 
@@ -138,7 +141,8 @@ def window_info(name: str) -> WindowInfo:
 @functools.cache
 def _sidelobe_envelope(name: str) -> tuple[np.ndarray, np.ndarray]:
     """(offset in DFT bins, dB): the highest sidelobe of the window's transform at that offset from
-    the main lobe's centre or beyond (0 dB inside the main lobe). Measured like :func:`window_info`."""
+    the main lobe's centre, half a bin nearer, or beyond (0 dB inside the main lobe). Measured like
+    :func:`window_info`."""
     w = _window_fn(name)(256)
     over = 64
     spec = np.abs(np.fft.rfft(w, 256 * over))
@@ -148,6 +152,10 @@ def _sidelobe_envelope(name: str) -> tuple[np.ndarray, np.ndarray]:
     level = spec.copy()
     level[:first_min] = 1.0
     env = np.maximum.accumulate(level[::-1])[::-1]  # the largest value at this offset or beyond
+    # and up to half a bin nearer, so a point between two sidelobes gets the nearer (higher) one
+    # (outside the main lobe: just past its first null a point gets the first sidelobe, not the lobe)
+    shifted = np.concatenate([np.full(over // 2, env[first_min]), env[:-(over // 2)]])
+    env = np.where(np.arange(env.size) < first_min, 1.0, np.maximum(env, np.minimum(shifted, env[first_min])))
     return np.arange(spec.size) / over, 20 * np.log10(np.maximum(env, 1e-15))
 
 
@@ -486,7 +494,14 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     wv = win_fn(2 * n_freq)[n_freq:] if lowpass else win_fn(n_freq)
     gain = _coherent_gain(wv, lowpass, n)
     step_trace = None
+    offset = 0.0
     if lowpass:
+        # the 0 Hz sample is a guess; an error in it adds the same constant to every time sample. A
+        # feed's response is sparse (most of the time axis holds no reflection), so that constant is
+        # the median of the real response: remove it (derived; it makes the guess of the 0 Hz value
+        # harmless); a measured 0 Hz point is kept as it is
+        offset = float(np.median(np.real(h))) if extrapolated else 0.0
+        h = np.real(h) - offset
         # the envelope of the real response (its analytic signal, as scipy.signal.hilbert forms it;
         # written with numpy because importing scipy.signal costs more than the whole command)
         spec = np.fft.fft(h)
@@ -502,7 +517,8 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
             i0 = int(np.argmin(np.abs(t_st)))
             pos = st[i0:] - st[i0]
             neg = st[:i0] + (st[-1] - st[i0])
-            step_trace = np.concatenate([pos, neg]) / float(wv[0])
+            # the constant removed above, integrated over k samples, is offset x k
+            step_trace = (np.concatenate([pos, neg]) - offset * np.arange(n)) / float(wv[0])
     else:
         raw = np.abs(h) * gain
     dist = cab.distance_m(tt)
@@ -554,6 +570,9 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     idx = np.asarray(skrf.time.indexes(ext, thres=0.0, min_dist=max(int(sep / ddist), 1)), dtype=int) - 1
     idx = idx[(idx >= 0) & (idx < nf)]
     idx = idx[keep[idx]]
+    # the last WRAP_GUARD resolutions of the period hold what lies just before 0 m (the transform
+    # wraps): leakage of the reflections at the reference plane, not a reflection far away
+    idx = idx[dist_full[idx] < max_range - WRAP_GUARD * res]
     # a listing range below the strongest reflection (at the analyzer); with --floor the user sets it
     side = float(np.max(raw_full[idx])) * 10 ** (-DYNAMIC_RANGE_DB / 20) if idx.size else 0.0
     floor = noise if floor_return_loss_db is not None else max(noise, side)
@@ -608,7 +627,7 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     gate = None
     if gate_m is not None or gate_s is not None:
         gate = _gate(net, sw.path, cab, res, step, f, g, gate_m, gate_s, band, peaks, max_range)
-        warnings += _gate_warnings(gate, sw.name)
+        warnings += _gate_warnings(gate, sw.name, cab)
 
     return LocateResult(
         path=sw.path, port=sw.port, z0_ohm=sw.z0_ohm, points=int(f.size), f_start_hz=float(f[0]),
@@ -688,9 +707,21 @@ def _gate(net, path: str, cab: CableModel, res: float, step: float, f: np.ndarra
         return_loss_before_db=rl_b, return_loss_after_db=rl_a)
 
 
-def _gate_warnings(gate: GateResult, name: str) -> list[str]:
+def _gate_warnings(gate: GateResult, name: str, cab: CableModel) -> list[str]:
     out = []
-    if gate.band_in_edge:
+    f = gate.network.f
+    if not f[0] + gate.edge_hz < f[-1] - gate.edge_hz:
+        # the edge regions meet: the gate's spectrum (~ 2 / T_gate) is as wide as the sweep
+        need_m = float(cab.distance_m(8.0 / (f[-1] - f[0])))  # edges of a quarter of the sweep each
+        out.append(f"{name}: the gate ({gate.stop_m - gate.start_m:.3g} m) is too short for this sweep: its edge "
+                   f"regions ({gate.edge_hz / 1e6:.3g} MHz at each end) cover the whole sweep, so the gated sweep "
+                   f"is unreliable everywhere; make the gate at least {need_m:.3g} m long or sweep wider")
+    elif gate.band_in_edge:
         out.append(f"{name}: the band reaches into the gate's edge regions ({gate.edge_hz / 1e6:.3g} MHz at each end "
                    "of the sweep), where the gated return loss is unreliable; a wider sweep or a longer gate helps")
+    over = np.abs(gate.network.s[:, 0, 0]) > 1.0 + NONPHYSICAL_TOL
+    if over.any():
+        out.append(f"{name}: {int(over.sum())} point(s) of the gated sweep have |Gamma| > 1 (up to "
+                   f"{float(np.max(np.abs(gate.network.s[:, 0, 0]))):.3g}): gate edge effects, not the antenna; "
+                   "do not use those frequencies")
     return out

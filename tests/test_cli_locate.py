@@ -126,7 +126,7 @@ def test_uncompensated_on_request(cli, tmp_path):
 def test_step_mode_names_the_kind(cli, tmp_path):
     p = _cable_file(tmp_path / "feed.s1p")
     r = cli("locate", p, "--velocity-factor", "0.7", "--mode", "lowpass-step")
-    assert r.code == 0 and "higher impedance" in r.out, r.out
+    assert r.code == 0 and "higher Z (step up)" in r.out, r.out
     doc = cli("locate", p, "--velocity-factor", "0.7", "--mode", "lowpass-step", "--json").json()
     assert doc["mode"] == "lowpass-step" and doc["peaks"][0]["kind"] == "higher_impedance"
 
@@ -205,3 +205,33 @@ def test_distance_picture_and_report_section(tmp_path):
     html = section_html(r)
     assert html.startswith("<section") and "<svg" in html and "4.000" in html and "mast" in html
     assert "http://" not in html.replace("http://www.w3.org", "")
+
+
+def test_reading_names_the_reference_plane_and_an_open_line(cli, tmp_path):
+    """A bare load at the reference plane is read as such; an open cable end (|Gamma| = 1, RL 0 dB)
+    as a total reflection (a broken or disconnected line)."""
+    f = np.arange(1, 401) * 5e6
+    bare = tmp_path / "bare.s1p"
+    bare.write_text(touchstone_text(f, np.full(f.size, 0.5 + 0j), 50.0))
+    r = cli("locate", bare, "--velocity-factor", "0.7", "--json")
+    assert "reference plane" in r.json()["reading"], r.json()["reading"]
+    m = _media(f)
+    opened = tmp_path / "open.s1p"
+    opened.write_text(touchstone_text(f, (m.line(6.0, "m") ** m.open()).s, 50.0))
+    doc = cli("locate", opened, "--velocity-factor", "0.7", "--json").json()
+    assert doc["peaks"][0]["distance_m"] == pytest.approx(6.0, abs=doc["resolution_m"] / 4)
+    assert "open or a short" in doc["reading"]
+
+
+def test_a_gate_too_short_for_the_sweep_is_warned_about(cli, tmp_path):
+    """Edge regions 2 / T_gate wide at each end (T_gate the round trip through the gate): a 0.5 m gate
+    at VF 0.7 is 4.76 ns, 420 MHz per end, more than half of a 700 MHz sweep (derived)."""
+    f = np.linspace(800.5e6, 1.5e9, 701)
+    m = _media(f)
+    p = tmp_path / "narrow.s1p"
+    p.write_text(touchstone_text(f, (m.line(2.0, "m") ** m.load(0.3)).s, 50.0))
+    r = cli("locate", p, "--velocity-factor", "0.7", "--gate", "1.75m:2.25m", "--json")
+    assert r.code == 0
+    doc = r.json()
+    assert doc["gate"]["edge_hz"] == pytest.approx(2 / (2 * 0.5 / (0.7 * C0)), rel=1e-9)
+    assert any("too short" in w for w in doc["warnings"]) and "too short" in r.err

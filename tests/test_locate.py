@@ -343,3 +343,38 @@ def test_a_very_lossy_long_view_does_not_overflow():
     pk = r.peaks[0]
     assert pk.distance_m == pytest.approx(2.0, abs=r.resolution_m / 4)
     assert pk.return_loss_db == pytest.approx(-20 * math.log10(0.5), abs=1.0)
+
+
+@pytest.mark.parametrize("window", lc.WINDOWS)
+@pytest.mark.parametrize("f", [np.arange(1, 801) * 3e6, np.linspace(400.3e6, 2.8e9, 1201)], ids=["lowpass", "bandpass"])
+def test_nothing_is_listed_that_is_not_there(window, f):
+    """Every listed reflection is one of the two discontinuities or one of their echoes
+    (d2 + k (d2 - d1), multiple reflections between them: real, and where the physics puts them),
+    within a quarter of the resolution: window sidelobes, skirts and the lossy line's dispersive
+    tail are not listed."""
+    vf, loss = 0.72, 0.3
+    m = media(f, vf, loss)
+    d1, d2 = 1.4, 4.9
+    net = m.line(d1, "m") ** m.resistor(18.0) ** m.line(d2 - d1, "m") ** m.load(gamma_r(22.0))
+    r = lc.analyze(net, cable=cable_model(vf, loss), window=window)
+    where = [d1, d2] + [d2 + k * (d2 - d1) for k in range(1, 8)]
+    assert r.peaks
+    for p in r.peaks:
+        assert min(abs(p.distance_m - x) for x in where) <= r.resolution_m / 4, (p, r.resolution_m)
+    for d in (d1, d2):
+        assert min(abs(p.distance_m - d) for p in r.peaks) <= r.resolution_m / 4
+
+
+def test_gate_beyond_half_the_alias_free_range():
+    """scikit-rf gates on t in [-T/2, T/2); a gate further out is moved there by a linear phase and
+    back (a circular shift, exact): a load at 70 % of the alias-free range, behind a connector
+    echo, gated, is the load alone in the middle of the band (|Gamma| 0.25, derived)."""
+    f = np.linspace(800e6, 1.2e9, 401)  # 1 MHz steps: 104.9 m alias-free at VF 0.7
+    vf = 0.7
+    m = media(f, vf)
+    far = 0.7 * C0 * vf / (2 * 1e6)
+    net = m.line(0.5, "m") ** m.resistor(8.0) ** m.line(far - 0.5, "m") ** m.load(gamma_r(83.333333))
+    r = lc.analyze(net, velocity_factor=vf, gate_m=(far - 3.0, far + 3.0))
+    mid = (f > f[0] + r.gate.edge_hz) & (f < f[-1] - r.gate.edge_hz)
+    t2 = series_r_gamma(8.0)[1] ** 2
+    np.testing.assert_allclose(np.abs(r.gate.network.s[mid, 0, 0]), 0.25 * t2, rtol=0.05)

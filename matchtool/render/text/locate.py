@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import math
 
-from ...locate import LocateResult, Peak
+from ...locate import DYNAMIC_RANGE_DB, LocateResult, Peak
 from ...units import format_frequency as ff
 from . import console, fmt
 
@@ -27,8 +27,8 @@ MODE_TEXT = {
 }
 
 KIND_TEXT = {
-    "higher_impedance": "higher impedance (step up)",
-    "lower_impedance": "lower impedance (step down)",
+    "higher_impedance": "higher Z (step up)",
+    "lower_impedance": "lower Z (step down)",
     "capacitive": "capacitive (dip)",
     "inductive": "inductive (bump)",
 }
@@ -63,6 +63,14 @@ def compensation_text(r: LocateResult) -> str:
             "its distance")
 
 
+def listing_text(r: LocateResult) -> str:
+    floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
+    return (f"reflections above return loss {fmt(floor_rl, 1)} dB at the analyzer (the noise, and at most "
+            f"{DYNAMIC_RANGE_DB:g} dB below the strongest unless --floor is given), standing out of their "
+            f"surroundings and clear of stronger ones' window sidelobes, at least {r.min_separation_m:.3g} m apart; "
+            "strongest first")
+
+
 def reading(r: LocateResult) -> str:
     """One line on the strongest reflection, e.g. "largest reflection at 3.02 m, return loss 6.1 dB:
     likely the antenna"."""
@@ -70,13 +78,15 @@ def reading(r: LocateResult) -> str:
         return "no reflection above the listing floor"
     p = r.peaks[0]
     head = f"largest reflection at {p.distance_m:.2f} m, return loss {fmt(p.return_loss_db, 1)} dB"
-    farthest = max(r.peaks, key=lambda q: q.distance_m)
+    # the far end is the farthest reflection of some size (weak ones further out are echoes or noise)
+    farthest = max((q for q in r.peaks if q.return_loss_db <= p.return_loss_db + 20.0), key=lambda q: q.distance_m)
     if p.return_loss_db < 1.0:
         why = "nearly total reflection: an open or a short (a broken, crushed or disconnected line)"
-    elif p.distance_m < r.resolution_m:
-        why = "at the reference plane: the analyzer's connector or the first adapter"
+    elif p.distance_m < 1.5 * r.resolution_m:
+        why = ("within the resolution of the reference plane: the antenna right at the analyzer's connector, "
+               "or the first connector or adapter")
     elif p is farthest:
-        why = "likely the antenna (the farthest reflection listed)"
+        why = "likely the antenna (the farthest large reflection)"
     else:
         why = (f"before the far end ({farthest.distance_m:.2f} m): a connector, adapter, kink or water "
                "in the cable there")
@@ -125,15 +135,13 @@ def render(r: LocateResult, out: str | None = None, uncompensated: bool = False)
     c.print(f"Cable: {compensation_text(r)}")
     c.print(f"Window: {window_text(r)}")
     c.print(f"Range: {resolution_text(r)}; view 0 to {r.view_max_m:.4g} m")
-    floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
-    c.print(f"Listed: reflections above return loss {fmt(floor_rl, 1)} dB at the analyzer (noise and the "
-            f"window's sidelobes lie below), at least {r.min_separation_m:.3g} m apart, strongest first")
+    c.print(f"Listed: {listing_text(r)}")
     if r.peaks:
-        t = Table(title="Reflections (RL = return loss of that reflection alone, positive dB)", title_justify="left",
-                  show_edge=False)
+        c.print("Reflections, strongest first (RL = return loss of that reflection alone, positive dB):")
+        t = Table(show_edge=False)
         cols = ["#", "distance m", "RL dB", "|Gamma|"]
         if uncompensated or r.loss_compensated:
-            cols += ["RL at analyzer dB", "2-way loss dB"]
+            cols += ["RL analyzer", "2-way loss"]
         if r.mode == "lowpass-step":
             cols.append("kind")
         for col in cols:
