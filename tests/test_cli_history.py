@@ -199,3 +199,20 @@ def test_report_section_and_trend_of_the_store(cli, lot):
     page = section_html(history([str(db)], series=True))
     assert "Lot lot&lt;7&gt;" in page and "<svg" in page and "http" not in page.split("<svg")[0]
     assert page.count("<tr>") == 3 + 1  # header and three requirements
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_history_text_fits_the_width(cli, lot, monkeypatch, width):
+    d, spec, folder = lot
+    db = d / "r.db"
+    cli("check", folder, "--spec", spec, "--store", db, "--lot", "lot12")
+    monkeypatch.setenv("COLUMNS", str(width))
+    r = cli("history", "--store", db)
+    assert r.code == 0
+    assert all(len(ln) <= width for ln in r.out.splitlines()), width
+    words = set(r.out.split())
+    doc = cli("history", "--store", db, "--json").json()["lots"][0]
+    for q in doc["requirements"]:
+        assert q["name"] in words and (q["cpk"] is None or f"{q['cpk']:.2f}" in words)
+    for w in ("requirement", "yield", "passed", "mean", "limit", "Cpk"):
+        assert w in words
