@@ -364,9 +364,20 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
     if not stores:
         raise UsageError("no store given", parameter="store", expected="a store path or URL")
     since_t = parse_since(since)
-    opened = [Store(u, create=False) for u in stores]
+    from sqlalchemy.exc import SQLAlchemyError
+
+    from .errors import InputError
+    from .store import _db_reason
+
+    opened = []
     try:
-        return _history(opened, lot, since_t, spec, n_worst, series)
+        for u in stores:
+            opened.append(Store(u, create=False))
+        try:
+            return _history(opened, lot, since_t, spec, n_worst, series)
+        except SQLAlchemyError as exc:
+            raise InputError(f"cannot read the results store ({_db_reason(exc)})",
+                             path=", ".join(st.shown for st in opened)) from None
     finally:
         for st in opened:
             st.close()

@@ -51,6 +51,7 @@ if TYPE_CHECKING:  # pragma: no cover
 SCHEMA_VERSION = 1
 BUSY_TIMEOUT_S = 30.0
 WRITE_RETRIES = 8
+CHUNK_UNITS = 10_000
 LOCK_KEY = 0x6D74_7374  # the PostgreSQL advisory lock that serialises writers ("mtst")
 
 
@@ -352,23 +353,32 @@ class Store:
     # -- writing ---------------------------------------------------------------------------------
     def add_lot(self, units: Iterable[CheckedUnit], spec: Spec, lot: str, station: str,
                 checked_at: datetime | None = None, spec_sha256: str | None = None) -> StoreInfo:
-        """Append every unit (see the module docstring for what is kept); returns the counts."""
+        """Append every unit (see the module docstring for what is kept); returns the counts.
+
+        A large lot is written in transactions of :data:`CHUNK_UNITS` units, so that no writer
+        holds the store's write lock for long (a failure part-way leaves whole chunks stored; the
+        same check again adds only the rest)."""
+        if not str(lot).strip():
+            raise UsageError("is empty", parameter="lot", expected="a lot name, e.g. 2026-w49 or lot12")
+        units = list(units)
+        spec_hash = spec_sha256 or spec_digest(spec)
+        spec_name = spec.name or Path(spec.path).stem
+        when = _utc_naive(checked_at)
+        added = 0
+        for k in range(0, len(units), CHUNK_UNITS):
+            added += self._add_chunk(units[k:k + CHUNK_UNITS], k, spec_hash, spec_name, lot, station, when)
+        return StoreInfo(self.shown, lot, station, added, len(units) - added)
+
+    def _add_chunk(self, units, seq0, spec_hash, spec_name, lot, station, when) -> int:
         from sqlalchemy import select
         from sqlalchemy.exc import SQLAlchemyError
 
         from . import __version__
-        from .batch import relative_margin
+        from .batch import file_sha256, relative_margin
 
-        if not str(lot).strip():
-            raise UsageError("is empty", parameter="lot", expected="a lot name, e.g. 2026-w49 or lot12")
         md, schema, units_t, reqs_t = tables()
-        spec_hash = spec_sha256 or spec_digest(spec)
-        spec_name = spec.name or Path(spec.path).stem
-        when = _utc_naive(checked_at)
         urows, rrows = [], []
-        from .batch import file_sha256
-
-        for seq, c in enumerate(units):
+        for seq, c in enumerate(units, start=seq0):
             u = c.result
             digest = c.sha256 if c.sha256 is not None or u.error is not None else file_sha256(u.file)
             uid = unit_uid(digest, u.file, spec_hash, lot, station)
@@ -412,10 +422,9 @@ class Store:
             return len(new_u)
 
         try:
-            added = self._transaction(work) if urows else 0
+            return int(self._transaction(work)) if urows else 0
         except SQLAlchemyError as exc:
             raise OutputError(f"cannot write to the results store ({_db_reason(exc)})", path=self.shown) from None
-        return StoreInfo(self.shown, lot, station, int(added), len(urows) - int(added))
 
     def _update_stats(self, conn, new_u: list[dict], new_r: list[dict], station: str) -> None:
         """Fold the new rows into ``lot_units`` / ``lot_requirements`` (inside the write

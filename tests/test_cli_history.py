@@ -199,3 +199,33 @@ def test_report_section_and_trend_of_the_store(cli, lot):
     page = section_html(history([str(db)], series=True))
     assert "Lot lot&lt;7&gt;" in page and "<svg" in page and "http" not in page.split("<svg")[0]
     assert page.count("<tr>") == 3 + 1  # header and three requirements
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_history_text_fits_the_width(cli, lot, monkeypatch, width):
+    d, spec, folder = lot
+    db = d / "r.db"
+    cli("check", folder, "--spec", spec, "--store", db, "--lot", "lot12")
+    monkeypatch.setenv("COLUMNS", str(width))
+    r = cli("history", "--store", db)
+    assert r.code == 0
+    assert all(len(ln) <= width for ln in r.out.splitlines()), width
+    words = set(r.out.split())
+    doc = cli("history", "--store", db, "--json").json()["lots"][0]
+    for q in doc["requirements"]:
+        assert q["name"] in words and (q["cpk"] is None or f"{q['cpk']:.2f}" in words)
+    for w in ("requirement", "yield", "passed", "mean", "limit", "Cpk"):
+        assert w in words
+
+
+def test_station_defaults_to_the_host_name_and_url_forms(cli, lot):
+    import socket
+
+    d, spec, folder = lot
+    r = cli("check", folder / "u1.s1p", folder / "u2.s1p", "--spec", spec, "--json", "--store", f"sqlite:///{d}/u.db",
+            "--lot", "L")
+    assert r.json()["store"]["station"] == socket.gethostname() and r.json()["store"]["added"] == 2
+    h = cli("history", "--store", d / "u.db", "--json").json()  # the same file as a bare path
+    assert h["lots"][0]["stations"] == [socket.gethostname()] and h["lots"][0]["units"] == 2
+    r = cli("check", folder / "u1.s1p", "--spec", spec, "--store", "mysql://u@h/db", "--lot", "L")
+    assert r.code == 2 and "--store" in r.err and "unknown kind of store" in r.err

@@ -202,3 +202,15 @@ def test_combine_is_the_pooled_mean_and_variance():
     n, m, q = combine(combine(parts[0], parts[1]), parts[2])
     assert n == 1000 and m == pytest.approx(x.mean(), rel=1e-14)
     assert q / (n - 1) == pytest.approx(np.var(x, ddof=1), rel=1e-10)  # numpy's two-pass variance
+
+
+def test_a_damaged_store_is_one_line(tmp_path, spec):
+    import sqlite3
+
+    db = tmp_path / "r.db"
+    put(db, [unit("a.s1p", rl_req(12))], spec)
+    with sqlite3.connect(db) as c:
+        c.execute("drop table lot_units")
+    with pytest.raises(InputError, match="cannot read the results store") as ei:
+        history.history([str(db)])
+    assert "\n" not in str(ei.value) and "SELECT" not in str(ei.value)

@@ -166,3 +166,21 @@ def test_postgresql_store_and_concurrent_writers(tmp_path, spec):
         assert c.execute(text("select count(*) from units where lot = 'lot-c'")).scalar() == expected
         assert c.execute(text("select count(*) from requirements where lot = 'lot-c'")).scalar() == expected
     eng.dispose()
+
+
+def test_a_lot_larger_than_one_transaction(tmp_path, spec, monkeypatch):
+    monkeypatch.setattr(store, "CHUNK_UNITS", 7)
+    db = tmp_path / "r.db"
+    units = [unit(k, 9.5 + 0.1 * k) for k in range(30)]
+    with store.Store(str(db)) as st:
+        first = st.add_lot(units[:12], spec, "lot1", "a")
+        info = st.add_lot(units, spec, "lot1", "a")  # the first 12 are there already
+    assert (first.added, info.added, info.duplicates) == (12, 18, 12)
+    assert count(db) == 30 and count(db, "requirements") == 30
+    from matchtool.history import history
+
+    (r,) = history([str(db)]).lots[0].requirements
+    vals = [9.5 + 0.1 * k for k in range(30)]
+    import numpy as np
+
+    assert r.evaluated == 30 and r.mean == pytest.approx(np.mean(vals)) and r.std == pytest.approx(np.std(vals, ddof=1))

@@ -15,7 +15,7 @@ from ..outputs import atomic_write_many, check_output
 from ..render.json_contract import check_doc, emit_json
 from ..render.text import warn
 from ..spec import load_spec
-from .options import ForceOpt, JsonOpt
+from .options import PARAMETER_FLAGS, ForceOpt, JsonOpt
 
 EPILOG = """Examples:
 
@@ -82,6 +82,10 @@ def _validate(sweeps, spec_path, junit, csv_path, jobs, force, store, lot, shard
         raise UsageError(f"--junit-level {junit_level!r}", expected="unit or lot")
     if store and not (lot and lot.strip()):
         raise UsageError("--store needs --lot NAME", expected="e.g. --store results.db --lot lot12")
+    if store:
+        from ..store import normalise_url
+
+        normalise_url(store)  # a URL of an unknown kind is a bad argument: refused before any work
     if scheduler and jobs is not None:
         raise UsageError("--jobs and --scheduler both given", expected="--jobs for this machine or --scheduler for a "
                          "Dask cluster")
@@ -123,7 +127,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
         try:
             db = Store(store)
         except MatchtoolError as exc:
-            store_error = str(exc)
+            store_error = exc.message_for(PARAMETER_FLAGS)
     from ..render.text.check import PROGRESS_MIN, Progress
 
     kw = dict(jobs=default_jobs() if jobs is None else jobs, shard=shard_kn, scheduler=scheduler,
@@ -156,7 +160,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
             try:
                 info = db.add_lot(result.units, spec, lot.strip(), station)
             except MatchtoolError as exc:
-                store_error = str(exc)
+                store_error = exc.message_for(PARAMETER_FLAGS)
             finally:
                 db.close()
     if json_out:

@@ -66,7 +66,7 @@ def history_lines(h, width: int) -> list[str]:
             cpk = f"{r.cpk:.2f}" if r.cpk is not None else "n/a"
             rows.append([r.name, f"{100 * r.yield_fraction:.1f} %", f"{r.passed}/{r.evaluated}", _val(r.key, r.mean),
                          _std(r.key, r.std), _limit(r), cpk])
-        lines += table(("requirement", "yield", "passed", "mean worst", "std dev", "limit", "Cpk"), rows,
+        lines += table(("requirement", "yield", "passed", "mean", "std dev", "limit", "Cpk"), rows,
                        width, right=(False, True, True, True, True, True, True), indent="  ")
         for r in lt.requirements:
             if r.cpk is None and r.cpk_reason:
@@ -83,7 +83,9 @@ def history_lines(h, width: int) -> list[str]:
                      signed(w.margin_hz / 1e6, 3, "MHz") + " from the window" if w.margin_hz is not None else
                      "not evaluated")
                 lines += _wrap(f"{w.file} ({w.station}): {w.requirement}, margin {m}", width, "    ", "      ")
-    lines += _wrap("Cpk: (mean - LSL) / (3 s) against a lower limit, (USL - mean) / (3 s) against an upper limit, the "
+    lines += _wrap("mean and std dev: of each unit's worst value in the band (the best-match frequency for the "
+                   "resonance). Cpk: (mean - LSL) / (3 s) against a lower limit, (USL - mean) / (3 s) against an "
+                   "upper limit, the "
                    "smaller of both for the resonance window (s: sample standard deviation of the worst value per "
                    "unit); not given below 5 units. It describes the units measured and certifies nothing.", width)
     return lines
