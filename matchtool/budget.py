@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .errors import BudgetError, MatchtoolError, OutOfRangeError
-from .feedline import matched_loss_db
+from .feedline import CableModel  # the one cable model (loss_db(f_hz) of a length of line)
 from .inputs import read_text, special_file_error
 from .reflection import gamma_mag_from_vswr, mismatch_loss_db
 from .reflection import vswr as vswr_of_gamma
@@ -115,21 +115,6 @@ def gain_from_aperture_dbi(aperture_m2: ArrayLike, f_hz: ArrayLike) -> np.ndarra
 
 # ----------------------------------------------------------------------------------------------
 # Inputs
-
-
-@dataclass(frozen=True)
-class CableModel:
-    """A feed line whose matched loss follows :func:`matchtool.feedline.matched_loss_db`."""
-
-    length_m: float
-    loss_db_per_m: float
-    loss_ref_hz: float = 1e9
-    dielectric_loss_db_per_m: float = 0.0
-
-    def loss_db(self, f_hz: ArrayLike) -> np.ndarray:
-        """One-way matched loss in positive dB at ``f_hz``."""
-        return np.asarray(matched_loss_db(f_hz, self.length_m, self.loss_db_per_m, self.loss_ref_hz,
-                                          self.dielectric_loss_db_per_m), dtype=float)
 
 
 @dataclass(frozen=True)
@@ -410,7 +395,7 @@ def _side(r: _Reader, s: str) -> Side:
         _positive(r, pre + "loss_ref_hz", ref)
         diel = r.number("dielectric_loss_db_per_m", t, pre, default=0.0)
         _positive(r, pre + "dielectric_loss_db_per_m", diel, allow_zero=True)
-        cable = CableModel(length, per_m, ref, diel)
+        cable = CableModel(length_m=length, loss_db_per_m=per_m, loss_ref_hz=ref, dielectric_loss_db_per_m=diel)
     sweep_path = None
     if r.has(f"{s}_sweep"):
         v = r.data[f"{s}_sweep"]
