@@ -235,3 +235,19 @@ def test_a_gate_too_short_for_the_sweep_is_warned_about(cli, tmp_path):
     doc = r.json()
     assert doc["gate"]["edge_hz"] == pytest.approx(2 / (2 * 0.5 / (0.7 * C0)), rel=1e-9)
     assert any("too short" in w for w in doc["warnings"]) and "too short" in r.err
+
+
+def test_gated_sweep_is_ready_for_inspect_and_feedline(cli, tmp_path):
+    """The gated file is an ordinary sweep: inspect reads it, and feedline moves it to the antenna,
+    where the 100-ohm load's return loss behind the resistor (two-way transmission (100/115)^2,
+    derived) is 9.54 + 2.43 = 11.97 dB within 1 dB in the middle of the band."""
+    p = _cable_file(tmp_path / "feed.s1p", loss=0.0)
+    gated = tmp_path / "gated.s1p"
+    assert cli("locate", p, "--velocity-factor", "0.7", "--gate", "3.5m:4.6m", "--out", gated).code == 0
+    assert cli("inspect", gated, "--json").code == 0
+    ant = tmp_path / "ant.s1p"
+    r = cli("feedline", gated, "--length", "4m", "--velocity-factor", "0.7", "--loss-db-per-m", "0",
+            "--toward", "antenna", "--band", "1GHz:2GHz", "--json", "--out", ant)
+    assert r.code == 0, r.err
+    want = -20 * math.log10(1 / 3 * (100 / 115) ** 2)
+    assert r.json()["band"]["worst_return_loss_antenna_db"] == pytest.approx(want, abs=1.0)
