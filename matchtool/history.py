@@ -69,7 +69,8 @@ class RequirementHistory:
 
 @dataclass(frozen=True)
 class StoredWorst:
-    """A unit that misses the spec by most (see :func:`matchtool.batch.worst_units`)."""
+    """A unit that misses the spec by most (see :func:`matchtool.batch.worst_units`); in a lot
+    where every unit passed, one closest to failing (``passed`` True)."""
 
     file: str
     station: str
@@ -255,6 +256,9 @@ def _worst_candidates(st, lots, failing_names, lot_f, since, spec, n_worst):
     out: dict[str, tuple[dict, list]] = {}
     with st.engine.connect() as conn:
         for lot in lots:
+            if not failing_names.get(lot):
+                out[lot] = ({}, _closest(conn, lot, since, spec, n_worst))
+                continue
             base = [R.c.lot == lot, R.c.passed.is_(False), *_filters(R, None, since, spec)]
             per_req = {}
             for name in failing_names.get(lot, ()):
@@ -288,6 +292,26 @@ def _worst_candidates(st, lots, failing_names, lot_f, since, spec, n_worst):
             out[lot] = ({name: (row, info.get(row[0])) for name, row in per_req.items()},
                         [(x[1], -x[2], detail.get(x[0]), info.get(x[0])) for x in rows])
     return out
+
+
+def _closest(conn, lot, since, spec, n_worst):
+    """A lot where every unit passed: the units with the smallest relative margin (each unit at
+    its requirement closest to failing), as candidates in the form of the filling list."""
+    from sqlalchemy import and_, select
+
+    _, _, U, R = _tables()
+    rows = conn.execute(select(R.c.uid, R.c.name, R.c.margin_db, R.c.margin_hz, R.c.relative_margin)
+                        .where(and_(R.c.lot == lot, *_filters(R, None, since, spec)))
+                        .order_by(R.c.relative_margin.is_(None), R.c.relative_margin, R.c.position)
+                        .limit(4 * (n_worst + TIE_WINDOW))).all()
+    first: dict[str, tuple] = {}
+    for r in rows:
+        first.setdefault(r[0], r)
+    info = {}
+    if first:
+        for u in conn.execute(select(U.c.uid, U.c.file, U.c.station, U.c.checked_at).where(U.c.uid.in_(list(first)))):
+            info[u[0]] = (u[1], u[2], u[3])
+    return [(r[4], 0, r, info.get(uid)) for uid, r in first.items()]
 
 
 def _tables():
@@ -478,7 +502,7 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
         if (info[0], info[1]) in taken:
             continue
         taken.add((info[0], info[1]))
-        chosen.append(StoredWorst(info[0], info[1], det[1], det[2], det[3], det[4]))
+        chosen.append(StoredWorst(info[0], info[1], det[1], det[2], det[3], det[4], passed=not names))
     return tuple(chosen)
 
 

@@ -214,3 +214,15 @@ def test_a_damaged_store_is_one_line(tmp_path, spec):
     with pytest.raises(InputError, match="cannot read the results store") as ei:
         history.history([str(db)])
     assert "\n" not in str(ei.value) and "SELECT" not in str(ei.value)
+
+
+def test_a_lot_where_every_unit_passed_lists_those_closest_to_failing(tmp_path, spec):
+    rng = np.random.default_rng(17)
+    units = [unit(f"u{k}.s1p", rl_req(rng.uniform(10.5, 16)), res_req(rng.uniform(907e6, 923e6))) for k in range(25)]
+    put(tmp_path / "r.db", units, spec)
+    (lt,) = history.history([str(tmp_path / "r.db")]).lots
+    expect = batch.worst_units([u.result for u in units])
+    assert all(w.passed for w in expect) and len(expect) == 5
+    assert [(w.file, w.requirement) for w in lt.worst] == [(w.file, w.requirement) for w in expect]
+    assert all(w.passed for w in lt.worst)
+    assert [w.relative_margin for w in lt.worst] == pytest.approx([w.relative_margin for w in expect])

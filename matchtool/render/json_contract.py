@@ -176,8 +176,8 @@ def history_doc(h) -> dict[str, Any]:
             "resonance_f_hz": {"n": lt.resonance_n, "mean": lt.resonance_mean_hz, "std": lt.resonance_std_hz,
                                "min": lt.resonance_min_hz, "max": lt.resonance_max_hz},
             "worst_units": [{"file": w.file, "station": w.station, "requirement": w.requirement,
-                             "margin_db": w.margin_db, "margin_hz": w.margin_hz, "relative_margin": w.relative_margin}
-                            for w in lt.worst],
+                             "margin_db": w.margin_db, "margin_hz": w.margin_hz, "relative_margin": w.relative_margin,
+                             "pass": w.passed} for w in lt.worst],
         })
     return {"stores": list(h.stores), "filters": {"lot": h.lot, "since": _time(h.since), "spec": h.spec},
             "lots": lots, "warnings": list(h.warnings)}

@@ -36,7 +36,8 @@ def section_html(result, with_trend: bool = True) -> str:
                          f"<td>{cpk} ({e(r.cpk_side)})</td></tr>")
         parts.append("</tbody></table>")
         if lt.worst:
-            parts.append("<p>Worst failing units:</p><ul>")
+            label = "Closest to failing" if all(w.passed for w in lt.worst) else "Worst failing units"
+            parts.append(f"<p>{label}:</p><ul>")
             for w in lt.worst:
                 m = (f"{w.margin_db:+.2f} dB" if w.margin_db is not None else
                      f"{w.margin_hz / 1e6:+.3f} MHz from the window" if w.margin_hz is not None else "not evaluated")

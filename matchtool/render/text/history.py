@@ -77,7 +77,7 @@ def history_lines(h, width: int) -> list[str]:
                            f"{ff(lt.resonance_min_hz)}, max {ff(lt.resonance_max_hz)} ({lt.resonance_n} units)",
                            width, "  ", "    ")
         if lt.worst:
-            lines.append("  Worst failing units:")
+            lines.append("  Closest to failing:" if all(w.passed for w in lt.worst) else "  Worst failing units:")
             for w in lt.worst:
                 m = (signed(w.margin_db, 2, "dB") if w.margin_db is not None else
                      signed(w.margin_hz / 1e6, 3, "MHz") + " from the window" if w.margin_hz is not None else
