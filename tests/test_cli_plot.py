@@ -111,15 +111,16 @@ def test_plot_spec_prints_its_verdict_and_exits_as_the_readme_says(cli, tmp_path
 
 
 def test_a_figure_kind_of_another_capability_is_one_registry_line(cli, tmp_path, monkeypatch):
-    # the registry other plot kinds (distance, isolation, ecc) join: "kind -> (compute, draw)"
+    # the registry other plot kinds (distance, isolation, ecc, tarc) join: one FigureKind line
     import sys
     import types
 
     mod = types.ModuleType("fake_kind")
     seen = {}
 
-    def compute(sweep):
+    def compute(sweep, velocity_factor=None):
         seen["points"] = sweep.f_hz.size
+        seen["vf"] = velocity_factor
         return types.SimpleNamespace(warnings=("from the fake kind",))
 
     def draw(result, fileobj, fmt="png"):
@@ -127,10 +128,79 @@ def test_a_figure_kind_of_another_capability_is_one_registry_line(cli, tmp_path,
 
     mod.compute, mod.draw = compute, draw
     monkeypatch.setitem(sys.modules, "fake_kind", mod)
-    monkeypatch.setitem(plots.FIGURE_KINDS, "fake", ("fake_kind:compute", "fake_kind:draw"))
+    monkeypatch.setitem(plots.FIGURE_KINDS, "fake", plots.FigureKind("fake_kind:compute", "fake_kind:draw",
+                                                                     compute_options=("velocity_factor",)))
     out = tmp_path / "f.svg"
     r = cli("plot", R1, "--kind", "fake", "--out", out)
     assert r.code == 0 and out.read_bytes() == b"picture:svg" and seen["points"] == load(R1).f_hz.size
+    assert seen["vf"] is None  # an option not given is not passed
     assert "from the fake kind" in r.err
     r = cli("plot", R1, "--kind", "fake,smith", "--out", tmp_path / "g.svg")
     assert r.code == 2 and "alone" in r.err
+
+
+PAIR = str(ROOT / "sample_sweeps" / "wifi_pair.s2p")
+PAIR_SPEC = str(ROOT / "sample_sweeps" / "spec_wifi_pair.toml")
+VIA_CABLE = str(ROOT / "sample_sweeps" / "ant_r3_via_cable.s1p")
+
+
+@pytest.mark.parametrize("kind", ["isolation", "ecc", "tarc"])
+def test_coupling_kinds_draw_a_two_port_and_judge_the_spec(cli, tmp_path, kind):
+    out = tmp_path / f"{kind}.svg"
+    r = cli("plot", PAIR, "--kind", kind, "--spec", PAIR_SPEC, "--out", out, "--json")
+    # the sample misses its 10 dB isolation limit (about 8.5 dB, spec_wifi_pair.toml): exit 1
+    assert r.code == 1, r.err
+    doc = r.json()
+    assert doc["kinds"] == [kind] and doc["pass"] is False and doc["failing_files"] == [PAIR]
+    svg = out.read_text()
+    assert {"isolation": 'id="isolation:mask:A to B"', "ecc": 'id="ecc:mask:MIMO ECC"',
+            "tarc": 'id="tarc:worst"'}[kind] in svg
+
+
+def test_isolation_picture_draws_scikit_rfs_s21(tmp_path):
+    # |S21| in dB straight from scikit-rf (Network.s_db), independent of matchtool's coupling code
+    import skrf
+
+    from matchtool.coupling import analyze_coupling
+    from matchtool.render.plot_coupling import isolation_figure
+
+    net = skrf.Network(PAIR)
+    fig = isolation_figure(analyze_coupling(load(PAIR, port=1)))
+    line = by_gid(fig, "isolation:trace:S21")
+    np.testing.assert_allclose(line.get_ydata(), net.s_db[:, 1, 0], atol=1e-9)
+
+
+@pytest.mark.parametrize("kind", ["isolation", "ecc", "tarc"])
+def test_multi_port_kinds_refuse_a_one_port_file_in_one_line(cli, tmp_path, kind):
+    out = tmp_path / "x.png"
+    r = cli("plot", R1, "--kind", kind, "--out", out)
+    assert r.code == 2 and len(r.err_lines) == 1
+    assert f"--kind {kind} needs a multi-port file" in r.err and "ant_r1.s1p" in r.err
+    assert not out.exists()
+
+
+def test_distance_kind_draws_locates_reflections_with_the_gate(cli, tmp_path):
+    out = tmp_path / "d.svg"
+    r = cli("plot", VIA_CABLE, "--kind", "distance", "--velocity-factor", "0.66", "--gate", "2.5m:4m",
+            "--max-distance", "10m", "--out", out, "--json")
+    assert r.code == 0, r.err
+    assert r.json()["kinds"] == ["distance"] and r.json()["pass"] is None
+    svg = out.read_text()
+    assert 'id="distance:gate"' in svg and 'id="distance:peak:1"' in svg
+    loc = cli("locate", VIA_CABLE, "--velocity-factor", "0.66", "--max-distance", "10m", "--json").json()
+    # the strongest reflection the picture labels is the one 'matchtool locate' lists first
+    assert f"{loc['peaks'][0]['distance_m']:.2f} m" in svg
+
+
+@pytest.mark.parametrize("args,needle", [
+    (["--kind", "distance"], "--velocity-factor: is needed to turn time into distance"),
+    (["--kind", "distance", "--velocity-factor", "0.66", "--gate", "4m:2m"], "must start at 0 or later"),
+    (["--kind", "distance", "--velocity-factor", "0.66", "--band", "902MHz:928MHz"], "--band is not drawn"),
+    (["--kind", "return-loss", "--velocity-factor", "0.66"], "--velocity-factor applies to the distance picture"),
+    (["--kind", "distance", "--velocity-factor", "0.66", "--title", "T"], "carries its own title"),
+])
+def test_distance_kind_usage_errors_are_one_line_exit_2(cli, tmp_path, args, needle):
+    out = tmp_path / "d.png"
+    r = cli("plot", VIA_CABLE, *args, "--out", out)
+    assert r.code == 2 and len(r.err_lines) == 1 and needle in r.err, r.err
+    assert not out.exists()

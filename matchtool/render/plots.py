@@ -41,13 +41,45 @@ if TYPE_CHECKING:  # pragma: no cover
 KINDS = ("return-loss", "s11-db", "vswr", "smith", "impedance")
 """The panels drawn from reflection sweeps (several may share one picture)."""
 
-FIGURE_KINDS: dict[str, tuple[str, str]] = {}
-"""Kinds drawn by another capability's own module, one picture each: ``kind -> ("module:compute",
-"module:draw")``. ``compute(sweep)`` returns that capability's result, ``draw(result,
-path_or_fileobj, fmt)`` writes the picture. Adding one is one line, e.g.::
+@dataclass(frozen=True)
+class FigureKind:
+    """A picture drawn by another capability's own module (one sweep, one picture).
 
-    FIGURE_KINDS["distance"] = ("matchtool.locate:locate", "matchtool.render.plot_locate:draw_distance")
-"""
+    ``compute`` and ``draw`` are ``"module:function"`` references, imported on use:
+    ``compute(sweep, **options)`` returns that capability's result and ``draw(result,
+    path_or_fileobj, fmt, **options)`` writes the picture. ``compute_options`` / ``draw_options``
+    name the keyword arguments each takes from the command's options (the others are not passed);
+    ``multiport`` kinds need a file with two or more ports; ``needs`` lists the options the kind
+    cannot do without (``--velocity-factor``...), ``what`` says what the picture shows (for help)."""
+
+    compute: str
+    draw: str
+    what: str = ""
+    multiport: bool = False
+    compute_options: tuple[str, ...] = ()
+    draw_options: tuple[str, ...] = ()
+
+    @staticmethod
+    def pick(names: Sequence[str], options: dict[str, Any]) -> dict[str, Any]:
+        """The entries of ``options`` named in ``names`` whose value is set (not None)."""
+        return {k: options[k] for k in names if options.get(k) is not None}
+
+
+FIGURE_KINDS: dict[str, FigureKind] = {
+    "distance": FigureKind("matchtool.locate:analyze", "matchtool.render.plot_locate:draw_distance",
+                           "reflection versus distance along the feed (needs --velocity-factor)",
+                           compute_options=("velocity_factor", "gate_m", "gate_s", "max_distance_m")),
+    "isolation": FigureKind("matchtool.coupling:analyze_coupling", "matchtool.render.plot_coupling:draw_isolation",
+                            "every |S_ij| in dB with the spec's isolation limits (multi-port file)",
+                            multiport=True, compute_options=("bands",), draw_options=("masks",)),
+    "ecc": FigureKind("matchtool.coupling:analyze_coupling", "matchtool.render.plot_coupling:draw_ecc",
+                      "envelope correlation of every pair with the spec's ECC limits (multi-port file)",
+                      multiport=True, compute_options=("bands",), draw_options=("masks",)),
+    "tarc": FigureKind("matchtool.coupling:analyze_coupling", "matchtool.render.plot_coupling:draw_tarc",
+                       "total active reflection, worst and best over the excitation phases (multi-port file)",
+                       multiport=True, compute_options=("bands",)),
+}
+"""Kinds drawn by another capability's own module, one picture each. Adding one is one line."""
 
 
 def figure_kind(kind: str):
@@ -58,8 +90,10 @@ def figure_kind(kind: str):
         mod, _, name = ref.partition(":")
         return getattr(importlib.import_module(mod), name)
 
-    compute, draw = FIGURE_KINDS[kind]
-    return load(compute), load(draw)
+    fk = FIGURE_KINDS[kind]
+    return load(fk.compute), load(fk.draw)
+
+
 FORMATS = ("png", "svg", "pdf")
 
 # name, hex colour, in the order traces take them. CIE L* (lightness): 22, 74, 40, 58, 31, 80 - the
