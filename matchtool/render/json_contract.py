@@ -529,11 +529,13 @@ def plot_doc(out: str, inputs, kinds, warnings, passed: bool | None = None,
 
 
 def report_doc(out: str, inputs, passed: bool, judged: bool, failing_files=(), budget_closes: bool | None = None,
-               warnings=()) -> dict[str, Any]:
+               warnings=(), sections=()) -> dict[str, Any]:
     """The ``report --json`` document: the page written, its inputs, the verdict (``pass``; whether
-    anything was judged: a spec or a budget), the files failing the spec and whether the budget closes."""
+    anything was judged: a spec or a budget), the files failing the spec, whether the budget closes
+    and the ids of the page's sections, in page order."""
     return {"out": str(out), "inputs": [str(x) for x in inputs], "pass": passed, "judged": judged,
-            "failing_files": list(failing_files), "budget_pass": budget_closes, "warnings": list(warnings)}
+            "failing_files": list(failing_files), "budget_pass": budget_closes, "sections": list(sections),
+            "warnings": list(warnings)}
 # --- match ---------------------------------------------------------------------------------------
 
 def _none_if_inf(x: float | None) -> float | None:
