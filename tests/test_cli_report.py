@@ -320,3 +320,23 @@ def test_store_adds_the_lot_page_with_the_stores_counts(cli, tmp_path):
     assert_self_contained(out.read_text())
     r = cli("report", files[2], "--store", tmp_path / "none.db", "--out", tmp_path / "n.html")
     assert r.code == 2 and len(r.err_lines) == 1 and "none.db" in r.err
+
+
+def test_sweeps_section_honours_min_band_width(cli, tmp_path):
+    # 101 points 800-1000 MHz; RL 5 dB but 20 dB on 900-920 MHz (a band 22.667 MHz wide, derived in
+    # test_cli_inspect) and one 12 dB sample at 850 MHz (a noise-level crossing)
+    import numpy as np
+    from helpers import s1p_text
+
+    f = np.linspace(800e6, 1000e6, 101)
+    rl = np.where((f >= 900e6) & (f <= 920e6), 20.0, np.where(np.isclose(f, 850e6), 12.0, 5.0))
+    p = tmp_path / "spiky.s1p"
+    p.write_text(s1p_text(f, 10 ** (-rl / 20) + 0j))
+    for width, bands, noise in (("1MHz", 1, 1), ("30MHz", 0, 2)):
+        out = tmp_path / f"r{width}.html"
+        assert cli("report", p, "--min-band-width", width, "--kind", "return-loss", "--out", out).code == 0
+        text = html.unescape(out.read_text())
+        sweeps = text[text.index('<section id="sweeps">'):text.index('<section id="plots">')]
+        assert sweeps.count("wide)") == noise and "Noise-level crossings, not bands" in sweeps
+        assert ("none wide enough to count" in sweeps) == (bands == 0)
+        assert "never reaches the threshold" not in sweeps  # it does reach it, if only for noise

@@ -181,7 +181,11 @@ def min_band_width(text: str | None) -> float | None:
     """``--min-band-width`` in Hz (None: the default rule of ``bands.search_bands``)."""
     if text is None:
         return None
-    f = parse_frequency(text)
+    try:
+        f = parse_frequency(text)
+    except UsageError as exc:
+        raise UsageError(exc.what, parameter="min_band_width_hz", value=text,
+                         expected="a width such as 1MHz, 500kHz or 0") from None
     if f < 0:
         raise UsageError("must not be negative", parameter="min_band_width_hz", value=text)
     return f

@@ -54,6 +54,8 @@ def inspect_doc(s) -> dict[str, Any]:
         "threshold_return_loss_db": s.threshold_return_loss_db,
         "best": point_doc(s.best),
         "bands": [band_doc(b) for b in s.bands],
+        "min_band_width_hz": s.min_band_width_hz,
+        "noise_crossings": [band_doc(b) for b in s.noise_crossings],
         "at": [point_doc(p) for p in s.at],
         "warnings": list(s.warnings),
     }
@@ -61,7 +63,8 @@ def inspect_doc(s) -> dict[str, Any]:
 
 def _port_line(s) -> dict[str, Any]:
     """One port's best match and bands (a ``summary.SweepSummary``)."""
-    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands]}
+    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands],
+            "noise_crossings": [band_doc(b) for b in s.noise_crossings]}
 
 
 def inspect_overview_doc(m) -> dict[str, Any]:

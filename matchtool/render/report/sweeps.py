@@ -31,5 +31,13 @@ def section(ctx, names) -> h.Section:
                                             ("runs past the sweep stop", x.clipped_high)) if on)] for x in s.bands],
                 [True, True, True, True, True, False], caption=cap))
         else:
-            parts.append(h.paragraph(f"{cap}: none - the sweep never reaches the threshold."))
+            why = ("none wide enough to count (below)" if s.noise_crossings
+                   else "none - the sweep never reaches the threshold")
+            parts.append(h.paragraph(f"{cap}: {why}."))
+        if s.noise_crossings:
+            parts.append(h.paragraph(
+                f"Noise-level crossings, not bands (narrower than {computed_frequency(s.min_band_width_hz)} or under "
+                "2 samples; never used in a verdict): " + "; ".join(
+                    f"{ff(x.f_low_hz)} to {ff(x.f_high_hz)} ({computed_frequency(x.bandwidth_hz)} wide)"
+                    for x in s.noise_crossings) + ".", "note"))
     return h.Section("sweeps", "Sweeps (inspect metrics)", "\n".join(parts))

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from ...summary import PortsSummary, SweepSummary
 from ...units import format_frequency as ff
+from ..words import computed_frequency
 from . import console, fmt
 
 
@@ -30,7 +31,8 @@ def render(s: SweepSummary) -> None:
     thr = s.threshold_return_loss_db
     title = f"Bands with return loss >= {thr:.2f} dB ({_s(s)} <= {-thr:.2f} dB)"
     if not s.bands:
-        c.print(f"{title}: none - the sweep never reaches the threshold")
+        why = "none wide enough to count" if s.noise_crossings else "none - the sweep never reaches the threshold"
+        c.print(f"{title}: {why}")
     else:
         t = Table(title=title, title_justify="left", show_edge=False)
         for col in ("low edge", "high edge", "centre", "width", "fractional", "note"):
@@ -38,9 +40,12 @@ def render(s: SweepSummary) -> None:
         for band in s.bands:
             note = ", ".join(x for x, on in (("runs past the sweep start", band.clipped_low),
                                               ("runs past the sweep stop", band.clipped_high)) if on)
-            t.add_row(ff(band.f_low_hz), ff(band.f_high_hz), ff(band.f_center_hz), ff(band.bandwidth_hz),
+            t.add_row(ff(band.f_low_hz), ff(band.f_high_hz), computed_frequency(band.f_center_hz),
+                      computed_frequency(band.bandwidth_hz),
                       f"{100 * band.fractional_bandwidth:.2f} %", note)
         c.print(t)
+    if s.noise_crossings:
+        c.print(noise_line(s), soft_wrap=True)
     if s.at:
         t = Table(title="Values at chosen frequencies (interpolated in complex Gamma)", title_justify="left",
                   show_edge=False)
@@ -55,12 +60,21 @@ def render(s: SweepSummary) -> None:
         c.print(t)
 
 
+def noise_line(s: SweepSummary) -> str:
+    """The threshold crossings too narrow to be bands, said apart from the bands (never as bands)."""
+    spans = ", ".join(f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)} ({computed_frequency(b.bandwidth_hz)} wide)"
+                      for b in s.noise_crossings)
+    return (f"Noise-level crossings, not bands (narrower than {computed_frequency(s.min_band_width_hz)} or under 2 "
+            f"samples; see --min-band-width): {spans}")
+
+
 def _best_line(s: SweepSummary) -> str:
     thr = s.threshold_return_loss_db
     bands = ", ".join(f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)}"
                       + (" (runs past the sweep)" if b.clipped_low or b.clipped_high else "") for b in s.bands) or "none"
+    noise = f"; {len(s.noise_crossings)} noise-level crossing(s)" if s.noise_crossings else ""
     return (f"port {s.port}: best {ff(s.best.f_hz)} return loss {fmt(s.best.return_loss_db)} dB; "
-            f"bands >= {thr:.2f} dB: {bands}")
+            f"bands >= {thr:.2f} dB: {bands}{noise}")
 
 
 def render_ports(m: PortsSummary) -> None:
