@@ -204,3 +204,11 @@ def test_distance_kind_usage_errors_are_one_line_exit_2(cli, tmp_path, args, nee
     r = cli("plot", VIA_CABLE, *args, "--out", out)
     assert r.code == 2 and len(r.err_lines) == 1 and needle in r.err, r.err
     assert not out.exists()
+
+
+def test_spec_bands_of_another_port_are_not_drawn_on_this_ports_curve(cli, tmp_path):
+    # spec_wifi_pair.toml: "wifi" on port 1 and on port 2; the curve drawn is S11, so one band
+    out = tmp_path / "rl.svg"
+    r = cli("plot", PAIR, "--spec", PAIR_SPEC, "--out", out)
+    assert r.code == 1, r.err  # the isolation requirement fails
+    assert out.read_text().count('id="return-loss:bandbracket:wifi"') == 1

@@ -118,7 +118,14 @@ def requirement_cells(q: Any, limit_unit: bool = True) -> tuple[str, str, str, s
     d = 3 if q.key == "max_vswr" else 2
     worst, lim = distinct(q.worst, q.limit, d)
     return (verdict, f"{worst} {q.unit}", f"{q.worst_f_hz / 1e6:.3f} MHz", f"{lim} {q.unit}" if limit_unit else lim,
-            margin(q.margin_db, 2, "dB", q.passed))
+            _margin_of(q))
+
+
+def _margin_of(q: Any) -> str:
+    """A requirement's signed margin: dB, or for an ECC limit the ECC below it (dimensionless)."""
+    if q.margin_db is None and getattr(q, "margin_ecc", None) is not None:
+        return margin(q.margin_ecc, 3, "ECC", q.passed)
+    return margin(q.margin_db, 2, "dB", q.passed)
 
 
 def requirement_verdict_sentence(v: Any, names: Mapping[str, str] | None = None) -> str:
@@ -134,8 +141,7 @@ def requirement_verdict_sentence(v: Any, names: Mapping[str, str] | None = None)
     else:
         d = 3 if v.key == "max_vswr" else 2
         worst, lim = distinct(b.worst, b.limit, d)
-        what = (f"worst {worst} {v.unit} at {mhz(b.worst_f_hz)} MHz, limit {lim} {v.unit}, "
-                f"margin {margin(b.margin_db, 2, 'dB', b.passed)}")
+        what = f"worst {worst} {v.unit} at {mhz(b.worst_f_hz)} MHz, limit {lim} {v.unit}, margin {_margin_of(b)}"
     text = f"{v.name}: best is {_nm(names, v.best_file)} ({what}); {len(v.passing_files)} of {n} pass"
     if v.failing_files:
         text += f" (failing: {', '.join(_nm(names, f) for f in v.failing_files)})"
