@@ -8,8 +8,10 @@ from helpers import ROOT
 
 from matchtool import matching as mt
 from matchtool import reflection as rf
-from matchtool.commands.plot import match_traces, propose_match
+from matchtool.proposal import MatchRequest, propose
 from matchtool.render import plots
+from matchtool.render.plots import match_traces
+from matchtool.render.words import network_text
 from matchtool.sweep import load
 
 R1 = str(ROOT / "sample_sweeps" / "ant_r1.s1p")
@@ -31,9 +33,9 @@ def test_matched_curve_is_matchings_evaluation_of_matchs_network(cli, target, pi
     doc = cli("match", R1, *opts, "--json").json()
     elements = _elements(doc["candidates"][pick - 1])
     sw = load(R1)
-    at = target[1] if target[0] == "--at" else None
-    band = target[1] if target[0] == "--band" else None
-    pm = propose_match(sw, at, band, 10.0, "E12", 40, 300, pick=pick)
+    at = 915e6 if target[0] == "--at" else None
+    band = (902e6, 928e6) if target[0] == "--band" else None
+    pm = propose(sw, MatchRequest(f0_hz=at, band_hz=band, series="E12", q=mt.PartQ(40.0, 300.0), pick=pick), 10.0)
     assert pm.candidate.elements == elements  # the same network as `matchtool match` ranks there
     q = mt.PartQ(40.0, 300.0)
     expected = mt.evaluate(sw.f_hz, sw.gamma, sw.z0_ohm, [(e.kind, e.connection) for e in elements],
@@ -48,7 +50,7 @@ def test_matched_curve_is_matchings_evaluation_of_matchs_network(cli, target, pi
     np.testing.assert_allclose(smith.get_xdata(), expected.real)
     np.testing.assert_allclose(smith.get_ydata(), expected.imag)
     # the legend names the network, in match's own part notation
-    assert pm.network_text in traces[1].label
+    assert network_text(pm.candidate.elements) in traces[1].label
     assert doc["candidates"][pick - 1]["worst_return_loss_db"] == pytest.approx(pm.candidate.worst_return_loss_db)
 
 
@@ -56,7 +58,7 @@ def test_exact_l_network_at_one_frequency_is_a_perfect_match_there():
     # A lossless L-section with exact values transforms the load to Z0 at the design frequency
     # (Pozar, Microwave Engineering, 4th ed., sec. 5.1): the matched return loss there is very high.
     sw = load(R1)
-    pm = propose_match(sw, 915e6, None, 10.0, "exact")
+    pm = propose(sw, MatchRequest(f0_hz=915e6, series="exact"), 10.0)
     g = complex(np.interp(915e6, sw.f_hz, pm.gamma_after.real) + 1j * np.interp(915e6, sw.f_hz, pm.gamma_after.imag))
     assert 915e6 in sw.f_hz  # on a sample: no interpolation error
     assert float(rf.return_loss_db(abs(g))) > 40.0
@@ -69,8 +71,6 @@ def test_plot_match_cli_writes_svg_naming_the_network(cli, tmp_path):
     svg = out.read_text()
     doc = cli("match", R1, "--band", "902MHz:928MHz", "--q-inductor", "40", "--json").json()
     best = _elements(doc["candidates"][0])
-    from matchtool.commands.plot import network_text
-
     assert network_text(best) in svg and "ant_r1.s1p measured" in svg and "Proposed match" in svg
     assert "Smith chart" in svg and "Return loss" in svg  # default kinds with --match
 

@@ -14,11 +14,10 @@ import typer
 from ..compare import revisions, spec_band_limits
 from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write, check_output
-from ..proposal import ProposedMatch, propose
+from ..proposal import propose
 from ..render.json_contract import emit_json, plot_doc
-from ..render.plots import match_traces  # noqa: F401  (re-exported: the before/after traces)
 from ..render.text import warn
-from ..render.words import network_text, spec_verdict_line  # noqa: F401  (network_text re-exported)
+from ..render.words import spec_verdict_line
 from ..summary import threshold_from_options
 from ..sweep import load
 from ..units import parse_length
@@ -99,25 +98,6 @@ MatchAtOpt = Annotated[str | None, typer.Option("--at", metavar="FREQ",
                                                 help="Match at one frequency, e.g. 915MHz (with --match).")]
 
 
-class ShownMatch(ProposedMatch):
-    """A ProposedMatch that also names its network (for callers of :func:`propose_match`)."""
-
-    @property
-    def network_text(self) -> str:
-        return network_text(self.candidate.elements)
-
-
-def propose_match(sweep, at, band, threshold_return_loss_db: float, series: str = "E24", q_inductor=None,
-                  q_capacitor=None, c_range=None, l_range=None, pick: int = 1,
-                  option_names: tuple[str, str] = ("--at", "--band")):
-    """The match options as ``matchtool match`` reads them -> :func:`matchtool.proposal.propose`."""
-    from dataclasses import fields
-
-    req = match_request(at, band, series, q_inductor, q_capacitor, c_range, l_range, pick, option_names)
-    pm = propose(sweep, req, threshold_return_loss_db)
-    return ShownMatch(*(getattr(pm, f.name) for f in fields(pm)))
-
-
 def register(app: typer.Typer) -> None:
     @app.command("plot", epilog=EPILOG)
     def plot_cmd(
@@ -183,8 +163,9 @@ def register(app: typer.Typer) -> None:
             warnings += [w for w in verdict.warnings if w not in warnings]
         if match:
             target = None if at is not None else (bands[0].f_low_hz, bands[0].f_high_hz)
-            pm = propose_match(loaded[0], at, target, thr, series, q_inductor, q_capacitor, c_range, l_range, pick)
-            traces = match_traces(pm, thr, labels[0])
+            req = match_request(at, target, series, q_inductor, q_capacitor, c_range, l_range, pick)
+            pm = propose(loaded[0], req, thr)
+            traces = plots.match_traces(pm, thr, labels[0])
             title = title or plots.match_title(pm, labels[0])
             warnings += [w for w in pm.warnings if w not in warnings]
         else:

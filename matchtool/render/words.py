@@ -214,25 +214,18 @@ def mismatch_cost_line(res: Any) -> str:
 
 # --- match ------------------------------------------------------------------------------------
 
-def _match_views():
-    """The match engineer's part notation and schematic (render/text/match.py once it moves
-    there; commands/match.py until then), so the report prints parts as 'matchtool match' does."""
-    try:
-        from .text import match as m  # type: ignore[attr-defined]
-
-        return m.part_value_text, m.schematic
-    except ImportError:
-        from ..commands import match as m
-
-        return m.part_value_text, m.schematic
-
-
 def part_text(e: Any) -> str:
-    return _match_views()[0](e)
+    """A part's value as 'matchtool match' prints it (render/text/match.py's notation)."""
+    from .text.match import part_value_text
+
+    return part_value_text(e)
 
 
 def schematic(elements: Any, z0_ohm: float) -> str:
-    return _match_views()[1](elements, z0_ohm)
+    """The text schematic of a network, as 'matchtool match' draws it."""
+    from .text.match import schematic as draw
+
+    return draw(elements, z0_ohm)
 
 
 def network_text(elements: Any) -> str:
