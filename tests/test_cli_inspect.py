@@ -214,3 +214,30 @@ def test_summarize_takes_an_skrf_network(tmp_path):
     s = matchtool.summarize(skrf.Network(str(p)))
     assert len(s.bands) == 1 and len(s.noise_crossings) == 1
     assert s.best.return_loss_db == pytest.approx(20.0)  # the 20 dB samples written above
+
+
+def test_console_honours_columns_and_keeps_140_only_without_it(monkeypatch):
+    from matchtool.render.text import NO_TERMINAL_COLUMNS, console
+
+    monkeypatch.delenv("COLUMNS", raising=False)
+    assert console().width == NO_TERMINAL_COLUMNS == 140  # stdout is captured: not a terminal
+    monkeypatch.setenv("COLUMNS", "80")
+    assert console().width == 80
+    monkeypatch.setenv("COLUMNS", "wide")  # not a number: ignored
+    assert console().width == 140
+
+
+@pytest.mark.parametrize("argv", [
+    ["inspect", "sample_sweeps/ant_r1.s1p", "--at", "902MHz", "--at", "928MHz"],
+    ["match", "sample_sweeps/ant_r1.s1p", "--band", "902MHz:928MHz", "--q-inductor", "40", "--q-capacitor", "200",
+     "--tolerance", "5"],
+])
+def test_columns_80_renders_at_80(cli, monkeypatch, argv):
+    from helpers import ROOT
+
+    monkeypatch.setenv("COLUMNS", "80")
+    r = cli(*[str(ROOT / a) if a.startswith("sample_sweeps/") else a for a in argv])
+    assert r.code == 0, r.err
+    lines = r.out.splitlines()
+    assert lines and max(len(ln) for ln in lines) <= 80, max(lines, key=len)
+    assert "…" not in r.out  # nothing cut
