@@ -16,7 +16,7 @@ from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write, check_output
 from ..proposal import propose
 from ..render.json_contract import emit_json, plot_doc
-from ..render.text import warn
+from ..render.text import say, warn
 from ..render.words import spec_verdict_line
 from ..summary import threshold_from_options
 from ..sweep import load
@@ -181,7 +181,7 @@ def register(app: typer.Typer) -> None:
             print(f"wrote {out}")
             if verdict is not None:
                 shown = dict(zip([s.path for s in loaded], labels, strict=True))
-                print(f"spec {the_spec.path}: " + spec_verdict_line(verdict, shown))
+                say(f"spec {the_spec.path}: " + spec_verdict_line(verdict, shown))
             warn(warnings)
         # exit 1 for a failing spec requirement (the picture is still written); --band limits inform
         return ExitStatus.FAIL if failed else ExitStatus.OK
@@ -230,6 +230,6 @@ def _figure_kind(kind, loaded, paths, out, fmt, force, json_out, bands, spec, th
         print(f"wrote {out}")
         if verdict is not None:
             shown = dict(zip([s.path for s in loaded], plots.legend_labels([s.path for s in loaded]), strict=True))
-            print(f"spec {spec.path}: " + spec_verdict_line(verdict, shown))
+            say(f"spec {spec.path}: " + spec_verdict_line(verdict, shown))
         warn(warnings)
     return ExitStatus.FAIL if failed else ExitStatus.OK

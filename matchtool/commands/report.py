@@ -15,7 +15,7 @@ import typer
 from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write, check_output
 from ..render.json_contract import emit_json, report_doc
-from ..render.text import warn
+from ..render.text import say, warn
 from ..render.words import spec_verdict_line
 from ..report import build_report
 from ..summary import threshold_from_options
@@ -197,10 +197,10 @@ def register(app: typer.Typer) -> None:
             print(f"wrote {out} ({verdict})")
             names = page.display_names(ctx)
             if c.spec_path is not None:
-                print(f"spec {c.spec_path}: {spec_verdict_line(c, names)}")
+                say(f"spec {c.spec_path}: {spec_verdict_line(c, names)}")
             if ctx.budget is not None:
                 from ..render.report.summary import budget_headline
 
-                print(budget_headline(ctx.budget))
+                say(budget_headline(ctx.budget))
             warn(ctx.warnings)
         return ExitStatus.FAIL if ctx.failed else ExitStatus.OK

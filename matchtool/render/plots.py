@@ -107,7 +107,7 @@ PALETTE = (
     ("sky", "#8fd0f0"),
 )
 DASHES = ("-", (0, (6, 2)), (0, (1.5, 1.5)), (0, (6, 2, 1.5, 2)), (0, (3, 1.2)), (0, (8, 2, 1.5, 2, 1.5, 2)))
-MARKERS = ("o", "s", "^", "D", "v", "P")
+MARKERS = ("o", "s", "^", "D", "X", "P")  # no downward triangle: it reads as a limit or a fault mark
 BAND_FILL = "#e4e4e4"  # light grey: band spans stay visible when printed in black and white
 MASK_COLOR = "#222222"
 MASK_TINT = "#a83a24"  # the forbidden side of a limit: a light brick tint (alpha below), never hatching

@@ -9,10 +9,13 @@ from ..words import computed_frequency, fixed
 
 def section(ctx, names) -> h.Section:
     parts = []
+    nports = {sw.path: sw.nports for sw in ctx.sweeps}
     for s in ctx.summaries:
         b = s.best
         z = b.z_ohm
-        parts.append(f"<h3>{h.esc(names[s.path])}</h3>")
+        n = nports.get(s.path, 1)
+        shown = names[s.path] + (f", port {s.port} (S{s.port}{s.port} of a {n}-port file)" if n > 1 else "")
+        parts.append(f"<h3>{h.esc(shown)}</h3>")
         parts.append(h.table(["port", "Z0 ohm", "points", "start", "stop"],
                              [[s.port, f"{s.z0_ohm:g}", s.points, ff(s.f_start_hz), ff(s.f_stop_hz)]],
                              [False, True, True, True, True], caption="Sweep"))

@@ -43,3 +43,10 @@ def warn(messages) -> None:
     """Print warnings to stderr, one line each."""
     for m in messages:
         print(f"warning: {' '.join(str(m).split())}", file=sys.stderr)
+
+
+def say(text: str) -> None:
+    """A sentence on stdout, wrapped at word boundaries to the console's width (never cut)."""
+    from .tables import say as wrapped
+
+    wrapped(console(), text)
