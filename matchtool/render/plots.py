@@ -115,6 +115,7 @@ MASK_ALPHA = 0.11
 BEST_MARKER = "H"  # matchtool's best-match mark: an open hexagon ringed in the trace's colour
 BAND_ROW_PT = 15.0  # height of one row of band brackets above the axes (points)
 THRESHOLD_COLOR = "#555555"
+LEGEND_TWO_COLUMN_CHARS = 44  # the longest label a two-column legend takes under a 7.2-inch panel
 RL_CAP_DB = 60.0  # a return loss above this (or infinite) is drawn at the top of the axis
 
 
@@ -307,7 +308,10 @@ def _legend_below(ax: Axes, gap: float = 0.13, extra: Sequence[Any] = ()) -> Non
     handles = list(handles) + list(extra)
     labels = list(labels) + [h.get_label() for h in extra]
     n = len(labels)
-    ax.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
+    # two columns only while the labels are short: long ones (a network's parts) would push the
+    # legend past the picture's edges
+    two = n > 3 and max((len(x) for x in labels), default=0) <= LEGEND_TWO_COLUMN_CHARS
+    ax.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if two else 1, frameon=False)
 
 
 def _span(traces: Sequence[Trace]) -> tuple[float, float]:
@@ -548,7 +552,8 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
         if bands:
             marks = [(b.name, f) for b in bands for f in (b.f_low_hz, b.f_high_hz)]
         else:
-            marks = [(f"{t.label} band {k + 1}" if len(traces) > 1 else f"band {k + 1}", f)
+            # a trace's short name (before the parts list of a matched trace) keeps the legend narrow
+            marks = [(f"{t.label.split(':')[0]} band {k + 1}" if len(traces) > 1 else f"band {k + 1}", f)
                      for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
         for name in dict.fromkeys(m[0] for m in marks):
             pts = [(f, _gamma_at(t, f)) for n, f in marks if n == name]
