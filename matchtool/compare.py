@@ -195,8 +195,12 @@ class BandVerdict:
 
 def requirement_margin(r: RequirementResult) -> float | None:
     """The margin that ranks revisions on one requirement: ``margin_db`` (dB, positive when
-    passing), or ``margin_hz`` for the resonance window (Hz inside the window); None if not evaluated."""
-    return r.margin_db if r.margin_db is not None else r.margin_hz
+    passing), ``margin_hz`` for the resonance window (Hz inside the window) or ``margin_ecc`` for an
+    envelope-correlation limit (limit minus worst); None if not evaluated."""
+    for m in (r.margin_db, r.margin_hz, getattr(r, "margin_ecc", None)):
+        if m is not None:
+            return m
+    return None
 
 
 @dataclass(frozen=True)
@@ -317,7 +321,10 @@ def revisions(sweeps_or_networks: Sequence[Any], threshold_return_loss_db: float
     adhoc = [as_band(b) for b in bands]
     all_bands = list(adhoc)
     if spec is not None:  # measured without a limit: their verdicts are the spec requirements
-        all_bands += [BandOfInterest(b.name, float(b.f_low_hz), float(b.f_high_hz), None) for b in spec.bands]
+        # only the bands of the analysed port: a band of another port is judged on that port's own
+        # reflection by spec.evaluate, and measuring it here on this port's would show wrong numbers
+        all_bands += [BandOfInterest(b.name, float(b.f_low_hz), float(b.f_high_hz), None)
+                      for b in spec_port_bands(spec, sweeps[0].port)]
     rows: list[Revision] = []
     warnings: list[str] = [] if spec is None else list(spec.warnings)
     base_bands: tuple[Band, ...] = ()
@@ -393,12 +400,20 @@ def compare(sweeps: Sequence[Any], threshold_return_loss_db: float = 10.0, bands
     return revisions(sweeps, threshold_return_loss_db, bands, spec, min_band_width_hz)
 
 
-def spec_band_limits(spec: Spec, given: Iterable[Any] = ()) -> tuple[BandOfInterest, ...]:
-    """The bands of a spec with their limits as minimum return loss (every limit key converted),
-    for shading and masks in pictures; a band equal to one of ``given`` (same name, edges and
-    limit) is left out, so it is not drawn twice."""
+def spec_port_bands(spec: Spec, port: int | None = None) -> tuple[Any, ...]:
+    """The ``[[band]]`` requirements of ``spec`` on ``port`` (1-based; default the spec's port):
+    the bands whose reflection is that port's."""
+    p = spec.port if port is None else port
+    return tuple(b for b in spec.bands if getattr(b, "port", spec.port) == p)
+
+
+def spec_band_limits(spec: Spec, given: Iterable[Any] = (), port: int | None = None) -> tuple[BandOfInterest, ...]:
+    """The bands of a spec on ``port`` (default the spec's port, the reflection a sweep loaded for
+    the spec shows) with their limits as minimum return loss (every limit key converted), for
+    shading and masks in pictures; a band equal to one of ``given`` (same name, edges and limit)
+    is left out, so it is not drawn twice."""
     seen = {as_band(b) for b in given}
-    return tuple(b for b in map(as_band, spec.bands) if b not in seen)
+    return tuple(b for b in map(as_band, spec_port_bands(spec, port)) if b not in seen)
 
 
 def band_name(f_low_hz: float, f_high_hz: float) -> str:

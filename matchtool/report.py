@@ -115,12 +115,23 @@ def build_report(sweeps: Sequence[Sweep], threshold_return_loss_db: float = 10.0
                  bands: Sequence[BandOfInterest] = (), spec=None, kinds: Sequence[str] = ("return-loss",),
                  match_request: MatchRequest | None = None, match_index: int = 0, budget_path: str | None = None,
                  port: int = 1, z0_ohm: float | None = None, min_band_width_hz: float | None = None,
-                 extras: Mapping[str, Any] | None = None) -> ReportContext:
+                 extras: Mapping[str, Any] | None = None, coupling: bool = True,
+                 locate: Mapping[str, Any] | None = None, qfactor: Mapping[str, Any] | None = None,
+                 history: Mapping[str, Any] | None = None) -> ReportContext:
     """Compute everything a report shows. ``sweeps`` are loaded (the first is the baseline);
-    ``match_index`` chooses which one the match is designed for; ``budget_path`` a budget TOML.
+    ``match_index`` chooses which one the match is designed for; ``budget_path`` a budget TOML;
+    ``min_band_width_hz`` the narrowest threshold band that counts (summaries and comparison).
 
-    Every input (sweeps, spec, golden unit, budget and the sweeps it names) is hashed once. A
-    file that cannot be read raises before anything is computed."""
+    Further capabilities land in ``extras`` (each a tuple with one result per sweep, in order):
+    ``extras["coupling"]`` the :func:`matchtool.coupling.analyze_coupling` result of every
+    multi-port sweep (when ``coupling``); ``extras["locate"]`` :func:`matchtool.locate.analyze` of
+    every sweep with the keyword arguments ``locate`` (``velocity_factor``, ``max_distance_m``...);
+    ``extras["qfactor"]`` :func:`matchtool.antenna.qfactor` of every sweep with ``qfactor``
+    (``radius_m``, ``capped``: a path, one sweep only); ``extras["history"]`` the
+    :func:`matchtool.history.history` result (``series=True``) for ``history`` (``stores``, ``lot``).
+
+    Every input (sweeps, spec, golden unit, budget and the sweeps it names, a capped sweep) is
+    hashed once. A file that cannot be read raises before anything is computed."""
     from .budget import evaluate
 
     if not sweeps:
@@ -136,18 +147,58 @@ def build_report(sweeps: Sequence[Sweep], threshold_return_loss_db: float = 10.0
     if budget_path is not None:
         budget_in, named = budget_inputs(budget_path)
         names += [budget_path, *named]
+    capped = None if qfactor is None else qfactor.get("capped")
+    if capped is not None:
+        if len(sweeps) != 1:
+            raise UsageError(f"a capped sweep belongs to one antenna, {len(sweeps)} sweeps given",
+                             parameter="capped", expected="one SWEEP with a capped sweep")
+        names.append(str(capped))
     resolved = [str(Path(p).resolve()) for p in names]
     inputs = tuple(hash_file(p) for k, p in enumerate(names) if resolved[k] not in resolved[:k])
     pm = None if match_request is None else propose(sweeps[match_index], match_request, threshold_return_loss_db)
     link = None if budget_in is None else evaluate(budget_in)
     c = revisions(sweeps, threshold_return_loss_db, bands, spec=spec, min_band_width_hz=min_band_width_hz)
+    more = dict(extras or {})
+    more.update(_capabilities(sweeps, threshold_return_loss_db, coupling, locate, qfactor, history, spec))
     warnings = list(c.warnings)
-    for extra in ((pm.warnings if pm else ()), (link.warnings if link else ())):
+    found = [pm.warnings if pm else (), link.warnings if link else ()]
+    for value in more.values():
+        found += [getattr(r, "warnings", ()) for r in (value if isinstance(value, tuple) else (value,))]
+    for extra in found:
         warnings.extend(w for w in extra if w not in warnings)
     return ReportContext(
-        sweeps=tuple(sweeps), summaries=tuple(summarize(s, threshold_return_loss_db) for s in sweeps), comparison=c,
+        sweeps=tuple(sweeps), summaries=tuple(summarize(s, threshold_return_loss_db, min_band_width_hz=min_band_width_hz)
+                                                for s in sweeps), comparison=c,
         threshold_return_loss_db=float(threshold_return_loss_db), bands=c.bands,
         mask_bands=tuple(bands) + (() if spec is None else spec_band_limits(spec, bands)), kinds=tuple(kinds), inputs=inputs,
         generated=report_time(), port=port, z0_ohm=z0_ohm, spec_path=None if spec is None else spec.path,
         match=pm, match_index=match_index, match_request=match_request, budget=link, budget_path=budget_path,
-        extras=dict(extras or {}), warnings=tuple(warnings))
+        extras=more, warnings=tuple(warnings))
+
+
+def _capabilities(sweeps: Sequence[Sweep], threshold_return_loss_db: float, coupling: bool,
+                  locate: Mapping[str, Any] | None, qfactor: Mapping[str, Any] | None,
+                  history: Mapping[str, Any] | None, spec=None) -> dict[str, Any]:
+    """The results of the further capabilities a report shows (see :func:`build_report`)."""
+    out: dict[str, Any] = {}
+    multi = [s for s in sweeps if s.nports > 1]
+    if coupling and multi:
+        from .coupling import analyze_coupling
+
+        out["coupling"] = tuple(analyze_coupling(s) for s in multi)
+        if spec is not None and (spec.isolations or spec.correlations):
+            out["coupling_masks"] = spec
+    if locate is not None:
+        from .locate import analyze
+
+        out["locate"] = tuple(analyze(s, **dict(locate)) for s in sweeps)
+    if qfactor is not None:
+        from .antenna import qfactor as q_of
+
+        out["qfactor"] = tuple(q_of(s, threshold_return_loss_db=threshold_return_loss_db, **dict(qfactor))
+                               for s in sweeps)
+    if history is not None:
+        from .history import history as lots
+
+        out["history"] = lots(**{"series": True, **dict(history)})
+    return out

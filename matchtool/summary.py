@@ -3,13 +3,17 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from . import reflection as rf
-from .bands import Band, find_bands
+from .bands import Band, search_bands
 from .errors import UsageError
 from .sweep import Sweep, gamma_at_many
+
+if TYPE_CHECKING:  # pragma: no cover
+    import skrf
 
 
 @dataclass(frozen=True)
@@ -64,6 +68,11 @@ class SweepSummary:
     bands: list[Band]
     at: list[PointMetrics]
     warnings: list[str] = field(default_factory=list)
+    noise_crossings: list[Band] = field(default_factory=list)
+    """Threshold crossings narrower than ``min_band_width_hz`` (or holding too few samples): listed
+    apart, never bands."""
+    min_band_width_hz: float = 0.0
+    """The narrowest run that counted as a band (Hz)."""
 
 
 def threshold_from_options(min_return_loss_db: float | None = None, max_vswr: float | None = None,
@@ -100,11 +109,21 @@ def best_index(gamma: np.ndarray) -> int:
     return int(np.argmin(np.abs(gamma)))
 
 
-def summarize(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz: list[float] = ()) -> SweepSummary:
-    """Compute the inspect metrics of ``sweep`` (threshold in positive dB of return loss)."""
+def summarize(sweep: Sweep | skrf.Network | str, threshold_return_loss_db: float = 10.0, at_hz: list[float] = (),
+              min_band_width_hz: float | None = None, port: int | None = None,
+              z0_ohm: float | None = None) -> SweepSummary:
+    """Compute the inspect metrics of ``sweep`` (a loaded Sweep, an ``skrf.Network`` or a path;
+    ``port`` 1-based and ``z0_ohm`` as for :func:`matchtool.sweep.as_sweep`). Threshold in positive
+    dB of return loss; runs above it narrower than ``min_band_width_hz`` (Hz; default
+    :data:`matchtool.bands.MIN_BAND_FRACTION` of the span, and at least 2 samples) are
+    ``noise_crossings``, not bands."""
+    from .sweep import as_sweep
+
+    sweep = as_sweep(sweep, port=port, z0_ohm=z0_ohm)
     f, g = sweep.f_hz, sweep.gamma
     i = best_index(g)
-    bands = find_bands(f, rf.return_loss_db(g), threshold_return_loss_db)
+    found = search_bands(f, rf.return_loss_db(g), threshold_return_loss_db, min_band_width_hz)
+    bands = list(found.bands)
     at_hz = list(at_hz)
     values = gamma_at_many(f, g, np.asarray(at_hz, dtype=float), sweep.path) if at_hz else []
     at = [PointMetrics(float(q), complex(v), sweep.z0_ohm) for q, v in zip(at_hz, values, strict=True)]
@@ -112,7 +131,8 @@ def summarize(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz: list[
                         f_start_hz=float(f[0]), f_stop_hz=float(f[-1]),
                         threshold_return_loss_db=float(threshold_return_loss_db),
                         best=PointMetrics(float(f[i]), complex(g[i]), sweep.z0_ohm), bands=bands, at=at,
-                        warnings=list(sweep.warnings))
+                        warnings=list(sweep.warnings), noise_crossings=list(found.noise_crossings),
+                        min_band_width_hz=float(found.min_width_hz))
 
 
 @dataclass(frozen=True)
@@ -131,8 +151,9 @@ class PortsSummary:
         return next(s for s in self.ports if s.port == n)
 
 
-def summarize_ports(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz: list[float] = (),
-                    detail_port: int | None = None) -> PortsSummary:
+def summarize_ports(sweep: Sweep | skrf.Network | str, threshold_return_loss_db: float = 10.0,
+                    at_hz: list[float] = (), detail_port: int | None = None,
+                    min_band_width_hz: float | None = None) -> PortsSummary:
     """The inspect metrics of every port of ``sweep`` (a loaded Sweep or an ``skrf.Network``).
 
     ``detail_port`` None: every port in full (``at_hz`` for each); otherwise the values at
@@ -146,7 +167,7 @@ def summarize_ports(sweep: Sweep, threshold_return_loss_db: float = 10.0, at_hz:
     warnings: list[str] = []
     for p in range(1, base.nports + 1):
         sw = as_sweep(base, port=p)
-        s = summarize(sw, threshold_return_loss_db, at_hz if detail_port in (None, p) else [])
+        s = summarize(sw, threshold_return_loss_db, at_hz if detail_port in (None, p) else [], min_band_width_hz)
         out.append(s)
         warnings.extend(w for w in s.warnings if w not in warnings)
     if detail_port is not None and not 1 <= detail_port <= base.nports:

@@ -339,3 +339,26 @@ def test_noise_sliver_is_listed_apart_never_as_a_band(cli, tmp_path):
     doc = cli("compare", p, "--min-band-width", "10kHz", "--json").json()
     assert len(doc["rows"][0]["noise_crossings"]) == 1
     assert cli("compare", p, "--min-band-width", "-1MHz").code == 2
+
+
+def test_spec_bands_of_another_port_are_not_measured_on_the_analysed_port(cli):
+    # spec_wifi_pair.toml has a "wifi" band on port 1 and one on port 2; the sweep is loaded at the
+    # spec's port (1), so only port 1's band gets an informational row - port 2's is judged by the
+    # spec requirement on S22 itself
+    import numpy as np
+    import pytest
+    import skrf
+
+    pair, spec = ROOT / "sample_sweeps" / "wifi_pair.s2p", ROOT / "sample_sweeps" / "spec_wifi_pair.toml"
+    r = cli("compare", pair, "--spec", spec, "--json")
+    assert r.code == 1  # the isolation requirement fails (spec_wifi_pair.toml says so)
+    row = r.json()["rows"][0]
+    net = skrf.Network(str(pair))
+    inside = (net.f >= 2400e6) & (net.f <= 2483.5e6)  # 0.5 MHz steps: both edges are samples
+    rl = [-float(np.max(net.s_db[inside, p, p])) for p in (0, 1)]  # scikit-rf's own dB (return loss = -S_pp dB)
+    assert [b["name"] for b in row["bands"]] == ["wifi"]
+    assert row["bands"][0]["worst_return_loss_db"] == pytest.approx(rl[0], abs=1e-9)
+    reqs = {q["name"]: q for q in row["requirements"]}
+    assert reqs["wifi (port 2)"]["worst"] == pytest.approx(rl[1], abs=1e-9)  # judged on S22 itself
+    text = cli("compare", pair, "--spec", spec).out
+    assert "MIMO ECC: best is wifi_pair.s2p" in text and "no revision could be evaluated" not in text

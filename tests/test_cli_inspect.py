@@ -154,3 +154,90 @@ def test_port_all_gives_the_one_port_keys_per_port(cli, tmp_path):
 def test_bad_port_values(cli, tmp_path, value, words):
     r = cli("inspect", _four_port(tmp_path), "--port", value)
     assert r.code == 2 and len(r.err_lines) == 1 and words in r.err
+
+
+def _spiky(tmp_path):
+    """101 points 800-1000 MHz (2 MHz steps), return loss 5 dB except a 20 dB band on 900-920 MHz
+    and one 12 dB sample at 850 MHz: a one-sample poke above the 10 dB threshold."""
+    import numpy as np
+    from helpers import s1p_text
+
+    f = np.linspace(800e6, 1000e6, 101)
+    rl = np.full(f.size, 5.0)
+    rl[(f >= 900e6) & (f <= 920e6)] = 20.0
+    rl[np.isclose(f, 850e6)] = 12.0
+    p = tmp_path / "spiky.s1p"
+    p.write_text(s1p_text(f, 10 ** (-rl / 20) + 0j))
+    return p
+
+
+def test_noise_level_crossing_is_listed_apart_from_the_bands(cli, tmp_path):
+    p = _spiky(tmp_path)
+    doc = cli("inspect", p, "--json").json()
+    # derived: edges interpolate the dB curve linearly; 10 dB lies (10-5)/(20-5) = 1/3 of a 2 MHz step
+    # inside the 20 dB run, and (10-5)/(12-5) = 5/7 of a step towards the 12 dB sample
+    assert len(doc["bands"]) == 1
+    assert doc["bands"][0]["f_low_hz"] == pytest.approx(898e6 + 2e6 / 3)
+    assert doc["bands"][0]["f_high_hz"] == pytest.approx(922e6 - 2e6 / 3)
+    (n,) = doc["noise_crossings"]
+    assert n["f_low_hz"] == pytest.approx(848e6 + 2e6 * 5 / 7) and n["f_high_hz"] == pytest.approx(852e6 - 2e6 * 5 / 7)
+    assert doc["min_band_width_hz"] == pytest.approx(0.2e6)  # 0.1 % of the 200 MHz span (bands.MIN_BAND_FRACTION)
+    r = cli("inspect", p)
+    assert r.code == 0 and "Noise-level crossings, not bands" in r.out and "849.429 MHz" in r.out
+
+
+def test_min_band_width_moves_a_band_to_the_noise_crossings(cli, tmp_path):
+    p = _spiky(tmp_path)
+    # the band is 22.667 MHz wide (derived above): a 30 MHz minimum turns it into a noise crossing
+    doc = cli("inspect", p, "--min-band-width", "30MHz", "--json").json()
+    assert doc["bands"] == [] and len(doc["noise_crossings"]) == 2
+    assert doc["min_band_width_hz"] == 30e6
+    r = cli("inspect", p, "--min-band-width", "30MHz")
+    assert "none wide enough to count" in r.out and "never reaches" not in r.out
+    doc = cli("inspect", p, "--min-band-width", "10MHz", "--json").json()
+    assert len(doc["bands"]) == 1 and len(doc["noise_crossings"]) == 1
+
+
+def test_min_band_width_errors_are_one_line_exit_2(cli, tmp_path):
+    p = _spiky(tmp_path)
+    for bad, needle in (("-1MHz", "--min-band-width"), ("wide", "--min-band-width")):
+        r = cli("inspect", p, "--min-band-width", bad, "--json")
+        assert r.code == 2 and r.out == "" and len(r.err_lines) == 1 and needle in r.err, r.err
+
+
+def test_summarize_takes_an_skrf_network(tmp_path):
+    import skrf
+
+    import matchtool
+
+    p = _spiky(tmp_path)
+    s = matchtool.summarize(skrf.Network(str(p)))
+    assert len(s.bands) == 1 and len(s.noise_crossings) == 1
+    assert s.best.return_loss_db == pytest.approx(20.0)  # the 20 dB samples written above
+
+
+def test_console_honours_columns_and_keeps_140_only_without_it(monkeypatch):
+    from matchtool.render.text import NO_TERMINAL_COLUMNS, console
+
+    monkeypatch.delenv("COLUMNS", raising=False)
+    assert console().width == NO_TERMINAL_COLUMNS == 140  # stdout is captured: not a terminal
+    monkeypatch.setenv("COLUMNS", "80")
+    assert console().width == 80
+    monkeypatch.setenv("COLUMNS", "wide")  # not a number: ignored
+    assert console().width == 140
+
+
+@pytest.mark.parametrize("argv", [
+    ["inspect", "sample_sweeps/ant_r1.s1p", "--at", "902MHz", "--at", "928MHz"],
+    ["match", "sample_sweeps/ant_r1.s1p", "--band", "902MHz:928MHz", "--q-inductor", "40", "--q-capacitor", "200",
+     "--tolerance", "5"],
+])
+def test_columns_80_renders_at_80(cli, monkeypatch, argv):
+    from helpers import ROOT
+
+    monkeypatch.setenv("COLUMNS", "80")
+    r = cli(*[str(ROOT / a) if a.startswith("sample_sweeps/") else a for a in argv])
+    assert r.code == 0, r.err
+    lines = r.out.splitlines()
+    assert lines and max(len(ln) for ln in lines) <= 80, max(lines, key=len)
+    assert "…" not in r.out  # nothing cut

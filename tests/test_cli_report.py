@@ -13,7 +13,7 @@ from helpers import ROOT
 from test_report import assert_self_contained
 
 from matchtool import matching as mt
-from matchtool.commands.match import schematic
+from matchtool.render.text.match import schematic
 
 SAMPLES = ROOT / "sample_sweeps"
 
@@ -227,3 +227,116 @@ def test_match_sweep_chooses_which_input_is_matched(cli, bench):
     r = cli("report", *files, "--match-band", "902MHz:928MHz", "--match-sweep", bench / "other.s1p", "--out",
             bench / "x.html")
     assert r.code == 2 and "--match-sweep" in r.err and not (bench / "x.html").exists()
+
+
+# --- further capabilities: coupling (multi-port input), --locate, --qfactor, --store ------------------
+
+PAIR = SAMPLES / "wifi_pair.s2p"
+PAIR_SPEC = SAMPLES / "spec_wifi_pair.toml"
+
+
+def test_multi_port_input_gets_its_coupling_section_with_scikit_rfs_isolation(cli, tmp_path):
+    import numpy as np
+    import skrf
+
+    out = tmp_path / "pair.html"
+    r = cli("report", PAIR, "--spec", PAIR_SPEC, "--out", out, "--json")
+    assert r.code == 1, r.err  # the sample misses its 10 dB isolation limit (spec_wifi_pair.toml)
+    doc = r.json()
+    assert "coupling" in doc["sections"] and "locate" not in doc["sections"] and "qfactor" not in doc["sections"]
+    text = out.read_text()
+    assert_self_contained(text)
+    # isolation over the whole sweep = -max |S21| dB, straight from scikit-rf (Network.s_db)
+    iso = -float(np.max(skrf.Network(str(PAIR)).s_db[:, 1, 0]))
+    assert f"{iso:.2f} dB (S21)" in html.unescape(text)
+    assert 'id="iso-wifi-pair-s2p-' in text and "A to B: isolation &gt;= 10 dB" in text  # the spec's mask drawn
+
+
+def test_one_port_input_has_no_coupling_section(cli, tmp_path):
+    doc = cli("report", SAMPLES / "ant_r1.s1p", "--out", tmp_path / "a.html", "--json").json()
+    assert doc["sections"] == ["summary", "sweeps", "plots", "traceability"]
+
+
+def test_locate_and_qfactor_sections_hold_the_commands_numbers(cli, tmp_path):
+    out = tmp_path / "p.html"
+    sweep = SAMPLES / "ant_r3_via_cable.s1p"
+    r = cli("report", sweep, "--locate", "--velocity-factor", "0.66", "--max-distance", "10m", "--qfactor",
+            "--radius", "3cm", "--out", out, "--json")
+    assert r.code == 0, r.err
+    assert [s for s in r.json()["sections"] if s in ("locate", "qfactor")] == ["locate", "qfactor"]
+    loc = cli("locate", sweep, "--velocity-factor", "0.66", "--max-distance", "10m", "--json").json()
+    q = cli("qfactor", sweep, "--radius", "3cm", "--json").json()
+    rows = tables(out.read_text())["locate"]
+    assert rows[1][1] == f"{loc['peaks'][0]['distance_m']:.3f}"  # first listed reflection, as locate lists it
+    text = html.unescape(out.read_text())
+    assert f"{q['q']:.2f}" in text and "Chu" in text
+    assert_self_contained(out.read_text())
+
+
+def test_two_locate_sections_do_not_share_svg_ids(cli, tmp_path):
+    out = tmp_path / "two.html"
+    r = cli("report", SAMPLES / "ant_r1.s1p", SAMPLES / "ant_r3_via_cable.s1p", "--locate", "--velocity-factor",
+            "0.66", "--out", out)
+    assert r.code == 0, r.err
+    ids = re.findall(r'\bid="([^"]+)"', out.read_text())
+    assert len(ids) == len(set(ids))
+    assert any(i.startswith("locate1-") for i in ids) and any(i.startswith("locate2-") for i in ids)
+
+
+@pytest.mark.parametrize("args,needle", [
+    (["--velocity-factor", "0.7"], "--velocity-factor belongs to --locate"),
+    (["--radius", "3cm"], "--radius belongs to --qfactor"),
+    (["--lot", "L7"], "--lot belongs to --store"),
+    (["--locate"], "--velocity-factor: is needed to turn time into distance"),
+    (["--kind", "distance"], "the report's plots are the sweep panels"),
+])
+def test_capability_option_errors_are_one_line_exit_2(cli, tmp_path, args, needle):
+    out = tmp_path / "x.html"
+    r = cli("report", SAMPLES / "ant_r1.s1p", *args, "--out", out)
+    assert r.code == 2 and len(r.err_lines) == 1 and needle in r.err, r.err
+    assert not out.exists()
+
+
+def test_capped_sweep_belongs_to_one_antenna(cli, tmp_path):
+    out = tmp_path / "x.html"
+    r = cli("report", SAMPLES / "ant_r1.s1p", SAMPLES / "ant_r2.s1p", "--qfactor", "--capped", SAMPLES / "ant_r3.s1p",
+            "--out", out)
+    assert r.code == 2 and len(r.err_lines) == 1 and "--capped" in r.err and "one SWEEP" in r.err, r.err
+    assert not out.exists()
+
+
+def test_store_adds_the_lot_page_with_the_stores_counts(cli, tmp_path):
+    db = tmp_path / "r.db"
+    files = [SAMPLES / f"ant_r{k}.s1p" for k in (1, 2, 3)]
+    checked = cli("check", *files, "--spec", SAMPLES / "spec_915.toml", "--store", db, "--lot", "L7", "--json").json()
+    passed = sum(f["pass"] for f in checked["files"])
+    out = tmp_path / "lot.html"
+    r = cli("report", files[2], "--store", db, "--lot", "L7", "--out", out, "--json")
+    assert r.code == 0, r.err
+    assert "history" in r.json()["sections"]
+    text = html.unescape(out.read_text())
+    assert f"3 units: {passed} passed, {3 - passed} failed" in text
+    assert "<svg" in text  # the trend picture, inline
+    assert_self_contained(out.read_text())
+    r = cli("report", files[2], "--store", tmp_path / "none.db", "--out", tmp_path / "n.html")
+    assert r.code == 2 and len(r.err_lines) == 1 and "none.db" in r.err
+
+
+def test_sweeps_section_honours_min_band_width(cli, tmp_path):
+    # 101 points 800-1000 MHz; RL 5 dB but 20 dB on 900-920 MHz (a band 22.667 MHz wide, derived in
+    # test_cli_inspect) and one 12 dB sample at 850 MHz (a noise-level crossing)
+    import numpy as np
+    from helpers import s1p_text
+
+    f = np.linspace(800e6, 1000e6, 101)
+    rl = np.where((f >= 900e6) & (f <= 920e6), 20.0, np.where(np.isclose(f, 850e6), 12.0, 5.0))
+    p = tmp_path / "spiky.s1p"
+    p.write_text(s1p_text(f, 10 ** (-rl / 20) + 0j))
+    for width, bands, noise in (("1MHz", 1, 1), ("30MHz", 0, 2)):
+        out = tmp_path / f"r{width}.html"
+        assert cli("report", p, "--min-band-width", width, "--kind", "return-loss", "--out", out).code == 0
+        text = html.unescape(out.read_text())
+        sweeps = text[text.index('<section id="sweeps">'):text.index('<section id="plots">')]
+        assert sweeps.count("wide)") == noise and "Noise-level crossings, not bands" in sweeps
+        assert ("none wide enough to count" in sweeps) == (bands == 0)
+        assert "never reaches the threshold" not in sweeps  # it does reach it, if only for noise

@@ -5,6 +5,7 @@ from __future__ import annotations
 import hashlib
 import re
 from html.parser import HTMLParser
+from pathlib import Path
 
 import pytest
 from helpers import write_rlc
@@ -228,3 +229,19 @@ def test_build_report_is_the_core_of_the_page(tmp_path):
         ctx.match_index = 0
     with pytest.raises(matchtool.errors.UsageError):
         build_report([r1], 10.0, match_index=3)
+
+
+def test_build_report_puts_coupling_of_multi_port_sweeps_and_asked_capabilities_in_extras():
+    # coupling only for the multi-port input; locate / qfactor one result per sweep, when asked
+    from matchtool.report import build_report
+    from matchtool.sweep import load
+
+    root = Path(__file__).resolve().parents[1] / "sample_sweeps"
+    one, two = load(root / "ant_r3_via_cable.s1p"), load(root / "wifi_pair.s2p")
+    ctx = build_report([one, two], locate={"velocity_factor": 0.66}, qfactor={"radius_m": 0.03})
+    assert [r.nports for r in ctx.extras["coupling"]] == [2]
+    assert [r.path for r in ctx.extras["locate"]] == [one.path, two.path]
+    assert [r.path for r in ctx.extras["qfactor"]] == [one.path, two.path]
+    assert "history" not in ctx.extras
+    bare = build_report([one, two], coupling=False)
+    assert "coupling" not in bare.extras and "locate" not in bare.extras

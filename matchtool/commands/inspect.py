@@ -11,7 +11,7 @@ from ..render.json_contract import emit_json, inspect_doc, inspect_overview_doc,
 from ..render.text import warn
 from ..summary import summarize, summarize_ports, threshold_from_options
 from ..sweep import load
-from .options import JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, Z0Opt, frequencies
+from .options import JsonOpt, MaxS11Opt, MaxVswrOpt, MinBandWidthOpt, MinRLOpt, Z0Opt, frequencies, min_band_width
 
 EPILOG = """Examples:
 
@@ -23,7 +23,11 @@ EPILOG = """Examples:
 
   matchtool inspect ant.s1p --max-vswr 2 --json
 
-An N-port file without --port shows one line per port and the details of port 1.
+  matchtool inspect sample_sweeps/ant_r2.s1p --min-band-width 2MHz
+
+An N-port file without --port shows one line per port and the details of port 1. Threshold
+crossings narrower than --min-band-width (default 0.1 % of the sweep's span, and at least 2
+samples) are listed apart as noise-level crossings, never as bands (JSON: noise_crossings).
 """
 
 PortChoice = Annotated[str | None, typer.Option(
@@ -55,15 +59,17 @@ def register(app: typer.Typer) -> None:
         min_return_loss: MinRLOpt = None,
         max_vswr: MaxVswrOpt = None,
         max_s11_db: MaxS11Opt = None,
+        min_band_width_opt: MinBandWidthOpt = None,
         json_out: JsonOpt = False,
     ) -> int:
         """Metrics of one sweep: best match, bands meeting the return-loss threshold, values at points."""
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
+        min_w = min_band_width(min_band_width_opt)
         at_hz = frequencies(at)
         choice = parse_port(port)
         sw = load(sweep, port=choice if isinstance(choice, int) else 1, z0_ohm=z0)
         if choice == "all" or (choice is None and sw.nports > 1):
-            ms = summarize_ports(sw, thr, at_hz, detail_port=None if choice == "all" else 1)
+            ms = summarize_ports(sw, thr, at_hz, detail_port=None if choice == "all" else 1, min_band_width_hz=min_w)
             if json_out:
                 emit_json(inspect_ports_doc(ms) if choice == "all" else inspect_overview_doc(ms))
             else:
@@ -72,7 +78,7 @@ def register(app: typer.Typer) -> None:
                 render_ports(ms)
                 warn(ms.warnings)
             return 0
-        s = summarize(sw, thr, at_hz)
+        s = summarize(sw, thr, at_hz, min_band_width_hz=min_w)
         if json_out:
             emit_json(inspect_doc(s))
         else:

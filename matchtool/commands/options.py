@@ -91,6 +91,47 @@ LossRefOpt = Annotated[str | None, typer.Option(
 DielectricLossOpt = Annotated[float | None, typer.Option(
     "--dielectric-loss-db-per-m", metavar="A", help="Dielectric loss in dB/m at --loss-ref, scaled with f [default: 0].")]
 
+GateOpt = Annotated[str | None, typer.Option(
+    "--gate", metavar="START:STOP", help="Keep only reflections between these distances (2.8m:3.6m) or "
+                                         "round-trip times (20ns:30ns).")]
+
+
+MaxDistanceOpt = Annotated[str | None, typer.Option(
+    "--max-distance", metavar="L", help="Cut the distance view at this distance: 30m, 100ft [default: the "
+                                        "alias-free range].")]
+
+
+def gate_option(text: str | None) -> tuple[tuple[float, float] | None, tuple[float, float] | None]:
+    """``--gate START:STOP`` -> ``(gate_m, gate_s)`` for ``locate.analyze``: distances (``2.5m:4m``,
+    bare numbers are metres) or round-trip times (``20ns:30ns``); (None, None) without one."""
+    from ..units import parse_length, parse_time
+
+    if text is None:
+        return None, None
+    parts = str(text).split(":")
+    if len(parts) != 2 or not all(p.strip() for p in parts):
+        raise UsageError(f"cannot read --gate {text!r}", expected="START:STOP, e.g. 2.5m:4m or 20ns:30ns")
+    kinds, values = [], []
+    for p in parts:
+        for kind, parse in (("m", parse_length), ("s", parse_time)):
+            try:
+                values.append(parse(p))
+                kinds.append(kind)
+                break
+            except UsageError:
+                continue
+        else:
+            raise UsageError(f"cannot read --gate {text!r}: {p.strip()!r} is neither a distance nor a time",
+                             expected="distances (m, cm, mm, ft, in) or times (ns, ps, us)")
+    if kinds[0] != kinds[1]:
+        raise UsageError(f"--gate {text!r} mixes a distance and a time", expected="both distances or both times")
+    if not (0 <= values[0] < values[1]):
+        raise UsageError(f"--gate {text!r} must start at 0 or later and stop after it starts",
+                         expected="0 <= START < STOP, e.g. 2.5m:4m")
+    pair = (values[0], values[1])
+    return (pair, None) if kinds[0] == "m" else (None, pair)
+
+
 MIN_LOSS_REF_HZ = 1e6
 """Lowest --loss-ref accepted: cable attenuation is not specified below 1 MHz."""
 
@@ -140,7 +181,11 @@ def min_band_width(text: str | None) -> float | None:
     """``--min-band-width`` in Hz (None: the default rule of ``bands.search_bands``)."""
     if text is None:
         return None
-    f = parse_frequency(text)
+    try:
+        f = parse_frequency(text)
+    except UsageError as exc:
+        raise UsageError(exc.what, parameter="min_band_width_hz", value=text,
+                         expected="a width such as 1MHz, 500kHz or 0") from None
     if f < 0:
         raise UsageError("must not be negative", parameter="min_band_width_hz", value=text)
     return f

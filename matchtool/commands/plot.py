@@ -14,19 +14,21 @@ import typer
 from ..compare import revisions, spec_band_limits
 from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write, check_output
-from ..proposal import ProposedMatch, propose
+from ..proposal import propose
 from ..render.json_contract import emit_json, plot_doc
-from ..render.plots import match_traces  # noqa: F401  (re-exported: the before/after traces)
-from ..render.text import warn
-from ..render.words import network_text, spec_verdict_line  # noqa: F401  (network_text re-exported)
+from ..render.text import say, warn
+from ..render.words import spec_verdict_line
 from ..summary import threshold_from_options
 from ..sweep import load
+from ..units import parse_length
 from .options import (
     BandOpt,
     CRangeOpt,
     ForceOpt,
+    GateOpt,
     JsonOpt,
     LRangeOpt,
+    MaxDistanceOpt,
     MaxS11Opt,
     MaxVswrOpt,
     MinRLOpt,
@@ -36,8 +38,10 @@ from .options import (
     QInductorOpt,
     SeriesOpt,
     SpecOpt,
+    VelocityFactorOpt,
     Z0Opt,
     band_options,
+    gate_option,
     match_request,
     require_bands_in_sweeps,
     spec_option,
@@ -59,11 +63,24 @@ EPILOG = """Examples:
 
   matchtool plot ant_r1.s1p --match --at 915MHz --series E12 --pick 2 --out match.png
 
+  matchtool plot sample_sweeps/ant_r3_via_cable.s1p --kind distance --velocity-factor 0.66 --max-distance 10m --out feed.png
+
+  matchtool plot sample_sweeps/wifi_pair.s2p --kind isolation --spec sample_sweeps/spec_wifi_pair.toml --out iso.png
+
+  matchtool plot sample_sweeps/wifi_pair.s2p --kind ecc --band 2.4GHz:2.4835GHz --out ecc.svg
+
 Kinds: return-loss (positive dB, higher is better), s11-db (S11 in dB = -return loss), vswr,
 smith (impedance chart, markers at band edges), impedance (R and X in ohms). Several kinds give
 several panels in one picture. The threshold (default return loss 10 dB) is drawn as a line and
 is the limit drawn over every --band (a tinted region beyond a limit line). A key under the
 panels says what each mark means.
+
+Pictures of their own (one SWEEP, the kind alone): distance is the reflection versus distance
+along the feed as 'matchtool locate' computes it: it needs --velocity-factor; --gate shades a
+gate and --max-distance cuts the view [default: the alias-free range]; Kaiser window, automatic
+mode, no cable-loss compensation ('matchtool locate' has those options). isolation, ecc and
+tarc are drawn as 'matchtool coupling' computes them and need a multi-port file (.s2p, ...);
+--band sets the bands shaded, --spec adds its [[isolation]] / [[correlation]] limits.
 
 --spec draws the spec's bands and limits and judges every file as 'matchtool check' does: the
 picture is written, a verdict line is printed, and the exit status is 1 when a requirement fails.
@@ -75,29 +92,10 @@ return-loss and smith). Build the network and measure it before driving it with 
 
 KindOpt = Annotated[list[str] | None, typer.Option(
     "--kind", metavar="KIND",
-    help="return-loss, s11-db, vswr, smith or impedance; repeat or comma-separate for several panels "
-         "[default: return-loss].")]
+    help="return-loss, s11-db, vswr, smith or impedance (repeat or comma-separate for several panels), or one "
+         "of distance, isolation, ecc, tarc (a picture of its own) [default: return-loss].")]
 MatchAtOpt = Annotated[str | None, typer.Option("--at", metavar="FREQ",
                                                 help="Match at one frequency, e.g. 915MHz (with --match).")]
-
-
-class ShownMatch(ProposedMatch):
-    """A ProposedMatch that also names its network (for callers of :func:`propose_match`)."""
-
-    @property
-    def network_text(self) -> str:
-        return network_text(self.candidate.elements)
-
-
-def propose_match(sweep, at, band, threshold_return_loss_db: float, series: str = "E24", q_inductor=None,
-                  q_capacitor=None, c_range=None, l_range=None, pick: int = 1,
-                  option_names: tuple[str, str] = ("--at", "--band")):
-    """The match options as ``matchtool match`` reads them -> :func:`matchtool.proposal.propose`."""
-    from dataclasses import fields
-
-    req = match_request(at, band, series, q_inductor, q_capacitor, c_range, l_range, pick, option_names)
-    pm = propose(sweep, req, threshold_return_loss_db)
-    return ShownMatch(*(getattr(pm, f.name) for f in fields(pm)))
 
 
 def register(app: typer.Typer) -> None:
@@ -120,6 +118,9 @@ def register(app: typer.Typer) -> None:
         c_range: CRangeOpt = None,
         l_range: LRangeOpt = None,
         pick: PickOpt = 1,
+        velocity_factor: VelocityFactorOpt = None,
+        gate: GateOpt = None,
+        max_distance: MaxDistanceOpt = None,
         port: PortOpt = 1,
         z0: Z0Opt = None,
         min_return_loss: MinRLOpt = None,
@@ -149,31 +150,22 @@ def register(app: typer.Typer) -> None:
         loaded = [load(p, port=port, z0_ohm=z0) for p in sweeps]
         require_bands_in_sweeps(shaded, loaded)
         if kinds[0] in plots.FIGURE_KINDS:  # another capability's own picture (one sweep, one kind)
-            if len(loaded) != 1 or match:
-                raise UsageError(f"--kind {kinds[0]} draws one sweep", expected="one SWEEP, without --match")
-            compute, draw = plots.figure_kind(kinds[0])
-            import io
-
-            buf = io.BytesIO()
-            result = compute(loaded[0])
-            draw(result, buf, fmt)
-            atomic_write(out, buf.getvalue(), force=force)
-            warnings = list(loaded[0].warnings) + list(getattr(result, "warnings", ()))
-            if json_out:
-                emit_json(plot_doc(out, sweeps, kinds, warnings))
-            else:
-                print(f"wrote {out}")
-                warn(warnings)
-            return ExitStatus.OK
+            return _figure_kind(kinds[0], loaded, sweeps, out, fmt, force, json_out, bands, the_spec, thr,
+                                title=title, match=match, velocity_factor=velocity_factor, gate=gate,
+                                max_distance=max_distance)
+        for flag, value in (("--velocity-factor", velocity_factor), ("--gate", gate), ("--max-distance", max_distance)):
+            if value is not None:
+                raise UsageError(f"{flag} applies to the distance picture", expected=f"--kind distance with {flag}")
+        verdict = None if the_spec is None else revisions(loaded, thr, spec=the_spec)
         labels = plots.legend_labels([s.path for s in loaded])
         warnings = [w for s in loaded for w in s.warnings]
-        verdict = None if the_spec is None else revisions(loaded, thr, spec=the_spec)
         if verdict is not None:
             warnings += [w for w in verdict.warnings if w not in warnings]
         if match:
             target = None if at is not None else (bands[0].f_low_hz, bands[0].f_high_hz)
-            pm = propose_match(loaded[0], at, target, thr, series, q_inductor, q_capacitor, c_range, l_range, pick)
-            traces = match_traces(pm, thr, labels[0])
+            req = match_request(at, target, series, q_inductor, q_capacitor, c_range, l_range, pick)
+            pm = propose(loaded[0], req, thr)
+            traces = plots.match_traces(pm, thr, labels[0])
             title = title or plots.match_title(pm, labels[0])
             warnings += [w for w in pm.warnings if w not in warnings]
         else:
@@ -189,7 +181,55 @@ def register(app: typer.Typer) -> None:
             print(f"wrote {out}")
             if verdict is not None:
                 shown = dict(zip([s.path for s in loaded], labels, strict=True))
-                print(f"spec {the_spec.path}: " + spec_verdict_line(verdict, shown))
+                say(f"spec {the_spec.path}: " + spec_verdict_line(verdict, shown))
             warn(warnings)
         # exit 1 for a failing spec requirement (the picture is still written); --band limits inform
         return ExitStatus.FAIL if failed else ExitStatus.OK
+
+
+def _figure_kind(kind, loaded, paths, out, fmt, force, json_out, bands, spec, thr, *, title, match,
+                 velocity_factor, gate, max_distance) -> int:
+    """``--kind distance|isolation|ecc|tarc``: one sweep, its capability's own picture."""
+    import io
+
+    from ..render import plots
+
+    fk = plots.FIGURE_KINDS[kind]
+    if len(loaded) != 1 or match:
+        raise UsageError(f"--kind {kind} draws one sweep", expected="one SWEEP, without --match")
+    if title is not None:
+        raise UsageError(f"--kind {kind} carries its own title", expected=f"--kind {kind} without --title")
+    if fk.multiport and loaded[0].nports < 2:
+        raise UsageError(f"--kind {kind} needs a multi-port file; this one has {loaded[0].nports} port",
+                         path=loaded[0].path, expected="a .s2p, .s3p, ... file of two or more antennas")
+    if kind != "distance":
+        for flag, value in (("--velocity-factor", velocity_factor), ("--gate", gate), ("--max-distance", max_distance)):
+            if value is not None:
+                raise UsageError(f"{flag} applies to the distance picture", expected=f"--kind distance with {flag}")
+    elif bands:
+        raise UsageError("--band is not drawn on the distance picture",
+                         expected="'matchtool locate --gate ... --band ...' for the gated return loss")
+    gate_m, gate_s = gate_option(gate)
+    verdict = None if spec is None else revisions(loaded, thr, spec=spec)
+    options = {"velocity_factor": velocity_factor, "gate_m": gate_m, "gate_s": gate_s,
+               "max_distance_m": None if max_distance is None else parse_length(max_distance),
+               "bands": [(b.f_low_hz, b.f_high_hz) for b in bands] or None, "masks": spec}
+    compute, draw = plots.figure_kind(kind)
+    result = compute(loaded[0], **fk.pick(fk.compute_options, options))
+    buf = io.BytesIO()
+    draw(result, buf, fmt, **fk.pick(fk.draw_options, options))
+    atomic_write(out, buf.getvalue(), force=force)
+    warnings = list(loaded[0].warnings)
+    extra = list(getattr(result, "warnings", ())) + ([] if verdict is None else list(verdict.warnings))
+    warnings += [w for w in extra if w not in warnings]
+    failed = verdict is not None and verdict.spec_failed
+    if json_out:
+        emit_json(plot_doc(out, paths, [kind], warnings, None if verdict is None else not failed,
+                           () if verdict is None else verdict.failing_files))
+    else:
+        print(f"wrote {out}")
+        if verdict is not None:
+            shown = dict(zip([s.path for s in loaded], plots.legend_labels([s.path for s in loaded]), strict=True))
+            say(f"spec {spec.path}: " + spec_verdict_line(verdict, shown))
+        warn(warnings)
+    return ExitStatus.FAIL if failed else ExitStatus.OK

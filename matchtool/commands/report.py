@@ -15,17 +15,19 @@ import typer
 from ..errors import ExitStatus, UsageError
 from ..outputs import atomic_write, check_output
 from ..render.json_contract import emit_json, report_doc
-from ..render.text import warn
+from ..render.text import say, warn
 from ..render.words import spec_verdict_line
 from ..report import build_report
 from ..summary import threshold_from_options
 from ..sweep import load
+from ..units import parse_length
 from .options import (
     BandOpt,
     CRangeOpt,
     ForceOpt,
     JsonOpt,
     LRangeOpt,
+    MaxDistanceOpt,
     MaxS11Opt,
     MaxVswrOpt,
     MinBandWidthOpt,
@@ -36,6 +38,7 @@ from .options import (
     QInductorOpt,
     SeriesOpt,
     SpecOpt,
+    VelocityFactorOpt,
     Z0Opt,
     band_options,
     match_request,
@@ -53,10 +56,19 @@ EPILOG = """Examples:
   matchtool report ant_r1.s1p ant_r2.s1p ant_r3.s1p --spec spec_915.toml --budget link_915.toml \
       --match-band 902MHz:928MHz --match-sweep ant_r3.s1p --q-inductor 40 --out bench.html
 
+  matchtool report sample_sweeps/wifi_pair.s2p --spec sample_sweeps/spec_wifi_pair.toml \
+      --locate --velocity-factor 0.7 --qfactor --radius 2cm --out pair.html
+
+  matchtool report ant_r3.s1p --store results.db --lot L7 --out lot7.html
+
 --spec adds the verdicts of 'matchtool check' for every file; --match-band or --match-at adds a
 proposed L-network (options as for 'matchtool match') for the first SWEEP, or for --match-sweep
 FILE (one of the SWEEPs), with its schematic and a before/after picture; --budget adds the link
-budget of 'matchtool budget'. A verdict line is printed; the exit status is 1 when a spec
+budget of 'matchtool budget'. A multi-port SWEEP (.s2p, ...) adds its coupling (isolation, ECC,
+TARC, as 'matchtool coupling'); --locate adds the reflections along the feed of every SWEEP (as
+'matchtool locate'; needs --velocity-factor); --qfactor adds Q and bandwidth potential (as
+'matchtool qfactor', with --radius and, for one SWEEP, --capped); --store adds the lot history
+of a results store (as 'matchtool history', --lot for one lot). A verdict line is printed; the exit status is 1 when a spec
 requirement fails or the budget does not keep its required margin (the page is still written).
 
 The page needs no other file and no network: styles and pictures (SVG) are inside it. It carries
@@ -104,6 +116,24 @@ def register(app: typer.Typer) -> None:
         budget_file: Annotated[str | None, typer.Option(
             "--budget", metavar="FILE.toml", help="Link budget file (as for 'matchtool budget') to include.")] = None,
         min_band_width_opt: MinBandWidthOpt = None,
+        locate: Annotated[bool, typer.Option(
+            "--locate", help="Add the reflections versus distance along the feed of every SWEEP (needs "
+                             "--velocity-factor).")] = False,
+        velocity_factor: VelocityFactorOpt = None,
+        max_distance: MaxDistanceOpt = None,
+        qfactor: Annotated[bool, typer.Option(
+            "--qfactor", help="Add Q and bandwidth potential of every SWEEP ('matchtool qfactor').")] = False,
+        radius: Annotated[str | None, typer.Option(
+            "--radius", metavar="LENGTH", help="With --qfactor: radius of the smallest sphere enclosing the "
+                                               "antenna (3cm) for the Chu-McLean bound.")] = None,
+        capped: Annotated[str | None, typer.Option(
+            "--capped", metavar="SWEEP", help="With --qfactor and one SWEEP: the antenna inside a closed "
+                                              "conducting cap (radiation efficiency).")] = None,
+        store: Annotated[list[str] | None, typer.Option(
+            "--store", metavar="URL", help="Add the lot history of this results store (path or URL; "
+                                           "repeatable, as for 'matchtool history').")] = None,
+        lot: Annotated[str | None, typer.Option("--lot", metavar="NAME",
+                                                help="With --store: only this lot.")] = None,
         port: PortOpt = 1,
         z0: Z0Opt = None,
         min_return_loss: MinRLOpt = None,
@@ -125,6 +155,15 @@ def register(app: typer.Typer) -> None:
         if match_sweep is not None and match_band is None and match_at is None:
             raise UsageError("--match-sweep chooses the sweep of a match", expected="--match-band or --match-at with it")
         kinds = plots.parse_kinds(kind or ["return-loss,vswr,smith,impedance"])
+        for flag, value, needs in (("--velocity-factor", velocity_factor, locate), ("--max-distance", max_distance, locate),
+                                   ("--radius", radius, qfactor), ("--capped", capped, qfactor), ("--lot", lot, store)):
+            if value is not None and not needs:
+                owner = {"--lot": "--store URL"}.get(flag, "--locate" if flag in ("--velocity-factor", "--max-distance")
+                                                     else "--qfactor")
+                raise UsageError(f"{flag} belongs to {owner.split()[0]}", expected=f"{owner} with {flag}")
+        if any(k in plots.FIGURE_KINDS for k in kinds):
+            raise UsageError("the report's plots are the sweep panels", key="--kind",
+                             expected=", ".join(plots.KINDS) + " (--locate and a multi-port SWEEP add the others)")
         check_output(out, force)
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
         bands = band_options(band, thr)
@@ -138,24 +177,30 @@ def register(app: typer.Typer) -> None:
         from ..compare import spec_band_limits
 
         require_bands_in_sweeps(bands + ([] if the_spec is None else list(spec_band_limits(the_spec))), loaded)
+        loc = None if not locate else {"velocity_factor": velocity_factor,
+                                         "max_distance_m": None if max_distance is None else parse_length(max_distance)}
+        qf = None if not qfactor else {"radius_m": None if radius is None else parse_length(radius), "capped": capped}
+        lots = None if not store else {"stores": list(store), "lot": lot}
         ctx = build_report(loaded, thr, bands, the_spec, kinds, req, index, budget_file, port, z0,
-                           min_band_width(min_band_width_opt))
-        atomic_write(out, page.render(ctx, title), force=force)
+                           min_band_width(min_band_width_opt), locate=loc, qfactor=qf, history=lots)
+        text, section_ids = page.render_page(ctx, title)
+        atomic_write(out, text, force=force)
         # Exit 1 when a spec requirement failed or the budget misses its margin (the page is still
         # written); --band limits inform. Unreadable inputs raised before anything was written (2).
         c = ctx.comparison
         if json_out:
             emit_json(report_doc(out, sweeps, not ctx.failed, ctx.judged, c.failing_files,
-                                 None if ctx.budget is None else ctx.budget.closes, ctx.warnings))
+                                 None if ctx.budget is None else ctx.budget.closes, ctx.warnings,
+                                 sections=section_ids))
         else:
             verdict = "FAIL" if ctx.failed else ("pass" if ctx.judged else "no spec or budget to judge")
             print(f"wrote {out} ({verdict})")
             names = page.display_names(ctx)
             if c.spec_path is not None:
-                print(f"spec {c.spec_path}: {spec_verdict_line(c, names)}")
+                say(f"spec {c.spec_path}: {spec_verdict_line(c, names)}")
             if ctx.budget is not None:
                 from ..render.report.summary import budget_headline
 
-                print(budget_headline(ctx.budget))
+                say(budget_headline(ctx.budget))
             warn(ctx.warnings)
         return ExitStatus.FAIL if ctx.failed else ExitStatus.OK

@@ -54,6 +54,8 @@ def inspect_doc(s) -> dict[str, Any]:
         "threshold_return_loss_db": s.threshold_return_loss_db,
         "best": point_doc(s.best),
         "bands": [band_doc(b) for b in s.bands],
+        "min_band_width_hz": s.min_band_width_hz,
+        "noise_crossings": [band_doc(b) for b in s.noise_crossings],
         "at": [point_doc(p) for p in s.at],
         "warnings": list(s.warnings),
     }
@@ -61,7 +63,8 @@ def inspect_doc(s) -> dict[str, Any]:
 
 def _port_line(s) -> dict[str, Any]:
     """One port's best match and bands (a ``summary.SweepSummary``)."""
-    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands]}
+    return {"port": s.port, "best": point_doc(s.best), "bands": [band_doc(b) for b in s.bands],
+            "noise_crossings": [band_doc(b) for b in s.noise_crossings]}
 
 
 def inspect_overview_doc(m) -> dict[str, Any]:
@@ -529,11 +532,13 @@ def plot_doc(out: str, inputs, kinds, warnings, passed: bool | None = None,
 
 
 def report_doc(out: str, inputs, passed: bool, judged: bool, failing_files=(), budget_closes: bool | None = None,
-               warnings=()) -> dict[str, Any]:
+               warnings=(), sections=()) -> dict[str, Any]:
     """The ``report --json`` document: the page written, its inputs, the verdict (``pass``; whether
-    anything was judged: a spec or a budget), the files failing the spec and whether the budget closes."""
+    anything was judged: a spec or a budget), the files failing the spec, whether the budget closes
+    and the ids of the page's sections, in page order."""
     return {"out": str(out), "inputs": [str(x) for x in inputs], "pass": passed, "judged": judged,
-            "failing_files": list(failing_files), "budget_pass": budget_closes, "warnings": list(warnings)}
+            "failing_files": list(failing_files), "budget_pass": budget_closes, "sections": list(sections),
+            "warnings": list(warnings)}
 # --- match ---------------------------------------------------------------------------------------
 
 def _none_if_inf(x: float | None) -> float | None:

@@ -41,13 +41,45 @@ if TYPE_CHECKING:  # pragma: no cover
 KINDS = ("return-loss", "s11-db", "vswr", "smith", "impedance")
 """The panels drawn from reflection sweeps (several may share one picture)."""
 
-FIGURE_KINDS: dict[str, tuple[str, str]] = {}
-"""Kinds drawn by another capability's own module, one picture each: ``kind -> ("module:compute",
-"module:draw")``. ``compute(sweep)`` returns that capability's result, ``draw(result,
-path_or_fileobj, fmt)`` writes the picture. Adding one is one line, e.g.::
+@dataclass(frozen=True)
+class FigureKind:
+    """A picture drawn by another capability's own module (one sweep, one picture).
 
-    FIGURE_KINDS["distance"] = ("matchtool.locate:locate", "matchtool.render.plot_locate:draw_distance")
-"""
+    ``compute`` and ``draw`` are ``"module:function"`` references, imported on use:
+    ``compute(sweep, **options)`` returns that capability's result and ``draw(result,
+    path_or_fileobj, fmt, **options)`` writes the picture. ``compute_options`` / ``draw_options``
+    name the keyword arguments each takes from the command's options (the others are not passed);
+    ``multiport`` kinds need a file with two or more ports; ``needs`` lists the options the kind
+    cannot do without (``--velocity-factor``...), ``what`` says what the picture shows (for help)."""
+
+    compute: str
+    draw: str
+    what: str = ""
+    multiport: bool = False
+    compute_options: tuple[str, ...] = ()
+    draw_options: tuple[str, ...] = ()
+
+    @staticmethod
+    def pick(names: Sequence[str], options: dict[str, Any]) -> dict[str, Any]:
+        """The entries of ``options`` named in ``names`` whose value is set (not None)."""
+        return {k: options[k] for k in names if options.get(k) is not None}
+
+
+FIGURE_KINDS: dict[str, FigureKind] = {
+    "distance": FigureKind("matchtool.locate:analyze", "matchtool.render.plot_locate:draw_distance",
+                           "reflection versus distance along the feed (needs --velocity-factor)",
+                           compute_options=("velocity_factor", "gate_m", "gate_s", "max_distance_m")),
+    "isolation": FigureKind("matchtool.coupling:analyze_coupling", "matchtool.render.plot_coupling:draw_isolation",
+                            "every |S_ij| in dB with the spec's isolation limits (multi-port file)",
+                            multiport=True, compute_options=("bands",), draw_options=("masks",)),
+    "ecc": FigureKind("matchtool.coupling:analyze_coupling", "matchtool.render.plot_coupling:draw_ecc",
+                      "envelope correlation of every pair with the spec's ECC limits (multi-port file)",
+                      multiport=True, compute_options=("bands",), draw_options=("masks",)),
+    "tarc": FigureKind("matchtool.coupling:analyze_coupling", "matchtool.render.plot_coupling:draw_tarc",
+                       "total active reflection, worst and best over the excitation phases (multi-port file)",
+                       multiport=True, compute_options=("bands",)),
+}
+"""Kinds drawn by another capability's own module, one picture each. Adding one is one line."""
 
 
 def figure_kind(kind: str):
@@ -58,8 +90,10 @@ def figure_kind(kind: str):
         mod, _, name = ref.partition(":")
         return getattr(importlib.import_module(mod), name)
 
-    compute, draw = FIGURE_KINDS[kind]
-    return load(compute), load(draw)
+    fk = FIGURE_KINDS[kind]
+    return load(fk.compute), load(fk.draw)
+
+
 FORMATS = ("png", "svg", "pdf")
 
 # name, hex colour, in the order traces take them. CIE L* (lightness): 22, 74, 40, 58, 31, 80 - the
@@ -73,7 +107,7 @@ PALETTE = (
     ("sky", "#8fd0f0"),
 )
 DASHES = ("-", (0, (6, 2)), (0, (1.5, 1.5)), (0, (6, 2, 1.5, 2)), (0, (3, 1.2)), (0, (8, 2, 1.5, 2, 1.5, 2)))
-MARKERS = ("o", "s", "^", "D", "v", "P")
+MARKERS = ("o", "s", "^", "D", "X", "P")  # no downward triangle: it reads as a limit or a fault mark
 BAND_FILL = "#e4e4e4"  # light grey: band spans stay visible when printed in black and white
 MASK_COLOR = "#222222"
 MASK_TINT = "#a83a24"  # the forbidden side of a limit: a light brick tint (alpha below), never hatching
@@ -81,6 +115,7 @@ MASK_ALPHA = 0.11
 BEST_MARKER = "H"  # matchtool's best-match mark: an open hexagon ringed in the trace's colour
 BAND_ROW_PT = 15.0  # height of one row of band brackets above the axes (points)
 THRESHOLD_COLOR = "#555555"
+LEGEND_TWO_COLUMN_CHARS = 44  # the longest label a two-column legend takes under a 7.2-inch panel
 RL_CAP_DB = 60.0  # a return loss above this (or infinite) is drawn at the top of the axis
 
 
@@ -273,7 +308,10 @@ def _legend_below(ax: Axes, gap: float = 0.13, extra: Sequence[Any] = ()) -> Non
     handles = list(handles) + list(extra)
     labels = list(labels) + [h.get_label() for h in extra]
     n = len(labels)
-    ax.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if n > 3 else 1, frameon=False)
+    # two columns only while the labels are short: long ones (a network's parts) would push the
+    # legend past the picture's edges
+    two = n > 3 and max((len(x) for x in labels), default=0) <= LEGEND_TWO_COLUMN_CHARS
+    ax.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, -gap), ncol=2 if two else 1, frameon=False)
 
 
 def _span(traces: Sequence[Trace]) -> tuple[float, float]:
@@ -514,7 +552,8 @@ def draw_smith(ax: Axes, traces: Sequence[Trace], threshold_return_loss_db: floa
         if bands:
             marks = [(b.name, f) for b in bands for f in (b.f_low_hz, b.f_high_hz)]
         else:
-            marks = [(f"{t.label} band {k + 1}" if len(traces) > 1 else f"band {k + 1}", f)
+            # a trace's short name (before the parts list of a matched trace) keeps the legend narrow
+            marks = [(f"{t.label.split(':')[0]} band {k + 1}" if len(traces) > 1 else f"band {k + 1}", f)
                      for k, b in enumerate(t.threshold_bands) for f in (b.f_low_hz, b.f_high_hz)]
         for name in dict.fromkeys(m[0] for m in marks):
             pts = [(f, _gamma_at(t, f)) for n, f in marks if n == name]

@@ -118,7 +118,14 @@ def requirement_cells(q: Any, limit_unit: bool = True) -> tuple[str, str, str, s
     d = 3 if q.key == "max_vswr" else 2
     worst, lim = distinct(q.worst, q.limit, d)
     return (verdict, f"{worst} {q.unit}", f"{q.worst_f_hz / 1e6:.3f} MHz", f"{lim} {q.unit}" if limit_unit else lim,
-            margin(q.margin_db, 2, "dB", q.passed))
+            _margin_of(q))
+
+
+def _margin_of(q: Any) -> str:
+    """A requirement's signed margin: dB, or for an ECC limit the ECC below it (dimensionless)."""
+    if q.margin_db is None and getattr(q, "margin_ecc", None) is not None:
+        return margin(q.margin_ecc, 3, "ECC", q.passed)
+    return margin(q.margin_db, 2, "dB", q.passed)
 
 
 def requirement_verdict_sentence(v: Any, names: Mapping[str, str] | None = None) -> str:
@@ -134,8 +141,7 @@ def requirement_verdict_sentence(v: Any, names: Mapping[str, str] | None = None)
     else:
         d = 3 if v.key == "max_vswr" else 2
         worst, lim = distinct(b.worst, b.limit, d)
-        what = (f"worst {worst} {v.unit} at {mhz(b.worst_f_hz)} MHz, limit {lim} {v.unit}, "
-                f"margin {margin(b.margin_db, 2, 'dB', b.passed)}")
+        what = f"worst {worst} {v.unit} at {mhz(b.worst_f_hz)} MHz, limit {lim} {v.unit}, margin {_margin_of(b)}"
     text = f"{v.name}: best is {_nm(names, v.best_file)} ({what}); {len(v.passing_files)} of {n} pass"
     if v.failing_files:
         text += f" (failing: {', '.join(_nm(names, f) for f in v.failing_files)})"
@@ -208,25 +214,18 @@ def mismatch_cost_line(res: Any) -> str:
 
 # --- match ------------------------------------------------------------------------------------
 
-def _match_views():
-    """The match engineer's part notation and schematic (render/text/match.py once it moves
-    there; commands/match.py until then), so the report prints parts as 'matchtool match' does."""
-    try:
-        from .text import match as m  # type: ignore[attr-defined]
-
-        return m.part_value_text, m.schematic
-    except ImportError:
-        from ..commands import match as m
-
-        return m.part_value_text, m.schematic
-
-
 def part_text(e: Any) -> str:
-    return _match_views()[0](e)
+    """A part's value as 'matchtool match' prints it (render/text/match.py's notation)."""
+    from .text.match import part_value_text
+
+    return part_value_text(e)
 
 
 def schematic(elements: Any, z0_ohm: float) -> str:
-    return _match_views()[1](elements, z0_ohm)
+    """The text schematic of a network, as 'matchtool match' draws it."""
+    from .text.match import schematic as draw
+
+    return draw(elements, z0_ohm)
 
 
 def network_text(elements: Any) -> str:

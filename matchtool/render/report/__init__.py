@@ -21,7 +21,7 @@ from collections.abc import Callable
 from ... import __version__
 from .. import html as h
 from ..plots import legend_labels
-from . import budget, compare, match, plots, spec, summary, sweeps, traceability
+from . import budget, compare, extras, match, plots, spec, summary, sweeps, traceability
 
 Builder = Callable[..., "h.Section | None"]
 
@@ -48,6 +48,10 @@ SECTIONS: list[tuple[str, Builder]] = [
     ("plots", plots.section),
     ("match", match.section),
     ("budget", budget.section),
+    ("coupling", extras.coupling),
+    ("locate", extras.locate),
+    ("qfactor", extras.qfactor),
+    ("history", extras.history),
     ("traceability", traceability.section),
 ]
 
@@ -65,6 +69,12 @@ def build_page(ctx, title: str | None = None) -> h.Page:
     sub = f"Generated {ctx.generated.strftime('%Y-%m-%d %H:%M:%S UTC')} by matchtool {__version__}"
     return h.Page(title=title or f"Antenna match report: {', '.join(names.values())}", subtitle=sub,
                   sections=sections)
+
+
+def render_page(ctx, title: str | None = None) -> tuple[str, list[str]]:
+    """The whole page (as :func:`render`) and the ids of its sections, in page order."""
+    page = build_page(ctx, title)
+    return h.render_page(page), [s.id for s in h.ordered(page.sections)]
 
 
 def render(ctx, title: str | None = None) -> str:

@@ -34,8 +34,12 @@ def section(ctx, names) -> h.Section:
     c = ctx.comparison
     base = names[c.rows[0].file]
     lines = []
+    ports = {sw.path: (sw.port, sw.nports) for sw in ctx.sweeps}
     for r in c.rows:
         lab = names[r.file]
+        p, n = ports.get(r.file, (1, 1))
+        if n > 1:  # a multi-port file: say whose reflection these numbers are
+            lab = f"{lab} port {p} (S{p}{p}, of {n} ports)"
         if r.threshold_bands:
             widths = ", ".join(f"{ff(t.band.f_low_hz)} to {ff(t.band.f_high_hz)} ({computed_frequency(t.band.bandwidth_hz)} wide)"
                                for t in r.threshold_bands)

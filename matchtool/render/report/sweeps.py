@@ -9,10 +9,13 @@ from ..words import computed_frequency, fixed
 
 def section(ctx, names) -> h.Section:
     parts = []
+    nports = {sw.path: sw.nports for sw in ctx.sweeps}
     for s in ctx.summaries:
         b = s.best
         z = b.z_ohm
-        parts.append(f"<h3>{h.esc(names[s.path])}</h3>")
+        n = nports.get(s.path, 1)
+        shown = names[s.path] + (f", port {s.port} (S{s.port}{s.port} of a {n}-port file)" if n > 1 else "")
+        parts.append(f"<h3>{h.esc(shown)}</h3>")
         parts.append(h.table(["port", "Z0 ohm", "points", "start", "stop"],
                              [[s.port, f"{s.z0_ohm:g}", s.points, ff(s.f_start_hz), ff(s.f_stop_hz)]],
                              [False, True, True, True, True], caption="Sweep"))
@@ -31,5 +34,13 @@ def section(ctx, names) -> h.Section:
                                             ("runs past the sweep stop", x.clipped_high)) if on)] for x in s.bands],
                 [True, True, True, True, True, False], caption=cap))
         else:
-            parts.append(h.paragraph(f"{cap}: none - the sweep never reaches the threshold."))
+            why = ("none wide enough to count (below)" if s.noise_crossings
+                   else "none - the sweep never reaches the threshold")
+            parts.append(h.paragraph(f"{cap}: {why}."))
+        if s.noise_crossings:
+            parts.append(h.paragraph(
+                f"Noise-level crossings, not bands (narrower than {computed_frequency(s.min_band_width_hz)} or under "
+                "2 samples; never used in a verdict): " + "; ".join(
+                    f"{ff(x.f_low_hz)} to {ff(x.f_high_hz)} ({computed_frequency(x.bandwidth_hz)} wide)"
+                    for x in s.noise_crossings) + ".", "note"))
     return h.Section("sweeps", "Sweeps (inspect metrics)", "\n".join(parts))

@@ -6,12 +6,24 @@ from __future__ import annotations
 import math
 import sys
 
+NO_TERMINAL_COLUMNS = 140
+"""Width of the tables when stdout is not a terminal (a file, a pipe) and ``COLUMNS`` is not set."""
+
+
+def columns() -> int | None:
+    """The width asked for in the ``COLUMNS`` environment variable (a positive whole number), else None."""
+    import os
+
+    text = os.environ.get("COLUMNS", "").strip()
+    return int(text) if text.isdigit() and int(text) > 0 else None
+
 
 def console():
-    """A rich Console on the current stdout (created per call so tests can capture it)."""
+    """A rich Console on the current stdout (created per call so tests can capture it): as wide as
+    ``COLUMNS`` when that is set, else the terminal's width, else :data:`NO_TERMINAL_COLUMNS`."""
     from rich.console import Console
 
-    width = None if sys.stdout.isatty() else 140
+    width = columns() or (None if sys.stdout.isatty() else NO_TERMINAL_COLUMNS)
     return Console(file=sys.stdout, highlight=False, soft_wrap=False, width=width)
 
 
@@ -31,3 +43,10 @@ def warn(messages) -> None:
     """Print warnings to stderr, one line each."""
     for m in messages:
         print(f"warning: {' '.join(str(m).split())}", file=sys.stderr)
+
+
+def say(text: str) -> None:
+    """A sentence on stdout, wrapped at word boundaries to the console's width (never cut)."""
+    from .tables import say as wrapped
+
+    wrapped(console(), text)

@@ -92,7 +92,9 @@ def render_spec(c: Comparison, names: list[str], con=None) -> None:
     for name, r in zip(names, c.rows, strict=True):
         for q, d in zip(r.spec.requirements, r.delta_margin, strict=True):
             cells = requirement_cells(q)
-            dm = "n/a" if d is None else (f"{d / 1e6 + 0.0:+.3f} MHz" if q.key == "resonance" else f"{d + 0.0:+.2f} dB")
+            dm = "n/a" if d is None else (f"{d / 1e6 + 0.0:+.3f} MHz" if q.key == "resonance" else
+                                          f"{d + 0.0:+.3f} ECC" if q.margin_db is None and q.margin_ecc is not None
+                                          else f"{d + 0.0:+.2f} dB")
             rows.append([name, q.name, cells[0], *cells[1:], dm])
             worst, lim = cells[1], cells[3]
             unit = q.unit if q.key != "resonance" and q.worst is not None else ""
