@@ -14,6 +14,7 @@ The one entry point is :func:`propose` (returns a :class:`MatchResult`); ``desig
 """
 
 from .bodefano import BodeFanoBound, bode_fano_bound
+from .library import cascade, evaluate_parts
 from .network import (
     MEANINGFUL_GAIN_DB,
     SERIES_BLOCK_X_PER_Z0,
@@ -42,7 +43,6 @@ from .network import (
     synthesize_at,
     unit_impedance,
 )
-from .library import cascade, evaluate_parts
 from .optimise import nelder_mead
 from .propose import (
     LOSSLESS_TOL,
@@ -72,8 +72,10 @@ __all__ = [
     "SHUNT_SHORT_X_PER_Z0", "TWO_PI", "Element", "LNetwork", "PartQ", "Response", "ValueBounds", "abcd", "dc_path",
     "element_from_reactance", "evaluate", "filter_character", "gamma_matched", "matched_network", "network_2port",
     "part_impedance", "part_role", "passes_dc", "practical", "s_parameters", "synthesize_at", "unit_impedance",
-    "cascade", "evaluate_parts", "nelder_mead", "LOSSLESS_TOL", "MIN_BAND_SAMPLES", "NETWORKS", "PAD_SCALE_C_F", "PAD_SCALE_L_H", "ROUGH_FIT",
-    "SIMPLER_GAIN_DB", "BandOutcome", "Candidate", "IdealComparison", "MatchResult", "PartNote", "Position", "Target", "TargetReport",
+    "cascade", "evaluate_parts",
+    "nelder_mead", "LOSSLESS_TOL", "MIN_BAND_SAMPLES", "NETWORKS", "PAD_SCALE_C_F", "PAD_SCALE_L_H", "ROUGH_FIT",
+    "SIMPLER_GAIN_DB", "BandOutcome", "Candidate",
+    "IdealComparison", "MatchResult", "PartNote", "Position", "Target", "TargetReport",
     "design_at", "design_for_band", "propose", "topology_name", "SMALL_C_LIMIT_F", "SMALL_C_TOLERANCE_F",
     "YieldSettings", "build_yield", "BodeFanoBound", "bode_fano_bound",
 ]

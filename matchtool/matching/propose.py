@@ -70,6 +70,7 @@ SIMPLER_GAIN_DB = 0.01  # a network with more parts is listed only when it beats
 PAD_SCALE_C_F = 0.5e-12
 PAD_SCALE_L_H = 1.0e-9
 IDEAL_PARTS = PartQ()
+NEGATIVE_R_FRACTION = 0.01  # R below -1 % of |Z|: more than measurement noise (a choice, no source)
 DEFAULT_BOUNDS = ValueBounds()
 RANK_BY = "worst in-band power delivered to the antenna (includes part losses)"
 RANK_BY_PARTS = ("worst in-band power delivered to the antenna through the library's parts as they behave "
@@ -355,6 +356,13 @@ def _step_targets(run: _Run) -> None:
     if run.library is not None:
         every = np.concatenate([s[0] for s in run.samples] + [np.array([run.f0])])
         run.library.check_covers(every)  # one line naming the library and the part
+        for part in run.library.parts:
+            if part.measured:  # pads left in a series measurement show as a negative resistance in Z from S21
+                z = part.series_impedance_ohm(f)
+                if np.any(z.real < -NEGATIVE_R_FRACTION * np.abs(z)):
+                    run.warnings.append(f"{run.library.path or 'parts library'}: part {part.label!r}: its impedance "
+                                        "from S21 has a negative resistance in the band (pads or fixture not "
+                                        "de-embedded?); in a shunt position it is used as measured")
         covered = lib_.covered_mask(run.library.parts, sw.f_hz)
         if not covered.all():
             fc = sw.f_hz[covered]
