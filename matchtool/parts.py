@@ -258,6 +258,11 @@ def _tolerance(text, kind: str, value: float, path: str, key: str) -> float:
     return tol
 
 
+def default_label(kind: str, value: float) -> str:
+    """The label of a part without a ``name``: "C 2.2 pF", "L 12 nH"."""
+    return _describe(kind, value)
+
+
 def _describe(kind: str, value: float) -> str:
     from .units import format_value_si
 
