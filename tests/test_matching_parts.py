@@ -327,3 +327,36 @@ def test_a_band_outside_a_measured_part_is_refused_naming_library_and_part(kit):
         mt.propose(net, bands=[(1.15e9, 1.25e9)], parts=lib)
     with pytest.raises(UsageError, match="PartsLibrary"):
         mt.propose(net, bands=[(1.15e9, 1.25e9)], parts="kit.toml")
+
+
+def test_yield_of_one_part_equals_the_share_of_its_tolerance_that_passes():
+    # one model capacitor (1.5 pF, SRF 6 GHz, Q 60 at 1 GHz, +-10 %) in shunt across an inductive antenna.
+    # Independent: the worst in-band return loss of the build as a function of the drawn value, scanned
+    # on a dense grid of the uniform interval by hand (shunt admittance Y = 1/Z on the load admittance,
+    # Pozar 4th ed. sec. 5.1); the limit is set to the median worst RL, so about half the interval
+    # passes, and the Monte Carlo yield must equal the passing share within 4 standard errors.
+    # the antenna: 50 ohm in parallel with 19.3 nH (B = -0.009 S at 915 MHz, derived: 1/(2 pi 915e6 19.3e-9))
+    w_a = 2 * math.pi * F_ANT
+    y_a = 0.02 + 1 / (1j * w_a * 19.3e-9)
+    g_a = (1 / y_a - 50) / (1 / y_a + 50)
+    ant = skrf.Network(frequency=skrf.Frequency.from_f(F_ANT, unit="Hz"), s=g_a.reshape(-1, 1, 1), z0=50.0)
+    c, tol = 1.5e-12, 0.15e-12
+    part = Part("capacitor", c, tol, "C 1p5", q=60.0, q_ref_hz=1e9, srf_hz=6e9)
+    f = ant.f[IN_BAND]
+    w = 2 * math.pi * f
+    zl = 50 * (1 + ant.s[IN_BAND, 0, 0]) / (1 - ant.s[IN_BAND, 0, 0])
+    ls = 1 / ((2 * math.pi * 6e9) ** 2 * c)
+    esr = 1 / (2 * math.pi * 1e9 * c * 60)
+    vals = np.linspace(c - tol, c + tol, 4001)
+    z = esr + 1j * w[None, :] * ls + 1 / (1j * w[None, :] * vals[:, None])  # value moves, parasitics stay
+    zin = 1 / (1 / zl[None, :] + 1 / z)
+    worst = (-20 * np.log10(np.abs((zin - 50) / (zin + 50)))).min(axis=1)
+    limit = float(np.median(worst))
+    share = float(np.mean(worst >= limit))
+    lib = PartsLibrary.from_parts([part])
+    r = mt.propose(ant, bands=[(BAND[0], BAND[1], limit)], network="l", parts=lib, threshold_db=limit,
+                   tolerance=mt.YieldSettings(trials=20000, seed=5), max_candidates=4)
+    cand = next(k for k in r.candidates if [e.connection for e in k.elements] == ["shunt"])
+    se = math.sqrt(share * (1 - share) / 20000)
+    assert 0.3 < share < 0.7
+    assert cand.yield_fraction == pytest.approx(share, abs=4 * se + 1e-3)
