@@ -360,3 +360,28 @@ def test_yield_of_one_part_equals_the_share_of_its_tolerance_that_passes():
     se = math.sqrt(share * (1 - share) / 20000)
     assert 0.3 < share < 0.7
     assert cand.yield_fraction == pytest.approx(share, abs=4 * se + 1e-3)
+
+
+def test_a_75_ohm_system_uses_the_measured_parts_at_75_ohm(kit):
+    # the same physical antenna and parts matched to 75 ohm: scikit-rf cascades at 50 ohm, then the
+    # network and the antenna renormalised to 75 ohm (Network.renormalize), give the figures
+    lib, folder = kit
+    ant = _antenna(12)
+    sw = Sweep.from_network(ant, z0_ohm=75.0)
+    assert sw.z0_ohm == 75.0
+    r = mt.propose(sw, bands=[BAND], network="tee", parts=lib, max_candidates=3)
+    c = next(c for c in r.candidates if c.elements)
+    nets = [_part_network(p, e.connection, folder, ant.f) for p, e in zip(c.parts, c.elements, strict=True)]
+    two = nets[0]
+    for n in nets[1:]:
+        two = two ** n
+    two75, ant75 = two.copy(), ant.copy()
+    two75.renormalize(75.0)
+    ant75.renormalize(75.0)
+    gl = ant75.s[:, 0, 0]
+    s11, s21, s12, s22 = two75.s[:, 0, 0], two75.s[:, 1, 0], two75.s[:, 0, 1], two75.s[:, 1, 1]
+    gin = s11 + s12 * s21 * gl / (1 - s22 * gl)  # Pozar 4th ed. eq. 11.3a
+    gt = np.abs(s21) ** 2 * (1 - np.abs(gl) ** 2) / np.abs(1 - s22 * gl) ** 2  # Pozar eq. 11.13
+    assert c.worst_return_loss_db == pytest.approx(float((-20 * np.log10(np.abs(gin[IN_BAND]))).min()), abs=1e-6)
+    assert c.worst_delivered_fraction == pytest.approx(float(gt[IN_BAND].min()), rel=1e-6)
+    np.testing.assert_allclose(c.network_2port().s, two75.s, atol=1e-9)
