@@ -597,3 +597,24 @@ def test_options_the_library_replaces_are_refused(cli, extra):
     r = cli("match", ANT_R1, "--band", "902MHz:928MHz", "--parts", KIT, *extra)
     assert r.code == 2 and len(r.err_lines) == 1 and "cannot be used with --parts" in r.err, r.err
     assert extra[0] in r.err
+
+
+def test_parts_measured_over_less_than_the_sweep_write_only_what_they_span(cli, tmp_path):
+    # antenna swept 2.5-3.5 GHz, band 2.6-2.8 GHz; the kit's files stop at 3 GHz: the band is served,
+    # a warning says so, and a written network of measured parts stops at 3 GHz (never extrapolated)
+    f = np.linspace(2.5e9, 3.5e9, 401)
+    w = 2 * np.pi * f
+    z = 20.0 + 1j * (w * 4e-9 - 1 / (w * 1.2e-12))
+    (tmp_path / "hi.s1p").write_text(s1p_text(f, gamma_of(z)))
+    out = tmp_path / "m.s1p"
+    r = cli("match", tmp_path / "hi.s1p", "--band", "2.6GHz:2.8GHz", "--parts", KIT, "--json",
+            "--write-matched", out, "--candidates", "8")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert any("span only 2500 to 3000 MHz of the sweep" in w for w in doc["warnings"])
+    written = skrf.Network(str(out))
+    files = [e["part"]["file"] for e in doc["candidates"][0]["elements"] if e["part"]["measured"]]
+    if files:
+        assert written.f[-1] <= 3.0e9 and written.f[0] == 2.5e9
+    else:
+        assert written.f[-1] == 3.5e9

@@ -362,7 +362,8 @@ def _step_targets(run: _Run) -> None:
                 if np.any(z.real < -NEGATIVE_R_FRACTION * np.abs(z)):
                     run.warnings.append(f"{run.library.path or 'parts library'}: part {part.label!r}: its impedance "
                                         "from S21 has a negative resistance in the band (pads or fixture not "
-                                        "de-embedded?); in a shunt position it is used as measured")
+                                        "de-embedded, or noise near its self-resonance); in a shunt position it "
+                                        "is used as measured")
         covered = lib_.covered_mask(run.library.parts, sw.f_hz)
         if not covered.all():
             fc = sw.f_hz[covered]
