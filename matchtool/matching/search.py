@@ -231,7 +231,8 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
         # over fewer samples is still a lower bound), and its number of fitted parts
         lb = np.empty(n_rows)
         n_rest = np.zeros(n_rows, dtype=np.int64)
-        chunk = max(1, EVAL_BLOCK // max(probe2.size, 1))
+        spread = 4 if any(o.abcd is not None for o in rest) else 1  # a 2x2 matrix per sample: 4x the memory
+        chunk = max(1, EVAL_BLOCK // max(probe2.size * spread, 1))
         for start in range(0, n_rows, chunk):
             flat = np.arange(start, min(start + chunk, n_rows))
             idx = np.unravel_index(flat, shape)
