@@ -126,11 +126,11 @@ def test_value_shift_moves_the_ideal_element_and_keeps_the_parasitics():
 def test_a_band_outside_a_measured_part_is_refused_with_the_part_named(tmp_path):
     _write(_media(np.linspace(1e9, 3e9, 41)).capacitor(1e-12), tmp_path / "c.s2p")
     (tmp_path / "lib.toml").write_text('name = "kit"\n[[part]]\nkind = "capacitor"\nvalue = "1pF"\ntolerance = "0.05pF"\n'
-                                       'file = "c.s2p"\nname = "GRM 1p0"\n')
+                                       'file = "c.s2p"\nname = "shelf C1p0"\n')
     lib = load_library(tmp_path / "lib.toml")
-    with pytest.raises(UsageError, match="GRM 1p0.*does not cover"):
+    with pytest.raises(UsageError, match="shelf C1p0.*does not cover"):
         lib.parts[0].series_impedance_ohm(np.array([2e9, 4e9]))
-    with pytest.raises(PartsLibraryError, match="lib.toml: part 'GRM 1p0' was measured from 1000 to 3000 MHz"):
+    with pytest.raises(PartsLibraryError, match="lib.toml: part 'shelf C1p0' was measured from 1000 to 3000 MHz"):
         lib.check_covers(np.array([0.9e9, 2e9]))
 
 

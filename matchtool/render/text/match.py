@@ -67,7 +67,7 @@ def _named(e) -> bool:
 
 
 def part_text(e) -> str:
-    """``series L 12 nH``; a library part with a name: ``shunt GRM 1p0 (C 1 pF)``."""
+    """``series L 12 nH``; a library part with a name: ``shunt shelf C1p0 (C 1 pF)``."""
     sym = "L" if e.kind == "inductor" else "C"
     if _named(e):
         return f"{e.connection} {e.label} ({sym} {part_value_text(e)})"
