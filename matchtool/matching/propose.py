@@ -165,7 +165,9 @@ class Candidate:
     "pi 1+2"); ``worst_return_loss_db`` the worst over the optimised targets (dB);
     ``network_loss_db`` the largest in-band network loss (dB, 0 for ideal parts);
     ``worst_delivered_fraction`` the smallest delivered power over the optimised samples;
-    ``dc_path`` "passes" | "blocked" | "shorted" | "blocked+shorted".
+    ``dc_path`` "passes" | "blocked" | "shorted" | "blocked+shorted". With a parts library: ``parts``
+    the library's :class:`matchtool.parts.Part` behind each element (same order; every figure is
+    computed through them) and ``ideal`` the same values as ideal parts (:class:`IdealComparison`).
     """
 
     topology: str
@@ -240,7 +242,8 @@ class MatchResult:
 
     ``f0_hz`` the first target's centre (or the ``--at`` frequency); ``f_low_hz`` / ``f_high_hz`` the
     first band's edges (None for one frequency); ``targets`` every target before matching;
-    ``threshold_return_loss_db`` the default limit (for the threshold bands of the sweeps)."""
+    ``threshold_return_loss_db`` the default limit (for the threshold bands of the sweeps);
+    ``parts_library`` the library the networks were picked from (None: standard values)."""
 
     path: str
     z0_ohm: float
