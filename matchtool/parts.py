@@ -258,6 +258,11 @@ def _tolerance(text, kind: str, value: float, path: str, key: str) -> float:
     return tol
 
 
+def default_label(kind: str, value: float) -> str:
+    """The label of a part without a ``name``: "C 2.2 pF", "L 12 nH"."""
+    return _describe(kind, value)
+
+
 def _describe(kind: str, value: float) -> str:
     from .units import format_value_si
 
@@ -365,36 +370,67 @@ def load_library(path: str | Path) -> PartsLibrary:
     return parse_library(text, path)
 
 
+def _measured_s(part: Part, f: np.ndarray) -> np.ndarray:
+    """The measured S (n, 2, 2) of a part, interpolated in complex S onto ``f`` (at ``part.z0_ohm``)."""
+    return np.stack([np.stack([_interp_complex(f, part.f_hz, part.s[:, i, j]) for j in range(2)], axis=-1)
+                     for i in range(2)], axis=-2)
+
+
+def part_abcd(part: Part, f_hz: np.ndarray, connection: str = "series",
+              value: float | np.ndarray | None = None) -> np.ndarray:
+    """ABCD matrices of the part in ``connection`` at ``f_hz`` (ohm and siemens; shape (n, 2, 2), or
+    ``value.shape + (n, 2, 2)`` for an array of values).
+
+    A measured part in series is its measurement itself (S interpolated in complex S, converted with
+    scikit-rf's ``s2a``; an ABCD matrix does not depend on the reference impedance); a value shift
+    ``dv`` then cascades the change of the ideal element, a series impedance
+    ``Z_ideal(v + dv) - Z_ideal(v)``, on the antenna side (port 2) of the measurement. Every other
+    case is the series element [[1, Z], [0, 1]] or the shunt element [[1, 0], [1/Z, 1]] of the
+    part's series impedance Z(f) (Pozar, Microwave Engineering, 4th ed., Table 4.1).
+    """
+    import skrf
+
+    f = np.asarray(f_hz, dtype=float)
+    if connection not in ("series", "shunt"):
+        raise UsageError("unknown connection", parameter="connection", value=connection, expected="series or shunt")
+    z = part.series_impedance_ohm(f, value)  # also refuses frequencies outside a measured part's sweep
+    a = np.zeros(z.shape + (2, 2), dtype=complex)
+    a[..., 0, 0] = a[..., 1, 1] = 1.0
+    if part.measured and connection == "series":
+        m = skrf.network.s2a(_measured_s(part, f), np.full(2, part.z0_ohm))
+        if value is None:
+            return m
+        w = TWO_PI * f
+        v = np.asarray(value, dtype=float)[..., None] if np.ndim(value) else float(value)
+        a[..., 0, 1] = _ideal_impedance(part.kind, v, w) - _ideal_impedance(part.kind, part.value, w)
+        return m @ a
+    if connection == "series":
+        a[..., 0, 1] = z
+    else:
+        a[..., 1, 0] = 1.0 / z
+    return a
+
+
 def part_two_port(part: Part, f_hz: np.ndarray, z0_ohm: float, connection: str = "series",
                   value: float | None = None):
     """The part as an ``skrf.Network`` 2-port at ``f_hz`` and reference ``z0_ohm``.
 
     A measured part in series gives its measurement itself (S interpolated in complex S onto
-    ``f_hz``, renormalised to ``z0_ohm``) unless ``value`` shifts it; every other case gives the
-    ideal series or shunt element of impedance Z(f).
+    ``f_hz``, renormalised to ``z0_ohm``); with ``value`` the ideal element's change is cascaded
+    on its port-2 side (see :func:`part_abcd`). Every other case gives the series or shunt element
+    of impedance Z(f).
     """
     import skrf
 
     f = np.asarray(f_hz, dtype=float)
     freq = skrf.Frequency.from_f(f, unit="Hz")
-    z = part.series_impedance_ohm(f, value)  # also refuses frequencies outside a measured part's sweep
     if part.measured and connection == "series" and value is None:
-        s = np.stack([np.stack([_interp_complex(f, part.f_hz, part.s[:, i, j]) for j in range(2)], axis=-1)
-                      for i in range(2)], axis=-2)
+        part.series_impedance_ohm(f)  # refuses frequencies outside the part's sweep, naming the part
+        s = _measured_s(part, f)
         if not math.isclose(part.z0_ohm, z0_ohm):
             s = skrf.network.renormalize_s(s, np.full(2, part.z0_ohm), np.full(2, float(z0_ohm)))
         return skrf.Network(frequency=freq, s=s, z0=z0_ohm, name=part.label)
-    if connection == "series":
-        a = np.zeros((f.size, 2, 2), dtype=complex)
-        a[:, 0, 0] = a[:, 1, 1] = 1.0
-        a[:, 0, 1] = z
-    elif connection == "shunt":
-        a = np.zeros((f.size, 2, 2), dtype=complex)
-        a[:, 0, 0] = a[:, 1, 1] = 1.0
-        a[:, 1, 0] = 1.0 / z
-    else:
-        raise UsageError("unknown connection", parameter="connection", value=connection, expected="series or shunt")
-    s = skrf.network.a2s(a, z0_ohm)
+    s = skrf.network.a2s(part_abcd(part, f, connection, value), z0_ohm)
     return skrf.Network(frequency=freq, s=s, z0=z0_ohm, name=part.label)
 
 

@@ -463,3 +463,158 @@ def test_terminal_view_is_whole_at_80_100_120_columns(tmp_path, width):
             for e in c.elements:
                 assert part_value_text(e) in flat
             assert f"worst RL {rl_text(c.worst_return_loss_db)} dB" in flat
+
+
+# --- --parts LIB.toml --------------------------------------------------------------------------
+
+KIT = "sample_sweeps/parts_0402_kit.toml"
+ANT_R1 = "sample_sweeps/ant_r1.s1p"
+
+
+def _kit_network(c: dict, f: np.ndarray) -> skrf.Network:
+    """A candidate of the JSON rebuilt by scikit-rf from the kit's files and models (independent of
+    matchtool: measured series parts are the files as scikit-rf reads and interpolates them; shunt
+    measured parts the shunt element of Z = 2 Z0 (1 - S21) / S21, Pozar 4th ed. Tables 4.1-4.2;
+    model parts the lumped circuits of docs/parts.md)."""
+    m = skrf.media.DefinedGammaZ0(frequency=skrf.Frequency.from_f(f, unit="Hz"), z0=50.0)
+    nets = []
+    for e in c["elements"]:
+        p = e["part"]
+        if p["measured"]:
+            net = skrf.Network(f"sample_sweeps/{p['file']}").interpolate(m.frequency, kind="linear", coords="cart")
+            if e["connection"] == "shunt":
+                s21 = 0.5 * (net.s[:, 1, 0] + net.s[:, 0, 1])
+                z = 100.0 * (1 - s21) / s21
+                net = m.shunt(m.load((z - 50) / (z + 50)))
+        else:
+            v, wq = e["value"], 2 * math.pi * p["q_ref_hz"]
+            if e["kind"] == "capacitor":
+                net = (m.resistor(1 / (wq * v * p["q"])) ** m.inductor(1 / ((2 * math.pi * p["srf_hz"]) ** 2 * v))
+                       ** m.capacitor(v))
+            else:
+                br = m.resistor(wq * v / p["q"]) ** m.inductor(v)
+                cp = m.capacitor(1 / ((2 * math.pi * p["srf_hz"]) ** 2 * v))
+                net = skrf.Network(frequency=br.frequency, s=skrf.network.y2s(br.y + cp.y, 50.0), z0=50.0)
+            if e["connection"] == "shunt":
+                net = m.shunt(net ** m.short())
+        nets.append(net)
+    out = nets[0]
+    for n in nets[1:]:
+        out = out ** n
+    return out
+
+
+@pytest.mark.parametrize("network", ["l", "pi", "tee"])
+def test_parts_kit_figures_and_written_files_are_an_skrf_cascade(cli, tmp_path, network):
+    net_path, matched_path = tmp_path / "net.s2p", tmp_path / "m.s1p"
+    r = cli("match", ANT_R1, "--band", "902MHz:928MHz", "--network", network, "--parts", KIT, "--json",
+            "--write-network", net_path, "--write-matched", matched_path)
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert doc["series"] == "library" and doc["parts_library"]["parts"] == 14
+    ant = skrf.Network(ANT_R1)
+    band = (ant.f >= 902e6) & (ant.f <= 928e6)
+    for c in doc["candidates"][:3]:
+        if not c["elements"]:
+            continue
+        two = _kit_network(c, ant.f)
+        gin = (two ** ant).s[:, 0, 0]
+        # the band samples are the measured ones plus the interpolated edges (on the 250 kHz grid here)
+        assert c["worst_return_loss_db"] == pytest.approx(float((-20 * np.log10(np.abs(gin[band]))).min()), abs=1e-4)
+        gl = ant.s[:, 0, 0]
+        gt = np.abs(two.s[:, 1, 0]) ** 2 * (1 - np.abs(gl) ** 2) / np.abs(1 - two.s[:, 1, 1] * gl) ** 2  # Pozar eq. 11.13
+        loss = 10 * np.log10((1 - np.abs(gin[band]) ** 2) / gt[band])
+        assert c["network_loss_db"] == pytest.approx(float(loss.max()), abs=1e-4)
+        assert c["as_ideal_parts"]["worst_return_loss_db"] > 0
+        assert all(e["part"]["label"] for e in c["elements"])
+    best = doc["candidates"][0]
+    written = skrf.Network(str(net_path))
+    ref = _kit_network(best, written.f)
+    np.testing.assert_allclose(written.s, ref.s, atol=1e-8)
+    wm = skrf.Network(str(matched_path))
+    wband = (wm.f >= 902e6) & (wm.f <= 928e6)
+    assert best["worst_return_loss_db"] == pytest.approx(float((-20 * np.log10(np.abs(wm.s[wband, 0, 0]))).min()),
+                                                         abs=1e-4)
+
+
+def test_parts_text_names_the_library_and_shows_the_ideal_comparison(cli):
+    r = cli("match", ANT_R1, "--band", "902MHz:928MHz", "--network", "pi", "--parts", KIT)
+    assert r.code == 0, r.err
+    assert "parts from library '0402 sub-GHz matching kit (demo)'" in r.out.replace("\n", " ")
+    assert "same values as ideal parts: worst RL" in r.out
+    assert "each part within its own tolerance from the library" in r.out.replace("\n", " ")
+    assert all(len(line) <= 120 for line in r.out.splitlines())
+
+
+def test_without_parts_the_output_has_no_library_lines(cli):
+    r = cli("match", ANT_R1, "--band", "902MHz:928MHz")
+    assert r.code == 0
+    assert "library" not in r.out and "ideal parts" not in r.out and "E24 values" in r.out
+    doc = cli("match", ANT_R1, "--band", "902MHz:928MHz", "--json").json()
+    assert doc["parts_library"] is None and doc["series"] == "E24"
+    assert all(c["as_ideal_parts"] is None and all("part" not in e for e in c["elements"]) for c in doc["candidates"])
+
+
+def _kit_copy(tmp_path, edit=None, band_file=None):
+    import shutil
+
+    for f in ("part_c1p0.s2p", "part_c2p2.s2p", "part_c3p3.s2p", "part_c4p7.s2p", "part_l8n2.s2p", "part_l15n.s2p"):
+        shutil.copy(f"sample_sweeps/{f}", tmp_path / f)
+    text = open(KIT).read()
+    if edit:
+        text = text.replace(*edit)
+    (tmp_path / "kit.toml").write_text(text)
+    return tmp_path / "kit.toml"
+
+
+@pytest.mark.parametrize("make, words", [
+    (lambda tmp: tmp / "none.toml", ["none.toml", "no such file"]),
+    (lambda tmp: _kit_copy(tmp, ('file = "part_l8n2.s2p"', 'file = "gone.s2p"')),
+     ["kit.toml", "part[12].file", "gone.s2p", "does not exist"]),
+    (lambda tmp: _kit_copy(tmp, ('value = "2.2pF"\ntolerance = "0.1pF"', 'value = "2.2pF"\ntolerance = "3pF"')),
+     ["kit.toml", "part[3].tolerance", "not below the value"]),
+])
+def test_parts_library_errors_are_one_line_exit_2(cli, tmp_path, make, words):
+    lib = make(tmp_path)
+    r = cli("match", ANT_R1, "--band", "902MHz:928MHz", "--parts", lib)
+    assert r.code == 2 and len(r.err_lines) == 1 and r.err_lines[0].startswith("error:"), r.err
+    for w in words:
+        assert w in r.err_lines[0]
+
+
+def test_a_part_file_not_covering_the_band_is_one_line_naming_library_and_part(cli, tmp_path):
+    lib = _kit_copy(tmp_path)
+    f = np.linspace(3.0e9, 3.5e9, 201)
+    (tmp_path / "hi.s1p").write_text(s1p_text(f, gamma_of(np.full(f.size, 20.0 + 10j))))
+    r = cli("match", tmp_path / "hi.s1p", "--band", "3.1GHz:3.2GHz", "--parts", lib)
+    assert r.code == 2 and len(r.err_lines) == 1, r.err
+    assert "kit.toml" in r.err and "part 'C 1 pF' was measured from 100 to 3000 MHz" in r.err
+
+
+@pytest.mark.parametrize("extra", [["--q-inductor", "40"], ["--tolerance", "5%"], ["--series", "E12"],
+                                   ["--c-range", "1pF:10pF"]])
+def test_options_the_library_replaces_are_refused(cli, extra):
+    r = cli("match", ANT_R1, "--band", "902MHz:928MHz", "--parts", KIT, *extra)
+    assert r.code == 2 and len(r.err_lines) == 1 and "cannot be used with --parts" in r.err, r.err
+    assert extra[0] in r.err
+
+
+def test_parts_measured_over_less_than_the_sweep_write_only_what_they_span(cli, tmp_path):
+    # antenna swept 2.5-3.5 GHz, band 2.6-2.8 GHz; the kit's files stop at 3 GHz: the band is served,
+    # a warning says so, and a written network of measured parts stops at 3 GHz (never extrapolated)
+    f = np.linspace(2.5e9, 3.5e9, 401)
+    w = 2 * np.pi * f
+    z = 20.0 + 1j * (w * 4e-9 - 1 / (w * 1.2e-12))
+    (tmp_path / "hi.s1p").write_text(s1p_text(f, gamma_of(z)))
+    out = tmp_path / "m.s1p"
+    r = cli("match", tmp_path / "hi.s1p", "--band", "2.6GHz:2.8GHz", "--parts", KIT, "--json",
+            "--write-matched", out, "--candidates", "8")
+    assert r.code == 0, r.err
+    doc = r.json()
+    assert any("span only 2500 to 3000 MHz of the sweep" in w for w in doc["warnings"])
+    written = skrf.Network(str(out))
+    files = [e["part"]["file"] for e in doc["candidates"][0]["elements"] if e["part"]["measured"]]
+    if files:
+        assert written.f[-1] <= 3.0e9 and written.f[0] == 2.5e9
+    else:
+        assert written.f[-1] == 3.5e9

@@ -405,3 +405,77 @@ def test_exact_pi_and_tee_are_never_worse_than_exact_l(seed):
     ell = _tool_margin(m.propose(sw, bands=[(lo, hi)], series="exact", q=m.PartQ(60, 300)))
     for net in ("pi", "tee"):
         assert _tool_margin(m.propose(sw, bands=[(lo, hi)], series="exact", network=net, q=m.PartQ(60, 300))) >= ell - 1e-9
+
+
+# ---------------------------------------------------------------- options with non-ideal behaviour
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_search_stays_exact_with_negative_resistance_and_two_port_options(seed):
+    # position-1 options with a negative conductance (a noisy measured part seen in shunt, exaggerated)
+    # and positions holding arbitrary 2-ports (a part with pads): the search's best equals a plain
+    # enumeration of every option combination (numpy ABCD products, Pozar 4th ed. Table 4.1, and the
+    # transducer gain of the test's own _delivered)
+    from matchtool.matching import search as srch
+
+    rng = np.random.default_rng(seed)
+    f = np.linspace(900e6, 930e6, 31)
+    n = f.size
+    gl = 0.6 * np.exp(1j * (rng.uniform(0, 2 * np.pi) + np.linspace(0, 1.5, n)))
+    prob = srch.Problem(f, gl, np.ones(n), Z0, m.PartQ())
+
+    def immittances(k):
+        x = rng.uniform(-3, 3, (k, 1)) * (1 + 0.05 * np.linspace(-1, 1, n))[None, :]
+        r = rng.uniform(-0.4, 0.2, (k, 1)) * np.ones((1, n))  # some negative (noise, exaggerated)
+        return np.concatenate([np.zeros((1, n)), r + 1j * x])
+
+    def two_ports(imm):
+        # series element with pads to ground on both sides: Y_pad Z0 = j 0.02 ... 0.1 (normalised ABCD)
+        mats = np.zeros((imm.shape[0], n, 2, 2), dtype=complex)
+        mats[..., 0, 0] = mats[..., 1, 1] = 1.0
+        for k in range(1, imm.shape[0]):
+            yp = 1j * rng.uniform(0.02, 0.1)
+            pad = np.array([[1, 0], [yp, 1]])
+            ser = np.zeros((n, 2, 2), dtype=complex)
+            ser[:, 0, 0] = ser[:, 1, 1] = 1.0
+            ser[:, 0, 1] = imm[k]
+            mats[k] = pad @ ser @ pad
+        return mats
+
+    k = 7
+    kinds = np.array([srch.NONE] + [srch.INDUCTOR] * 3 + [srch.CAPACITOR] * (k - 3))
+    values = np.array([math.nan] + list(range(1, k + 1)), dtype=float)
+    fp = srch.Footprint("tee", ("series", "shunt", "series"))
+    imm1, imm2, imm3 = immittances(k), immittances(k), immittances(k)
+    opts = [srch.Options("series", kinds, values, imm1, two_ports(imm1)),
+            srch.Options("shunt", kinds, values, imm2),
+            srch.Options("series", kinds, values, imm3, two_ports(imm3))]
+    fp_pi = srch.Footprint("pi", ("shunt", "series", "shunt"))
+    opts_pi = [srch.Options("shunt", kinds, values, imm2), srch.Options("series", kinds, values, imm1,
+                                                                        two_ports(imm1)),
+               srch.Options("shunt", kinds, values, immittances(k))]
+    for footprint, options in ((fp, opts), (fp_pi, opts_pi)):
+        mats = []
+        for o in options:
+            if o.abcd is not None:
+                mats.append(o.abcd)
+                continue
+            a = np.zeros((o.imm.shape[0], n, 2, 2), dtype=complex)
+            a[..., 0, 0] = a[..., 1, 1] = 1.0
+            a[..., 0 if o.connection == "series" else 1, 1 if o.connection == "series" else 0] = o.imm
+            mats.append(a)
+        best = 0.0
+        for i1 in range(k + 1):
+            for i2 in range(k + 1):
+                for i3 in range(k + 1):
+                    t = mats[0][i1] @ mats[1][i2] @ mats[2][i3]
+                    # normalised ABCD (Z0 = 1): reuse the test's transducer gain at Z0 = 1 ohm
+                    best = max(best, float(_delivered_z0(t, gl, 1.0).min()))
+        found = srch.search(prob, [footprint], {footprint: options}, keep=3, simpler_gain=1.0)
+        assert 1 - found[0].cost == pytest.approx(best, rel=1e-9, abs=1e-12)
+
+
+def _delivered_z0(abcd, gl, z0):
+    a, b, c, d = abcd[:, 0, 0], abcd[:, 0, 1], abcd[:, 1, 0], abcd[:, 1, 1]
+    den = a + b / z0 + c * z0 + d
+    s21, s22 = 2 / den, (-a + b / z0 - c * z0 + d) / den
+    return np.abs(s21) ** 2 * (1 - np.abs(gl) ** 2) / np.abs(1 - s22 * gl) ** 2  # Pozar 4th ed. sec. 12.1

@@ -15,7 +15,7 @@ import pytest
 import skrf
 
 from matchtool.errors import InputError, UsageError
-from matchtool.parts import Part, PartsLibrary, PartsLibraryError, load_library, part_two_port
+from matchtool.parts import Part, PartsLibrary, PartsLibraryError, load_library, part_abcd, part_two_port
 from matchtool.sweep import write_touchstone
 
 F = np.linspace(0.5e9, 6e9, 221)
@@ -126,11 +126,11 @@ def test_value_shift_moves_the_ideal_element_and_keeps_the_parasitics():
 def test_a_band_outside_a_measured_part_is_refused_with_the_part_named(tmp_path):
     _write(_media(np.linspace(1e9, 3e9, 41)).capacitor(1e-12), tmp_path / "c.s2p")
     (tmp_path / "lib.toml").write_text('name = "kit"\n[[part]]\nkind = "capacitor"\nvalue = "1pF"\ntolerance = "0.05pF"\n'
-                                       'file = "c.s2p"\nname = "GRM 1p0"\n')
+                                       'file = "c.s2p"\nname = "shelf C1p0"\n')
     lib = load_library(tmp_path / "lib.toml")
-    with pytest.raises(UsageError, match="GRM 1p0.*does not cover"):
+    with pytest.raises(UsageError, match="shelf C1p0.*does not cover"):
         lib.parts[0].series_impedance_ohm(np.array([2e9, 4e9]))
-    with pytest.raises(PartsLibraryError, match="lib.toml: part 'GRM 1p0' was measured from 1000 to 3000 MHz"):
+    with pytest.raises(PartsLibraryError, match="lib.toml: part 'shelf C1p0' was measured from 1000 to 3000 MHz"):
         lib.check_covers(np.array([0.9e9, 2e9]))
 
 
@@ -182,3 +182,21 @@ def test_library_built_in_code_sorts_by_kind_and_value_and_refuses_duplicates():
         PartsLibrary.from_parts([Part("inductor", 1e-9, 0, "L"), Part("inductor", 2e-9, 0, "L")])
     with pytest.raises(UsageError, match="tolerance"):
         Part("capacitor", 1e-12, 2e-12, "C")
+
+
+def test_value_shift_of_a_measured_series_part_cascades_the_ideal_change_after_the_measurement(tmp_path):
+    # a measured 3.3 nH part with pads, shifted to 3.5 nH: its measurement cascaded with a series
+    # 0.2 nH (scikit-rf's inductor), the ideal element's change on the port-2 side (docs/parts.md)
+    m = _media()
+    meas = m.shunt_capacitor(0.05e-12) ** m.inductor(3.3e-9) ** m.shunt_capacitor(0.05e-12)
+    _write(meas, tmp_path / "l.s2p")
+    (tmp_path / "lib.toml").write_text('[[part]]\nkind = "inductor"\nvalue = "3.3nH"\ntolerance = "0.3nH"\n'
+                                       'file = "l.s2p"\n')
+    (p,) = load_library(tmp_path / "lib.toml").parts
+    ref = meas ** m.inductor(0.2e-9)
+    np.testing.assert_allclose(part_two_port(p, F, 50.0, "series", value=3.5e-9).s, ref.s, atol=1e-9)
+    # an array of values gives one ABCD stack per value; the nominal value is the measurement itself
+    stack = part_abcd(p, F, "series", np.array([3.3e-9, 3.5e-9]))
+    assert stack.shape == (2, F.size, 2, 2)
+    np.testing.assert_allclose(skrf.network.a2s(stack[0], 50.0), meas.s, atol=1e-9)
+    np.testing.assert_allclose(skrf.network.a2s(stack[1], 50.0), ref.s, atol=1e-9)

@@ -33,6 +33,7 @@ from .options import (  # noqa: F401  (re-exported: the option types of match, s
     LRangeOpt,
     MatchSpecOpt,
     NetworkOpt,
+    PartsOpt,
     PickOpt,
     QCapacitorOpt,
     QInductorOpt,
@@ -65,6 +66,8 @@ EPILOG = """Examples:
   matchtool match ant_r1.s1p --at 915MHz --series exact --json
 
   matchtool match ant_r1.s1p --band 902MHz:928MHz --write-network net.s2p --write-matched ant_matched.s1p
+
+  matchtool match ant_r1.s1p --band 902MHz:928MHz --network pi --parts parts_0402_kit.toml
 """
 
 
@@ -86,6 +89,7 @@ class MatchOptions:
     port: int
     write_network: str | None
     write_matched: str | None
+    parts: str | None = None
 
 
 def yield_settings(tolerance: str | None, tolerance_l: str | None, tolerance_c: str | None, trials: int,
@@ -101,6 +105,19 @@ def yield_settings(tolerance: str | None, tolerance_l: str | None, tolerance_c: 
     return mt.YieldSettings(tl_rel if tl_rel is not None else (tol or 0.0),
                             tc_rel if tc_rel is not None else (tol or 0.0), trials, seed,
                             tolerance_l_h=tl_abs, tolerance_c_f=tc_abs, small_c_tolerance_f=small_c)
+
+
+def _check_parts_options(parts: str | None, given: dict[str, object], series: str) -> None:
+    """With --parts the library's parts bring their own Q, tolerance and values: refuse the options
+    that would set them (one line), rather than ignore them."""
+    if parts is None:
+        return
+    clash = [flag for flag, v in given.items() if v is not None]
+    if series.strip().upper() != "E24":
+        clash.insert(0, "--series")
+    if clash:
+        raise UsageError(f"{', '.join(clash)} cannot be used with --parts", key="--parts",
+                         expected="the library's parts with their own values, Q, self-resonance and tolerance")
 
 
 def _targets(at: str | None, band: list[str] | None, spec: str | None, port: int, threshold_db: float):
@@ -139,17 +156,23 @@ def _write(r: mt.MatchResult, o: MatchOptions, sw, force: bool) -> None:
     if not 1 <= o.pick <= len(r.candidates):
         raise UsageError(f"--pick {o.pick}", expected=f"a rank from 1 to {len(r.candidates)}")
     chosen = r.candidates[o.pick - 1]
-    desc = "; ".join(f"{e.connection} {e.kind} {part_value_text(e, 6)}" for e in chosen.elements) or "no parts"
-    notes = [f"matchtool match network for {sw.name} (radio side first): {desc}",
-             f"part Q: L {fmt(o.q.inductor, 1)}, C {fmt(o.q.capacitor, 1)}"]
+    desc = "; ".join(f"{e.connection} {e.kind} {part_value_text(e, 6)}" + (f" ({e.label})" if e.label else "")
+                     for e in chosen.elements) or "no parts"
+    notes = [f"matchtool match network for {sw.name} (radio side first): {desc}"]
+    if r.parts_library is not None:
+        lib = r.parts_library
+        notes.append(f"parts from library {lib.name or lib.path!r} ({lib.path}), as measured or modelled there")
+    else:
+        notes.append(f"part Q: L {fmt(o.q.inductor, 1)}, C {fmt(o.q.capacitor, 1)}")
+    f = chosen.f_covered_hz
     items = []
     if o.write_network:
         s = chosen.network_2port().s
-        items.append((o.write_network, touchstone_text(sw.f_hz, s, r.z0_ohm,
+        items.append((o.write_network, touchstone_text(f, s, r.z0_ohm,
                                                        notes + ["port 1 = radio side, port 2 = antenna side"])))
     if o.write_matched:
         g = chosen.matched_network().s[:, 0, 0]
-        items.append((o.write_matched, touchstone_text(sw.f_hz, g, r.z0_ohm,
+        items.append((o.write_matched, touchstone_text(f, g, r.z0_ohm,
                                                        notes + [f"antenna {sw.name} seen through the network"])))
     atomic_write_many(items, force)
 
@@ -178,6 +201,7 @@ def register(app: typer.Typer) -> None:
         pick: PickOpt = 1,
         write_network: WriteNetworkOpt = None,
         write_matched: WriteMatchedOpt = None,
+        parts: PartsOpt = None,
         port: PortOpt = 1,
         z0: Z0Opt = None,
         min_return_loss: MinRLOpt = None,
@@ -189,6 +213,10 @@ def register(app: typer.Typer) -> None:
         """Matching networks (two-part L, or three-pad pi / tee with any positions empty) for a
         frequency or one or more bands: the best standard-value networks, evaluated on the sweep."""
         thr = threshold_from_options(min_return_loss, max_vswr, max_s11_db)
+        _check_parts_options(parts, {"--q-inductor": q_inductor, "--q-capacitor": q_capacitor,
+                                     "--tolerance": tolerance, "--tolerance-inductor": tolerance_l,
+                                     "--tolerance-capacitor": tolerance_c, "--c-range": c_range,
+                                     "--l-range": l_range}, series)
         f0, bands, port_used = _targets(at, band, spec, port, thr)
         c_lo, c_hi = parse_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
         l_lo, l_hi = parse_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
@@ -196,12 +224,19 @@ def register(app: typer.Typer) -> None:
             f0, bands, tuple(parse_band(b) for b in show_band or ()), network.strip().lower(), series,
             mt.PartQ(part_q(q_inductor, "--q-inductor"), part_q(q_capacitor, "--q-capacitor")),
             mt.ValueBounds(c_lo, c_hi, l_lo, l_hi), thr, yield_settings(tolerance, tolerance_l, tolerance_c, trials, seed),
-            count, pick, port_used, write_network, write_matched)
+            count, pick, port_used, write_network, write_matched, parts)
         _check_outputs(o, sweep, force)
+        library = None
+        ys = o.yield_settings
+        if o.parts is not None:
+            from ..parts import load_library
+
+            library = load_library(o.parts)
+            ys = mt.YieldSettings(trials=trials, seed=seed)  # each part within its own tolerance
         sw = load(sweep, port=o.port, z0_ohm=z0)
         r = mt.propose(sw, f0_hz=o.f0_hz, bands=o.bands, report_bands=o.show_bands, network=o.network,
                        series=o.series, q=o.q, bounds=o.bounds, threshold_db=o.threshold_db,
-                       tolerance=o.yield_settings, max_candidates=o.count)
+                       tolerance=ys, max_candidates=o.count, parts=library)
         if o.write_network or o.write_matched:
             _write(r, o, sw, force)
         if json_out:

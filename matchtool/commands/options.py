@@ -78,6 +78,7 @@ PARAMETER_FLAGS: dict[str, str] = {
     "trials": "--trials",
     "seed": "--seed",
     "max_candidates": "--candidates",
+    "parts": "--parts",
 }
 
 
@@ -301,6 +302,9 @@ WriteNetworkOpt = Annotated[str | None, typer.Option("--write-network", metavar=
     help="Write the network as a 2-port (port 1 radio).")]
 WriteMatchedOpt = Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
     help="Write the antenna with the network in place.")]
+PartsOpt = Annotated[str | None, typer.Option("--parts", metavar="LIB.toml",
+    help="Pick only from this parts library (TOML: measured 2-ports or Q/SRF models, each with its tolerance); "
+         "also shows the same values as ideal parts.")]
 
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
 

@@ -9,10 +9,12 @@ The one entry point is :func:`propose` (returns a :class:`MatchResult`); ``desig
 * :mod:`.optimise` a small Nelder-Mead (exact values)
 * :mod:`.bodefano` the Bode-Fano bound of a fitted resonator
 * :mod:`.yield_`   the tolerance yield (relative or absolute tolerances)
+* :mod:`.library`  a parts library's parts as search options, ladders of real parts
 * :mod:`.propose`  targets, ranking, results
 """
 
 from .bodefano import BodeFanoBound, bode_fano_bound
+from .library import cascade, evaluate_parts
 from .network import (
     MEANINGFUL_GAIN_DB,
     SERIES_BLOCK_X_PER_Z0,
@@ -52,6 +54,7 @@ from .propose import (
     SIMPLER_GAIN_DB,
     BandOutcome,
     Candidate,
+    IdealComparison,
     MatchResult,
     PartNote,
     Position,
@@ -69,8 +72,10 @@ __all__ = [
     "SHUNT_SHORT_X_PER_Z0", "TWO_PI", "Element", "LNetwork", "PartQ", "Response", "ValueBounds", "abcd", "dc_path",
     "element_from_reactance", "evaluate", "filter_character", "gamma_matched", "matched_network", "network_2port",
     "part_impedance", "part_role", "passes_dc", "practical", "s_parameters", "synthesize_at", "unit_impedance",
+    "cascade", "evaluate_parts",
     "nelder_mead", "LOSSLESS_TOL", "MIN_BAND_SAMPLES", "NETWORKS", "PAD_SCALE_C_F", "PAD_SCALE_L_H", "ROUGH_FIT",
-    "SIMPLER_GAIN_DB", "BandOutcome", "Candidate", "MatchResult", "PartNote", "Position", "Target", "TargetReport",
+    "SIMPLER_GAIN_DB", "BandOutcome", "Candidate",
+    "IdealComparison", "MatchResult", "PartNote", "Position", "Target", "TargetReport",
     "design_at", "design_for_band", "propose", "topology_name", "SMALL_C_LIMIT_F", "SMALL_C_TOLERANCE_F",
     "YieldSettings", "build_yield", "BodeFanoBound", "bode_fano_bound",
 ]

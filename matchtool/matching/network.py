@@ -36,12 +36,14 @@ TWO_PI = 2.0 * math.pi
 @dataclass(frozen=True)
 class Element:
     """One part: ``kind`` "inductor"|"capacitor", ``connection`` "series"|"shunt", ``value`` in H or F;
-    ``position`` the footprint position (1 = radio side) or None for a free-standing ladder."""
+    ``position`` the footprint position (1 = radio side) or None for a free-standing ladder; ``label``
+    the parts library's name of the part when it comes from one (None otherwise)."""
 
     kind: str
     connection: str
     value: float
     position: int | None = field(default=None, compare=False)  # placement, not part of the part's identity
+    label: str | None = field(default=None, compare=False)  # a library part's name (None: an ideal part)
 
     def __post_init__(self) -> None:
         if self.kind not in ("inductor", "capacitor"):

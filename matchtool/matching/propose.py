@@ -14,6 +14,12 @@ For a preferred-value series the ranked list's first network is the best combina
 that series within the value ranges and the practical-part limits (an exhaustive, bounded search,
 :mod:`.search`); for ``series="exact"`` the best grid networks (and the closed-form L-sections) are
 refined by a Nelder-Mead minimax on the logarithm of the values.
+
+With a parts library (``parts=``, :mod:`matchtool.parts`) every position may hold any part of the
+library or nothing; the search is the same exhaustive search over those options (so the first network
+is the best combination of the library's parts), every part is used through its real behaviour (see
+:mod:`.library`: the same 2-port for the search, the figures, the yield and the written files), and
+each candidate also carries what the same values would do as ideal parts (``Candidate.ideal``).
 """
 
 from __future__ import annotations
@@ -28,8 +34,10 @@ import numpy as np
 from .. import eseries
 from ..bands import Band, band_samples, find_bands
 from ..errors import NoSolutionError, UsageError
+from ..parts import Part, PartsLibrary
 from ..reflection import impedance_ohm, return_loss_db
 from ..sweep import Sweep, as_sweep, gamma_at_many
+from . import library as lib_
 from . import search as srch
 from .bodefano import BodeFanoBound, bode_fano_bound
 from .network import (
@@ -62,8 +70,11 @@ SIMPLER_GAIN_DB = 0.01  # a network with more parts is listed only when it beats
 PAD_SCALE_C_F = 0.5e-12
 PAD_SCALE_L_H = 1.0e-9
 IDEAL_PARTS = PartQ()
+NEGATIVE_R_FRACTION = 0.01  # R below -1 % of |Z|: more than measurement noise (a choice, no source)
 DEFAULT_BOUNDS = ValueBounds()
 RANK_BY = "worst in-band power delivered to the antenna (includes part losses)"
+RANK_BY_PARTS = ("worst in-band power delivered to the antenna through the library's parts as they behave "
+                 "(measured 2-ports or models; includes their losses)")
 RANK_BY_BANDS = ("smallest margin over the bands: -10 log10(1 - worst delivered power) minus the band's "
                  "return-loss limit (includes part losses)")
 
@@ -133,6 +144,19 @@ class PartNote:
 
 
 @dataclass(frozen=True)
+class IdealComparison:
+    """What the same values would do as ideal (lossless, parasitic-free) parts, on the same samples:
+    worst return loss (dB) over the optimised targets, smallest delivered fraction, smallest margin
+    (dB), per-target outcomes and the bands of the matched sweep (at the default threshold)."""
+
+    worst_return_loss_db: float
+    worst_delivered_fraction: float
+    min_margin_db: float
+    per_band: tuple[BandOutcome, ...]
+    bands: tuple[Band, ...]
+
+
+@dataclass(frozen=True)
 class Candidate:
     """One ranked network with its performance on the measured sweep.
 
@@ -141,7 +165,9 @@ class Candidate:
     "pi 1+2"); ``worst_return_loss_db`` the worst over the optimised targets (dB);
     ``network_loss_db`` the largest in-band network loss (dB, 0 for ideal parts);
     ``worst_delivered_fraction`` the smallest delivered power over the optimised samples;
-    ``dc_path`` "passes" | "blocked" | "shorted" | "blocked+shorted".
+    ``dc_path`` "passes" | "blocked" | "shorted" | "blocked+shorted". With a parts library: ``parts``
+    the library's :class:`matchtool.parts.Part` behind each element (same order; every figure is
+    computed through them) and ``ideal`` the same values as ideal parts (:class:`IdealComparison`).
     """
 
     topology: str
@@ -164,25 +190,49 @@ class Candidate:
     z0_ohm: float = 50.0
     q: PartQ = IDEAL_PARTS
     sweep: Sweep | None = field(default=None, repr=False, compare=False)
+    parts: tuple[Part, ...] = field(default=(), repr=False, compare=False)  # library parts, as ``elements``
+    ideal: IdealComparison | None = None
+
+    @property
+    def f_covered_hz(self) -> np.ndarray:
+        """The sweep's frequencies (Hz) that every measured part of the network spans (all of them
+        without library parts): where the matched sweep and the written files are given."""
+        f = self.sweep.f_hz
+        return f[lib_.covered_mask(self.parts, f)] if self.parts else f
 
     def network_2port(self, f_hz: np.ndarray | None = None, name: str = "matching network"):
         """The network as an ``skrf.Network`` 2-port (port 1 radio, port 2 antenna) at ``z0_ohm``, on
-        ``f_hz`` (Hz; default: the sweep's frequencies)."""
+        ``f_hz`` (Hz; default: the sweep's frequencies the parts span). Library parts enter as they
+        behave (a measured series part is its measured 2-port)."""
         import skrf
 
-        f = np.asarray(self.sweep.f_hz if f_hz is None else f_hz, dtype=float)
+        f = np.asarray(self.f_covered_hz if f_hz is None else f_hz, dtype=float)
         freq = skrf.Frequency.from_f(f, unit="Hz")
-        return skrf.Network(frequency=freq, s=s_parameters(f, self.elements, self.z0_ohm, self.q), z0=self.z0_ohm,
-                            name=name)
+        if self.parts:
+            m = np.broadcast_to(np.eye(2, dtype=complex), (f.size, 2, 2))
+            for p, e in zip(self.parts, self.elements, strict=True):
+                m = m @ lib_.part_abcd(p, f, e.connection)
+            s = skrf.network.a2s(m, self.z0_ohm)
+        else:
+            s = s_parameters(f, self.elements, self.z0_ohm, self.q)
+        return skrf.Network(frequency=freq, s=s, z0=self.z0_ohm, name=name)
 
     def matched_network(self):
-        """The antenna seen through the network, as an ``skrf.Network`` 1-port at ``z0_ohm``."""
+        """The antenna seen through the network, as an ``skrf.Network`` 1-port at ``z0_ohm`` (on the
+        sweep's frequencies the parts span)."""
         import skrf
 
         sw = self.sweep
-        g = evaluate(sw.f_hz, sw.gamma, self.z0_ohm, [(e.kind, e.connection) for e in self.elements],
-                     [e.value for e in self.elements], self.q).gamma_in
-        return skrf.Network(frequency=skrf.Frequency.from_f(sw.f_hz, unit="Hz"), s=g.reshape(-1, 1, 1),
+        if self.parts:
+            mask = lib_.covered_mask(self.parts, sw.f_hz)
+            f = sw.f_hz[mask]
+            g = lib_.evaluate_parts(f, sw.gamma[mask], self.z0_ohm, self.parts,
+                                    [e.connection for e in self.elements]).gamma_in
+        else:
+            f = sw.f_hz
+            g = evaluate(sw.f_hz, sw.gamma, self.z0_ohm, [(e.kind, e.connection) for e in self.elements],
+                         [e.value for e in self.elements], self.q).gamma_in
+        return skrf.Network(frequency=skrf.Frequency.from_f(f, unit="Hz"), s=g.reshape(-1, 1, 1),
                             z0=self.z0_ohm, name=f"{sw.name} matched")
 
 
@@ -192,7 +242,8 @@ class MatchResult:
 
     ``f0_hz`` the first target's centre (or the ``--at`` frequency); ``f_low_hz`` / ``f_high_hz`` the
     first band's edges (None for one frequency); ``targets`` every target before matching;
-    ``threshold_return_loss_db`` the default limit (for the threshold bands of the sweeps)."""
+    ``threshold_return_loss_db`` the default limit (for the threshold bands of the sweeps);
+    ``parts_library`` the library the networks were picked from (None: standard values)."""
 
     path: str
     z0_ohm: float
@@ -215,6 +266,7 @@ class MatchResult:
     network: str = "l"
     targets: tuple[TargetReport, ...] = ()
     port: int = 1
+    parts_library: PartsLibrary | None = field(default=None, repr=False)
 
     @property
     def no_network_needed(self) -> bool:
@@ -253,6 +305,8 @@ class _Run:
     meets: bool = False
     rank_by: str = RANK_BY
     range_ends: dict = field(default_factory=dict)  # (footprint, position, kind) -> (min, max) allowed
+    library: PartsLibrary | None = None
+    option_parts: dict = field(default_factory=dict)  # (footprint, position) -> the part behind each option
 
 
 def _as_target(t, threshold_db: float, optimised: bool) -> Target:
@@ -302,6 +356,23 @@ def _step_targets(run: _Run) -> None:
                               path=sw.path, expected="a lossy passive load")
     run.problem = srch.Problem(f, g, wt, run.z0, run.q)
     run.f0 = run.targets[opt[0]].f_center_hz
+    if run.library is not None:
+        every = np.concatenate([s[0] for s in run.samples] + [np.array([run.f0])])
+        run.library.check_covers(every)  # one line naming the library and the part
+        for part in run.library.parts:
+            if part.measured:  # pads left in a series measurement show as a negative resistance in Z from S21
+                z = part.series_impedance_ohm(f)
+                if np.any(z.real < -NEGATIVE_R_FRACTION * np.abs(z)):
+                    run.warnings.append(f"{run.library.path or 'parts library'}: part {part.label!r}: its impedance "
+                                        "from S21 has a negative resistance in the band (pads or fixture not "
+                                        "de-embedded, or noise near its self-resonance); in a shunt position it "
+                                        "is used as measured")
+        covered = lib_.covered_mask(run.library.parts, sw.f_hz)
+        if not covered.all():
+            fc = sw.f_hz[covered]
+            run.warnings.append(f"{sw.path}: the parts' measurements span only {fc.min() / 1e6:.6g} to "
+                                f"{fc.max() / 1e6:.6g} MHz of the sweep; matched-sweep bands and written files "
+                                "for networks of measured parts cover only the frequencies their parts span")
 
 
 def _step_before(run: _Run) -> None:
@@ -357,6 +428,17 @@ def _step_search(run: _Run) -> None:
     p = run.problem
     centres = sorted({t.f_center_hz for t in run.targets if t.optimised})
     fps = srch.FOOTPRINTS[run.network]
+    if run.library is not None:  # every part of the library (or nothing) at every position
+        options = {}
+        for fp in fps:
+            opts = []
+            for j, conn in enumerate(fp.connections, start=1):
+                o, behind = lib_.options_from_library(conn, run.library, p)
+                opts.append(o)
+                run.option_parts[(fp, j)] = behind
+            options[fp] = opts
+        run.found = srch.search(p, fps, options, run.max_candidates + 3, 10 ** (SIMPLER_GAIN_DB / 10))
+        return
     exact = run.series == "exact"
     options = {}
     for fp in fps:
@@ -470,13 +552,22 @@ def _refine(run: _Run, fps, starts: list[srch.Found], keep: int) -> list[srch.Fo
     return sorted(best.values(), key=lambda f: f.cost)[:keep]
 
 
-def _elements(fd: srch.Found) -> tuple[tuple[Element, ...], tuple[Position, ...]]:
+def _library_parts(run: _Run, fd: srch.Found) -> tuple[Part, ...]:
+    """The library parts of a found circuit's fitted positions, radio side first."""
+    if run.library is None:
+        return ()
+    return tuple(run.option_parts[(fd.footprint, j)][ix]
+                 for j, (kind, ix) in enumerate(zip(fd.kinds, fd.index, strict=True), start=1) if kind != srch.NONE)
+
+
+def _elements(fd: srch.Found, parts: Sequence[Part] = ()) -> tuple[tuple[Element, ...], tuple[Position, ...]]:
     els, pos = [], []
+    labels = iter(p.label for p in parts)
     for j, (conn, kind, val) in enumerate(zip(fd.footprint.connections, fd.kinds, fd.values, strict=True), start=1):
         if kind == srch.NONE:
             pos.append(Position(j, conn, "link" if conn == "series" else "empty"))
             continue
-        e = Element(srch.KIND_NAMES[kind], conn, float(val), position=j)
+        e = Element(srch.KIND_NAMES[kind], conn, float(val), position=j, label=next(labels, None))
         els.append(e)
         pos.append(Position(j, conn, "part", e))
     return tuple(els), tuple(pos)
@@ -521,6 +612,9 @@ def _step_rank(run: _Run) -> None:
                            f"is listed above every network that gains less than {MEANINGFUL_GAIN_DB:g} dB over it, "
                            "and networks that gain nothing are left out")
     run.candidates = run.candidates[:run.max_candidates]
+    if not run.candidates and run.library is not None:
+        raise NoSolutionError("no network of the library's parts improves this load", path=run.sweep.path,
+                              expected="a parts library with values that can match this antenna")
     if not run.candidates:
         b = run.bounds
         raise NoSolutionError("no network with practical part values inside the bounds improves this load",
@@ -529,7 +623,59 @@ def _step_rank(run: _Run) -> None:
                                        "(see --c-range, --l-range)")
 
 
+def _outcomes(run: _Run, response_of) -> tuple[list[BandOutcome], list[float]]:
+    """Per target, the outcome of a network whose response on samples (f, gamma) is ``response_of``."""
+    outcomes, losses = [], []
+    for t, (f, g) in zip(run.targets, run.samples, strict=True):
+        r = response_of(f, g)
+        g2 = np.max(np.abs(r.gamma_in) ** 2)
+        with np.errstate(divide="ignore"):
+            rl = float(-10 * np.log10(g2))
+        outcomes.append(BandOutcome(t, rl, float(r.delivered.min()), rl - t.limit_return_loss_db))
+        if t.optimised and np.isfinite(r.network_loss_db).any():
+            losses.append(float(np.nanmax(r.network_loss_db)))
+    return outcomes, losses
+
+
+def _describe_parts(run: _Run, fd: srch.Found) -> Candidate:
+    """A network of library parts: every figure through the parts' real 2-ports (as written), and
+    the same values as ideal parts beside it."""
+    sw, z0 = run.sweep, run.z0
+    parts = _library_parts(run, fd)
+    els, pos = _elements(fd, parts)
+    conns = [e.connection for e in els]
+
+    def real(f, g):
+        return lib_.evaluate_parts(f, g, z0, parts, conns)
+
+    def ideal(f, g):
+        return evaluate(f, g, z0, [(e.kind, e.connection) for e in els], [e.value for e in els], IDEAL_PARTS)
+
+    outcomes, losses = _outcomes(run, real)
+    ideal_out, _ = _outcomes(run, ideal)
+    opt = [o for o in outcomes if o.target.optimised]
+    iopt = [o for o in ideal_out if o.target.optimised]
+    g0 = gamma_at_many(sw.f_hz, sw.gamma, np.array([run.f0]), sw.path)
+    rl0 = float(return_loss_db(real(np.array([run.f0]), g0).gamma_in)[0])
+    mask = lib_.covered_mask(parts, sw.f_hz)
+    fc, gc = sw.f_hz[mask], sw.gamma[mask]
+    bands = tuple(find_bands(fc, return_loss_db(real(fc, gc).gamma_in), run.threshold_db))
+    ideal_bands = tuple(find_bands(fc, return_loss_db(ideal(fc, gc).gamma_in), run.threshold_db))
+    cmp_ = IdealComparison(min(o.worst_return_loss_db for o in iopt), min(o.worst_delivered_fraction for o in iopt),
+                           min(o.margin_db for o in iopt), tuple(ideal_out), ideal_bands)
+    notes = tuple(PartNote(e.position, "pad_scale") for e, p in zip(els, parts, strict=True)
+                  if not p.measured and ((e.kind == "capacitor" and e.value < PAD_SCALE_C_F)
+                                         or (e.kind == "inductor" and e.value < PAD_SCALE_L_H)))
+    loss = max(losses) if losses else math.nan
+    return Candidate(topology_name(fd.footprint.name, els), els, min(o.worst_return_loss_db for o in opt), rl0, loss,
+                     min(o.worst_delivered_fraction for o in opt), passes_dc(els), filter_character(els), bands, None,
+                     fd.footprint.name, pos, dc_path(els), tuple(outcomes), min(o.margin_db for o in opt),
+                     all(o.margin_db >= 0 for o in opt), notes, z0, IDEAL_PARTS, sw, parts, cmp_)
+
+
 def _describe(run: _Run, fd: srch.Found) -> Candidate:
+    if run.library is not None:
+        return _describe_parts(run, fd)
     sw, z0, q = run.sweep, run.z0, run.q
     els, pos = _elements(fd)
     pattern = [(e.kind, e.connection) for e in els]
@@ -579,8 +725,35 @@ def _step_yield(run: _Run) -> None:
     lim = np.concatenate([np.full(s[0].size, t.limit_return_loss_db) for t, s in opt])
     from dataclasses import replace
 
+    if run.library is not None:
+        run.candidates = [replace(c, yield_fraction=_parts_yield(c, f, g, lim, run.z0, ys)) for c in run.candidates]
+        return
     run.candidates = [replace(c, yield_fraction=build_yield(c.elements, f, g, lim, run.z0, run.q, ys))
                       for c in run.candidates]
+
+
+YIELD_CHUNK_POINTS = 65_536
+
+
+def _parts_yield(c: Candidate, f: np.ndarray, g: np.ndarray, limit_db: np.ndarray, z0: float,
+                 ys: YieldSettings) -> float:
+    """Fraction of Monte Carlo builds of a network of library parts whose return loss meets the limit
+    at every target sample: each part's value drawn uniformly within its own tolerance (the library's;
+    the settings' tolerances are not used), parasitics kept (``Part.series_impedance_ohm(f, value)``),
+    a drawn value below 1 % of the nominal held there."""
+    g_lim2 = 10 ** (-np.asarray(limit_db, dtype=float) / 10)
+    if not c.elements:
+        return 1.0 if bool(np.all(np.abs(g) ** 2 <= g_lim2)) else 0.0
+    rng = np.random.default_rng(ys.seed)
+    draws = [np.maximum(p.value + p.tolerance * rng.uniform(-1, 1, size=ys.trials), 0.01 * p.value) for p in c.parts]
+    conns = [e.connection for e in c.elements]
+    chunk = max(1, YIELD_CHUNK_POINTS // max(f.size, 1))
+    passed = 0
+    for start in range(0, ys.trials, chunk):
+        vals = [d[start:start + chunk] for d in draws]
+        gin = lib_.evaluate_parts(f, g, z0, c.parts, conns, vals).gamma_in
+        passed += int(np.count_nonzero(np.all(gin.real ** 2 + gin.imag ** 2 <= g_lim2, axis=-1)))
+    return passed / ys.trials
 
 
 def _step_warnings(run: _Run) -> None:
@@ -605,7 +778,8 @@ def _step_warnings(run: _Run) -> None:
 def propose(sweep_or_network, *, f0_hz: float | None = None, bands: Sequence = (), network: str = "l",
             series: str = "E24", q: PartQ = IDEAL_PARTS, bounds: ValueBounds = DEFAULT_BOUNDS,
             threshold_db: float = 10.0, tolerance: YieldSettings | None = None, max_candidates: int = 6,
-            report_bands: Sequence = (), port: int | None = None, z0_ohm: float | None = None) -> MatchResult:
+            report_bands: Sequence = (), port: int | None = None, z0_ohm: float | None = None,
+            parts: PartsLibrary | None = None) -> MatchResult:
     """Ranked matching networks for the antenna in ``sweep_or_network`` (a ``Sweep`` or an
     ``skrf.Network``; ``port`` 1-based, ``z0_ohm`` the system impedance, default the sweep's).
 
@@ -616,8 +790,11 @@ def propose(sweep_or_network, *, f0_hz: float | None = None, bands: Sequence = (
     (series, shunt, series), any position of pi / tee may stay empty. ``series`` "exact", "E12",
     "E24", "E48" or "E96"; ``q`` part quality factors (constant-Q model); ``bounds`` the allowed
     values; ``threshold_db`` the default limit (positive dB return loss); ``tolerance`` the yield
-    settings (None: no yield). Raises OutOfRangeError outside the sweep, UsageError for bad
-    arguments, NoSolutionError when nothing can be matched.
+    settings (None: no yield). ``parts`` a :class:`matchtool.parts.PartsLibrary`: pick only from its
+    parts, used as they behave (``series``, ``q`` and ``bounds`` are then not used; the yield, when
+    ``tolerance`` is given, takes its trials and seed and each part's own tolerance). Raises
+    OutOfRangeError outside the sweep, UsageError for bad arguments, NoSolutionError when nothing can
+    be matched, PartsLibraryError when a measured part does not span the targets.
     """
     sw = as_sweep(sweep_or_network, port=port, z0_ohm=z0_ohm)
     series = eseries.normalize_series_name(series)
@@ -634,10 +811,16 @@ def propose(sweep_or_network, *, f0_hz: float | None = None, bands: Sequence = (
     targets = ([Target(float(f0_hz), float(f0_hz), threshold_db)] if f0_hz is not None
                else [_as_target(b, threshold_db, True) for b in bands])
     targets += [_as_target(b, threshold_db, False) for b in report_bands]
+    if parts is not None and not isinstance(parts, PartsLibrary):
+        raise UsageError("must be a matchtool.parts.PartsLibrary", parameter="parts", value=type(parts).__name__)
+    if parts is not None:
+        series, q = "library", IDEAL_PARTS
     run = _Run(sw, targets, network, series, q, bounds, threshold_db, max_candidates, tolerance,
-               z0=float(sw.z0_ohm), warnings=list(sw.warnings))
+               z0=float(sw.z0_ohm), warnings=list(sw.warnings), library=parts)
     if len([t for t in targets if t.optimised]) > 1:
         run.rank_by = RANK_BY_BANDS
+    elif parts is not None:
+        run.rank_by = RANK_BY_PARTS
     for step in (_step_targets, _step_before, _step_search, _step_rank, _step_yield, _step_warnings):
         step(run)
     first = next(r for r in run.reports if r.target.optimised)
@@ -649,7 +832,7 @@ def propose(sweep_or_network, *, f0_hz: float | None = None, bands: Sequence = (
         series, q, bounds, threshold_db, min(r.before_worst_return_loss_db for r in opt_reports),
         float(return_loss_db(g0)[0]), tuple(find_bands(sw.f_hz, return_loss_db(sw.gamma), threshold_db)),
         tuple(run.candidates), first.bound, tolerance, tuple(run.warnings), run.rank_by, run.meets, network,
-        tuple(run.reports), sw.port)
+        tuple(run.reports), sw.port, parts)
 
 
 # --------------------------------------------------------------------------- earlier entry points

@@ -33,7 +33,14 @@ neither can any row after it. So the ``keep`` best circuits returned are those o
 enumeration (up to exact ties), not of a neighbourhood.
 
 Parts are given to the search as immittance arrays over the samples (one row per option), so any
-part model (ideal, constant Q, later a measured part) plugs in unchanged.
+part model (ideal, constant Q, a library part's measured or modelled impedance) plugs in unchanged.
+A position may instead give every option as a normalised ABCD matrix per sample (``Options.abcd``: a
+measured part in series is its whole measured 2-port, pads and all). The antenna-side positions are
+walked through any 2-port; the closed-form bound above needs position 1 to add an immittance at one
+node, so when position 1 holds 2-ports the rows get no bound and every (row, option) pair is judged
+(on the screening samples first, then on all: a maximum over fewer samples is still a lower bound,
+so this stays exact). The bound also allows a small negative real part of a measured part
+(measurement noise): it uses ``1 + Re(node) + min(0, min Re(option))``, floored at 0.
 """
 
 from __future__ import annotations
@@ -77,6 +84,7 @@ class Options:
     kinds: np.ndarray
     values: np.ndarray
     imm: np.ndarray
+    abcd: np.ndarray | None = None  # (options, samples, 2, 2): [[A, B / Z0], [C Z0, D]] per option, or None
 
 
 @dataclass(frozen=True, eq=False)
@@ -99,6 +107,7 @@ class Found:
     footprint: Footprint
     kinds: tuple[int, ...]
     values: tuple[float, ...]
+    index: tuple[int, ...] = ()  # per position, the option's row in its Options table
 
 
 def options_for(connection: str, l_values_h: np.ndarray, c_values_f: np.ndarray, problem: Problem) -> Options:
@@ -132,13 +141,19 @@ def canonical(connections: Sequence[str], kinds: Sequence[int], values: Sequence
     return tuple((conn, tuple(sorted(items))) for conn, items in groups)
 
 
-def _walk_rows(g: np.ndarray, imms: Sequence[np.ndarray], connections: Sequence[str],
+def _walk_rows(g: np.ndarray, imms: Sequence, connections: Sequence[str],
                idx: Sequence[np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
     """Normalised (v, i) at the input of position 2 for rows given by option indices of positions
-    2..k (``imms`` their immittance tables on the samples of ``g``)."""
+    2..k (``imms`` their immittance tables on the samples of ``g``, or (imm, abcd) pairs)."""
     v = np.broadcast_to(1.0 + g, (idx[0].size, g.size)).astype(complex)
     i = np.broadcast_to(1.0 - g, (idx[0].size, g.size)).astype(complex)
     for imm, conn, ix in zip(reversed(imms), reversed(list(connections)), reversed(idx), strict=True):
+        if isinstance(imm, tuple):
+            imm, mat = imm
+            if mat is not None:
+                m = mat[ix]
+                v, i = m[..., 0, 0] * v + m[..., 0, 1] * i, m[..., 1, 0] * v + m[..., 1, 1] * i
+                continue
         m = imm[ix]
         if conn == "series":
             v = v + m * i
@@ -200,24 +215,35 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
         n_rows = int(np.prod(shape))
         keys = {combo: canonical(fp.connections, combo) for combo in itertools.product(range(3), repeat=len(opts))}
         conns = [o.connection for o in rest]
-        full_imm = [o.imm for o in rest]
-        sub_imm = [o.imm[:, probe2] for o in rest]
+        full_imm = [(o.imm, o.abcd) for o in rest]
+        sub_imm = [(o.imm[:, probe2], None if o.abcd is None else o.abcd[:, probe2]) for o in rest]
         g_sub = problem.gamma[probe2]
         pl4_sub, w_sub = pl4[probe2], w[probe2]
+        general = first.abcd is not None  # position 1 holds 2-ports: no closed-form bound
+        if general:
+            # a = (A + C) v + (B + D) i at the radio (normalised); delivered = pl4 / |a|^2
+            pq_full = (first.abcd[..., 0, 0] + first.abcd[..., 1, 0], first.abcd[..., 0, 1] + first.abcd[..., 1, 1])
+            pq_sub = (pq_full[0][:, probe2], pq_full[1][:, probe2])
         first_sub = first.imm[:, probe2]
+        r1min = np.minimum(0.0, first_sub.real.min(axis=0))  # noise can give a part a tiny negative R
         at_probe = np.searchsorted(probe2, probe)  # the first screen's samples inside the second
         # stage 1: a lower bound of the cost of every row (from the screening samples: a maximum
         # over fewer samples is still a lower bound), and its number of fitted parts
         lb = np.empty(n_rows)
         n_rest = np.zeros(n_rows, dtype=np.int64)
-        chunk = max(1, EVAL_BLOCK // max(probe2.size, 1))
+        spread = 4 if any(o.abcd is not None for o in rest) else 1  # a 2x2 matrix per sample: 4x the memory
+        chunk = max(1, EVAL_BLOCK // max(probe2.size * spread, 1))
         for start in range(0, n_rows, chunk):
             flat = np.arange(start, min(start + chunk, n_rows))
             idx = np.unravel_index(flat, shape)
-            v, i = _walk_rows(g_sub, sub_imm, conns, idx)
-            re, _, k = _node(first.connection, v, i)
-            ub = pl4_sub * k / (1.0 + re) ** 2
-            lb[start:start + flat.size] = np.max(w_sub * (1.0 - ub), axis=1)
+            if general:
+                lb[start:start + flat.size] = -math.inf
+            else:
+                v, i = _walk_rows(g_sub, sub_imm, conns, idx)
+                re, _, k = _node(first.connection, v, i)
+                with np.errstate(divide="ignore"):
+                    ub = pl4_sub * k / np.maximum(1.0 + re + r1min, 0.0) ** 2
+                lb[start:start + flat.size] = np.max(w_sub * (1.0 - ub), axis=1)
             n_rest[start:start + flat.size] = sum((o.kinds[ix] != NONE).astype(np.int64)
                                                   for o, ix in zip(rest, idx, strict=True))
         # stage 2: rows with fewer parts first (they set the bar for the larger circuits), each group
@@ -245,17 +271,26 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
                 bar = t_parts(group + fitted1, tk)  # per option of position 1
                 if np.isfinite(bar).any():
                     v, i = _walk_rows(g_sub, sub_imm, conns, idx)
-                    re, im, k = _node(first.connection, v, i)
-                    pk = pl4_sub * k
                     pr = at_probe
-                    cp = _cost(re[:, None, pr], im[:, None, pr], pk[:, None, pr], first_sub[None, :, pr], w_sub[pr])
+                    if general:
+                        cp = _cost_vi(v[:, None, pr], i[:, None, pr], pl4_sub[pr], pq_sub[0][None, :, pr],
+                                      pq_sub[1][None, :, pr], w_sub[pr])
+                    else:
+                        re, im, k = _node(first.connection, v, i)
+                        pk = pl4_sub * k
+                        cp = _cost(re[:, None, pr], im[:, None, pr], pk[:, None, pr], first_sub[None, :, pr],
+                                   w_sub[pr])
                     rr, jj = np.nonzero(cp < bar[None, :])
                     if rr.size and probe2.size > probe.size:
                         c2 = np.empty(rr.size)
                         pchunk = max(1, EVAL_BLOCK // probe2.size)
                         for s0 in range(0, rr.size, pchunk):
                             r_, j_ = rr[s0:s0 + pchunk], jj[s0:s0 + pchunk]
-                            c2[s0:s0 + r_.size] = _cost(re[r_], im[r_], pk[r_], first_sub[j_], w_sub)
+                            if general:
+                                c2[s0:s0 + r_.size] = _cost_vi(v[r_], i[r_], pl4_sub, pq_sub[0][j_], pq_sub[1][j_],
+                                                               w_sub)
+                            else:
+                                c2[s0:s0 + r_.size] = _cost(re[r_], im[r_], pk[r_], first_sub[j_], w_sub)
                         ok = c2 < bar[jj]
                         rr, jj = rr[ok], jj[ok]
                 else:
@@ -267,13 +302,17 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
                 rows = rows[live]
                 idx = tuple(ix[live] for ix in idx)
                 v, i = _walk_rows(problem.gamma, full_imm, conns, idx)
-                re, im, k = _node(first.connection, v, i)
-                pk = pl4 * k
+                if not general:
+                    re, im, k = _node(first.connection, v, i)
+                    pk = pl4 * k
                 cost = np.empty(rr.size)
                 pchunk = max(1, EVAL_BLOCK // max(n, 1))
                 for s0 in range(0, rr.size, pchunk):
                     r_, j_ = rr[s0:s0 + pchunk], jj[s0:s0 + pchunk]
-                    cost[s0:s0 + r_.size] = _cost(re[r_], im[r_], pk[r_], first.imm[j_], w)
+                    if general:
+                        cost[s0:s0 + r_.size] = _cost_vi(v[r_], i[r_], pl4, pq_full[0][j_], pq_full[1][j_], w)
+                    else:
+                        cost[s0:s0 + r_.size] = _cost(re[r_], im[r_], pk[r_], first.imm[j_], w)
                 parts = group + fitted1[jj]
                 for m_ in np.unique(parts):
                     best_by_n[m_] = min(best_by_n[m_], float(cost[parts == m_].min()))
@@ -293,7 +332,8 @@ def search(problem: Problem, footprints: Sequence[Footprint], options: dict[Foot
                     if key not in best or c < best[key].cost:
                         vals = (float(first.values[j]),) + tuple(float(o.values[ix[r]]) for o, ix in
                                                                  zip(rest, idx, strict=True))
-                        best[key] = Found(c, fp, combo, vals)
+                        index = (j,) + tuple(int(ix[r]) for ix in idx)
+                        best[key] = Found(c, fp, combo, vals, index)
     prefix = np.minimum.accumulate(np.r_[math.inf, best_by_n])
     kept = [f for f in best.values() if f.cost < prefix[sum(k != NONE for k in f.kinds)] / simpler_gain]
     return sorted(kept, key=lambda f: f.cost)[:keep]
@@ -313,6 +353,16 @@ def _cost(re: np.ndarray, im: np.ndarray, pk: np.ndarray, imm: np.ndarray, w: np
     den = (1.0 + re + imm.real) ** 2 + (im + imm.imag) ** 2
     with np.errstate(divide="ignore", invalid="ignore"):
         d = pk / den
+    d = np.where(np.isfinite(d), d, 0.0)
+    return np.max(w * (1.0 - d), axis=-1)
+
+
+def _cost_vi(v: np.ndarray, i: np.ndarray, pl4: np.ndarray, p: np.ndarray, q: np.ndarray,
+             w: np.ndarray) -> np.ndarray:
+    """max over the last axis of w (1 - delivered), delivered = pl4 / |p v + q i|^2 (position 1 a 2-port)."""
+    a = p * v + q * i
+    with np.errstate(divide="ignore", invalid="ignore"):
+        d = pl4 / (a.real ** 2 + a.imag ** 2)
     d = np.where(np.isfinite(d), d, 0.0)
     return np.max(w * (1.0 - d), axis=-1)
 

@@ -575,11 +575,29 @@ def match_doc(r) -> dict[str, Any]:
     else:
         target = {"f_low_hz": r.f_low_hz, "f_high_hz": r.f_high_hz, "f_center_hz": r.f0_hz}
     ys = r.yield_settings
+    lib = getattr(r, "parts_library", None)
     with_parts = [c for c in r.candidates if c.elements]
 
-    def element_doc(c, e) -> dict[str, Any]:
-        return {"kind": e.kind, "connection": e.connection, "value": e.value, "unit": e.unit,
-                "position": e.position, "notes": [n.flag for n in c.notes if n.position == e.position]}
+    def element_doc(c, e, k: int = 0) -> dict[str, Any]:
+        d = {"kind": e.kind, "connection": e.connection, "value": e.value, "unit": e.unit,
+             "position": e.position, "notes": [n.flag for n in c.notes if n.position == e.position]}
+        if c.parts:
+            p = c.parts[k]
+            d["part"] = {"label": p.label, "tolerance": p.tolerance, "measured": p.measured, "file": p.file,
+                         "q": p.q, "q_ref_hz": p.q_ref_hz, "srf_hz": p.srf_hz,
+                         "model": ("measured 2-port in series" if e.connection == "series" else
+                                   "shunt Y = 1/Z, Z = 2 Z0 (1 - S21) / S21 of the measurement") if p.measured
+                         else ("ideal" if p.ideal else "equivalent circuit (docs/parts.md)")}
+        return d
+
+    def ideal_doc(c) -> dict[str, Any] | None:
+        i = c.ideal
+        if i is None:
+            return None
+        return {"worst_return_loss_db": i.worst_return_loss_db, "worst_delivered_fraction": i.worst_delivered_fraction,
+                "min_margin_db": i.min_margin_db, "bands": [band_doc(b) for b in i.bands],
+                "per_band": [band_outcome(o) for o in i.per_band],
+                "worst_return_loss_change_db": c.worst_return_loss_db - i.worst_return_loss_db}
 
     def band_outcome(o) -> dict[str, Any]:
         return dict(_match_target_doc(o.target), worst_return_loss_db=o.worst_return_loss_db,
@@ -596,7 +614,8 @@ def match_doc(r) -> dict[str, Any]:
         "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "target": target, "network": r.network,
         "series": r.series,
         "q_inductor": _none_if_inf(r.q.inductor), "q_capacitor": _none_if_inf(r.q.capacitor),
-        "q_model": "constant Q: series resistance |X|/Q at every frequency",
+        "q_model": ("the library's parts as measured or modelled" if lib is not None
+                    else "constant Q: series resistance |X|/Q at every frequency"),
         "bounds": {"c_min_f": r.bounds.c_min_f, "c_max_f": r.bounds.c_max_f,
                    "l_min_h": r.bounds.l_min_h, "l_max_h": r.bounds.l_max_h},
         "threshold_return_loss_db": r.threshold_return_loss_db, "rank_by": r.rank_by,
@@ -611,7 +630,7 @@ def match_doc(r) -> dict[str, Any]:
                                 for t in r.targets]},
         "candidates": [{
             "rank": i + 1, "topology": c.topology, "footprint": c.footprint,
-            "elements": [element_doc(c, e) for e in c.elements],
+            "elements": [element_doc(c, e, k) for k, e in enumerate(c.elements)],
             "positions": [{"position": p.position, "connection": p.connection, "fitted": p.fitted}
                           for p in c.positions],
             "worst_return_loss_db": c.worst_return_loss_db, "return_loss_at_f0_db": c.return_loss_at_f0_db,
@@ -620,13 +639,21 @@ def match_doc(r) -> dict[str, Any]:
             "per_band": [band_outcome(o) for o in c.per_band],
             "passes_dc": c.passes_dc, "dc_path": c.dc_path, "dc": dc_words(c.dc_path), "filter": c.filter,
             "bands": [band_doc(b) for b in c.bands], "yield_fraction": c.yield_fraction,
+            "as_ideal_parts": ideal_doc(c),
         } for i, c in enumerate(r.candidates)],
+        "parts_library": None if lib is None else {
+            "name": lib.name or None, "path": lib.path, "parts": len(lib.parts),
+            "measured": sum(p.measured for p in lib.parts),
+            "shunt_model": "Y = 1/Z with Z = 2 Z0 (1 - S21) / S21 for a measured part",
+            "value_shift": "Z(f) + Z_ideal(v + dv) - Z_ideal(v): parasitics kept"},
         "bode_fano": bf_for(opt[0]) if opt and opt[0].bound is not None else None,
         "bode_fano_per_band": [bf_for(t) for t in opt if not t.target.is_point],
         "yield": None if ys is None else {
-            "tolerance_inductor_pct": 100 * ys.tolerance_l, "tolerance_capacitor_pct": 100 * ys.tolerance_c,
+            "tolerance_inductor_pct": None if lib else 100 * ys.tolerance_l,
+            "tolerance_capacitor_pct": None if lib else 100 * ys.tolerance_c,
             "tolerance_inductor_h": ys.tolerance_l_h, "tolerance_capacitor_f": ys.tolerance_c_f,
-            "small_capacitor_tolerance_f": ys.small_c_tolerance_f, "description": tolerance_text(ys),
+            "small_capacitor_tolerance_f": ys.small_c_tolerance_f,
+            "description": "each part within its own tolerance from the library" if lib else tolerance_text(ys),
             "trials": ys.trials, "seed": ys.seed, "distribution": "uniform within +-tolerance",
             "threshold_return_loss_db": r.threshold_return_loss_db,
             "best_fraction": r.candidates[0].yield_fraction if r.candidates else None,

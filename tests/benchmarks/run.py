@@ -35,6 +35,10 @@ Cases (goals from the benchmarks issue):
       check without a store. Goal: <= 1.2x.
   P11 ``history --json`` over a generated SQLite store of 1,000,000 unit rows (50 lots, two
       requirements each). Goal: < 2 s.
+  P12 ``matchtool match FILE --band 902MHz:928MHz --network pi --parts LIB.toml`` over a generated
+      library of 60 parts (30 C, 30 L; half measured 2-port files, half Q/SRF models) on a
+      1,601-point sweep, with the library's tolerance yield, against the cold
+      ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 6x.
 
 Every measurement is a fresh subprocess (so start-up is counted, as a user sees it); candidate
 and baseline runs are interleaved, repeated, and the median is reported. Peak memory comes from
@@ -660,8 +664,66 @@ def p11(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     return [row]
 
 
+def write_parts_library(folder: Path, n_each: int = 30) -> Path:
+    """A parts library of ``n_each`` capacitors (0.5 to 47 pF) and ``n_each`` inductors (1 to 100 nH),
+    log-spaced; every other part a measured series 2-port (a chip-part circuit: C with ESL and ESR, or
+    (L + R) parallel C, S from the series-element formulas S11 = Z / (Z + 2 Z0), S21 = 2 Z0 / (Z + 2 Z0),
+    Pozar 4th ed. Table 4.2; 500 MHz to 1.5 GHz, 401 points), the others Q/SRF models."""
+    folder.mkdir(parents=True, exist_ok=True)
+    f = np.linspace(500e6, 1.5e9, 401)
+    w = 2 * math.pi * f
+    lines = ['name = "benchmark kit (synthetic)"']
+    for kind, lo, hi in (("capacitor", 0.5e-12, 47e-12), ("inductor", 1e-9, 100e-9)):
+        for k, v in enumerate(np.geomspace(lo, hi, n_each)):
+            unit, scale = ("pF", 1e-12) if kind == "capacitor" else ("nH", 1e-9)
+            srf = 1.0 / (2 * math.pi * math.sqrt((0.4e-9 if kind == "capacitor" else v)
+                                                 * (v if kind == "capacitor" else 0.15e-12)))
+            head = f'[[part]]\nkind = "{kind}"\nvalue = "{v / scale:.4g}{unit}"\ntolerance = "2%"'
+            if k % 2:
+                lines.append(f'{head}\nq = {40 if kind == "inductor" else 300}\nq_ref = "1GHz"\nsrf = "{srf / 1e9:.4g}GHz"')
+                continue
+            if kind == "capacitor":
+                z = 1.0 / (2 * math.pi * 1e9 * v * 300) + 1j * w * 0.4e-9 + 1.0 / (1j * w * v)
+            else:
+                zb = 2 * math.pi * 1e9 * v / 40 + 1j * w * v
+                z = zb / (1 + 1j * w * 0.15e-12 * zb)
+            s = np.empty((f.size, 2, 2), dtype=complex)
+            s[:, 0, 0] = s[:, 1, 1] = z / (z + 100.0)
+            s[:, 0, 1] = s[:, 1, 0] = 100.0 / (z + 100.0)
+            name = f"{kind[0]}{k:02d}.s2p"
+            (folder / name).write_text(touchstone_text(f, s, 50.0, ["synthetic benchmark part (tests/benchmarks/run.py)"]))
+            lines.append(f'{head}\nfile = "{name}"')
+    path = folder / "kit.toml"
+    path.write_text("\n".join(lines) + "\n")
+    return path
+
+
+def p12(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
+    row = Row("P12", f"match pi --parts (60 parts, half measured), {sz.points} pts", goal="<= 6x", limit=6.0)
+    if not has_command("match"):
+        row.status = "not built yet"
+        return [row]
+    path = write_sweep(tmp / "p12_r1.s1p", sz.points, 875e6, np.random.default_rng([SEED, 12]))
+    lib = write_parts_library(tmp / "p12_kit")
+    ours = mt("match", path, "--band", "902MHz:928MHz", "--network", "pi", "--parts", lib, "--json")
+    probe = run.once(ours)
+    if probe.code not in (0, 1):
+        nb = not_built(probe.err)
+        row.status = "not built yet" if nb else "error"
+        row.note = nb or failed([probe], (0, 1)) or ""
+        return [row]
+    res = run.compare({"base": skrf_read(path), "ours": ours}, min(sz.reps_fast, 5), warm=False)
+    bad = failed(res["ours"], (0, 1)) or failed(res["base"])
+    if bad:
+        row.status, row.note = "error", bad
+        return [row]
+    row.set_times(res["ours"], res["base"])
+    row.note = "ratio to a cold skrf read of the same file; includes reading the 30 part files and the yield"
+    return [row]
+
+
 CASES = {"P1": p1, "P2": p2, "P3": p3_p4, "P5": p5, "P6": p6, "P7": p7, "P8": p8, "P9": p9,
-         "P10": p10, "P11": p11}
+         "P10": p10, "P11": p11, "P12": p12}
 
 
 # ------------------------------------------------------------------------------------------

@@ -57,9 +57,46 @@ def dc_words(elements_or_path) -> str:
     return _DC[dc_path(list(elements_or_path))]
 
 
+def _named(e) -> bool:
+    """Whether a part carries a library name other than its plain description."""
+    if not getattr(e, "label", None):
+        return False
+    from ...parts import default_label
+
+    return e.label != default_label(e.kind, e.value)
+
+
 def part_text(e) -> str:
-    """``series L 12 nH``."""
-    return f"{e.connection} {'L' if e.kind == 'inductor' else 'C'} {part_value_text(e)}"
+    """``series L 12 nH``; a library part with a name: ``shunt shelf C1p0 (C 1 pF)``."""
+    sym = "L" if e.kind == "inductor" else "C"
+    if _named(e):
+        return f"{e.connection} {e.label} ({sym} {part_value_text(e)})"
+    return f"{e.connection} {sym} {part_value_text(e)}"
+
+
+def library_text(lib) -> str:
+    """``parts from library '0402 kit' (kit.toml): 14 parts (7 C, 7 L), 6 measured``."""
+    n_c, n_l = len(lib.capacitors), len(lib.inductors)
+    n_m = sum(p.measured for p in lib.parts)
+    name = f"'{lib.name}' " if lib.name else ""
+    return (f"parts from library {name}({lib.path or 'built in code'}): {len(lib.parts)} parts ({n_c} C, {n_l} L), "
+            f"{n_m} measured, {len(lib.parts) - n_m} modelled")
+
+
+def ideal_text(c, r) -> str | None:
+    """The same values as ideal parts, beside the real parts' figures (None without a library)."""
+    i = c.ideal
+    if i is None or not c.elements:
+        return None
+    d = c.worst_return_loss_db - i.worst_return_loss_db
+    bands = ", ".join(f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)}" for b in i.bands) or "none"
+    if len(r.optimised_targets) > 1:
+        head = (f"same values as ideal parts: worst RL {rl_text(i.worst_return_loss_db)} dB, smallest margin "
+                f"{fmt(i.min_margin_db)} dB")
+    else:
+        head = f"same values as ideal parts: worst RL {rl_text(i.worst_return_loss_db)} dB"
+    return (f"{head} (the real parts {'gain' if d >= 0 else 'lose'} {fmt(abs(d))} dB of worst RL), "
+            f"RL >= {r.threshold_return_loss_db:g} dB: {bands}")
 
 
 def positions_text(c) -> list[str]:
@@ -162,7 +199,7 @@ _NOTE_WORDS = {"range_end": "at the end of the allowed values", "pad_scale": "as
 
 def _label(e, i: int) -> str:
     sym = "L" if e.kind == "inductor" else "C"
-    return f"{sym}{i} {part_value_text(e)}"
+    return f"{sym}{i} {e.label}" if _named(e) else f"{sym}{i} {part_value_text(e)}"
 
 
 def schematic(elements, z0_ohm: float, positions: Sequence | None = None) -> str:
@@ -252,6 +289,9 @@ def candidate_lines(i: int, c, r, width: int) -> list[str]:
     bands = ", ".join(f"{ff(b.f_low_hz)} to {ff(b.f_high_hz)}" + (" (runs past the sweep)" if b.clipped_low
                                                                    or b.clipped_high else "") for b in c.bands) or "none"
     lines += _wrap(f"RL >= {r.threshold_return_loss_db:g} dB on the matched sweep: {bands}", width, ind, ind)
+    it = ideal_text(c, r)
+    if it:
+        lines += _wrap(it, width, ind, ind)
     for n in c.notes:
         lines += _wrap(f"note: part {n.position} is {_NOTE_WORDS.get(n.flag, n.flag)}", width, ind, ind)
     return lines
@@ -262,8 +302,13 @@ def lines_of(r, width: int = 80) -> list[str]:
     out: list[str] = []
     q = r.q
     qt = lambda x: "ideal" if math.isinf(x) else f"{x:g}"  # noqa: E731
-    out += _wrap(f"{r.path}: matching to {r.z0_ohm:g} ohm {_target_text(r)}; {r.network} footprint, {r.series} "
-                 f"values, part Q: L {qt(q.inductor)}, C {qt(q.capacitor)}", width)
+    lib = getattr(r, "parts_library", None)
+    if lib is not None:
+        out += _wrap(f"{r.path}: matching to {r.z0_ohm:g} ohm {_target_text(r)}; {r.network} footprint, "
+                     f"{library_text(lib)}; every part as measured or modelled there", width)
+    else:
+        out += _wrap(f"{r.path}: matching to {r.z0_ohm:g} ohm {_target_text(r)}; {r.network} footprint, {r.series} "
+                     f"values, part Q: L {qt(q.inductor)}, C {qt(q.capacitor)}", width)
     if len(r.targets) > 1:
         out.append("Before (no network):")
         for t in r.targets:
@@ -311,7 +356,8 @@ def lines_of(r, width: int = 80) -> list[str]:
             out += _wrap(text, width)
     if r.yield_settings is not None and r.candidates:
         ys = r.yield_settings
-        out += _wrap(f"Tolerance yield: {ys.trials} builds, {tolerance_text(ys)} (uniform, seed {ys.seed}): "
+        tol = "each part within its own tolerance from the library" if lib is not None else tolerance_text(ys)
+        out += _wrap(f"Tolerance yield: {ys.trials} builds, {tol} (uniform, seed {ys.seed}): "
                      f"{100 * (r.candidates[0].yield_fraction or 0):.1f} % of builds of #1 meet the limit "
                      f"{_target_text(r)}.", width)
     out.append("")
