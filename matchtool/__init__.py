@@ -52,7 +52,7 @@ __all__ = ["__version__", *_LAZY]
 
 
 def __dir__() -> list[str]:
-    return sorted(set(globals()) | set(_LAZY))
+    return sorted({"__version__", *_LAZY})
 
 
 def __getattr__(name: str) -> Any:

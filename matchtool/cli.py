@@ -33,6 +33,23 @@ COMMANDS = ("inspect", "check", "compare", "match", "feedline", "budget", "plot"
             "coupling", "locate", "qfactor", "history")
 
 
+# one line each for 'matchtool --help' (written whole, so the list is never cut to "...")
+SHORT_HELP = {
+    "inspect": "Best match, threshold bands and values at frequencies of a sweep (every port of an N-port).",
+    "check": "Pass/fail of units or a whole lot against a spec; JSON, CSV, JUnit; results store.",
+    "compare": "Revisions side by side, with deltas against a baseline.",
+    "match": "Matching networks (L, pi, tee) of standard values or library parts, checked on the sweep.",
+    "feedline": "Move the reference plane along a cable: what the cable hides or adds.",
+    "budget": "Friis link budget with the measured mismatch: margin and range.",
+    "plot": "Pictures: return loss, VSWR, Smith chart, impedance, distance, isolation, ECC.",
+    "report": "One self-contained HTML page for the build record.",
+    "coupling": "Isolation, envelope correlation (ECC) and active reflection (TARC) of a multi-port device.",
+    "locate": "Distance to fault: reflections along the feed (time domain), and gating.",
+    "qfactor": "Q, bandwidth potential, small-antenna bound and cap-method efficiency of an antenna.",
+    "history": "Lot history from the results store: yields, spread, process capability, trends.",
+}
+
+
 def _show_version(value: bool) -> None:
     if value:
         from . import __version__
@@ -63,6 +80,9 @@ def build_app(only: str | None = None) -> typer.Typer:
     app.callback()(_root)
     for name in (only,) if only in COMMANDS else COMMANDS:
         importlib.import_module(f"matchtool.commands.{name}").register(app)
+    for info in app.registered_commands:
+        if info.name in SHORT_HELP and not info.short_help:
+            info.short_help = SHORT_HELP[info.name]
     return app
 
 

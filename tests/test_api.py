@@ -42,3 +42,15 @@ def test_match_from_an_skrf_network_returns_networks():
     inb = (f >= 902e6) & (f <= 928e6)
     rl = -20 * np.log10(np.abs(matched.s[inb, 0, 0]))
     assert best.worst_return_loss_db == pytest.approx(rl.min(), abs=0.05)  # band edges interpolated in the result
+
+
+def test_top_level_help_lists_every_command_whole(cli):
+    # every command's one-line summary is written whole (never cut to '...')
+    r = cli("--help")
+    assert r.code == 0
+    from matchtool.cli import COMMANDS, SHORT_HELP
+
+    text = " ".join(r.out.split())
+    for name in COMMANDS:
+        assert " ".join(SHORT_HELP[name].split()) in text, name
+    assert "..." not in r.out.split("Commands:")[1]
