@@ -41,7 +41,7 @@ def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
     db = str(tmp_path / "r.db")
     for argv in (["--help"], ["check", str(p), str(q), "--spec", str(spec), "--store", db, "--lot", "L"],
                  ["history", "--store", db], ["history", "--store", db, "--json"],
-                 ["inspect", str(p), "--json"], ["inspect", str(p)],
+                 ["inspect", str(p), "--json"], ["inspect", str(p)], ["inspect", str(p), "--min-band-width", "1MHz"],
                  ["compare", str(p), str(q)], ["match", str(q), "--band", "902MHz:928MHz"],
                  ["feedline", str(p), "--delay", "100ps", "--toward", "radio"], ["budget", str(link)],
                  ["match", "--help"], ["report", "--help"], ["plot", "--help"], ["coupling", "--help"],

@@ -56,8 +56,7 @@ EPILOG = """Examples:
   matchtool report ant_r1.s1p ant_r2.s1p ant_r3.s1p --spec spec_915.toml --budget link_915.toml \
       --match-band 902MHz:928MHz --match-sweep ant_r3.s1p --q-inductor 40 --out bench.html
 
-  matchtool report sample_sweeps/wifi_pair.s2p --spec sample_sweeps/spec_wifi_pair.toml \
-      --locate --velocity-factor 0.7 --qfactor --radius 2cm --out pair.html
+  matchtool report wifi_pair.s2p --locate --velocity-factor 0.7 --max-distance 2m --qfactor --out pair.html
 
   matchtool report ant_r3.s1p --store results.db --lot L7 --out lot7.html
 

@@ -80,18 +80,31 @@ def _best_line(s: SweepSummary) -> str:
             f"bands >= {thr:.2f} dB: {bands}{noise}")
 
 
+def _indented(c, text: str) -> None:
+    """A line indented two spaces, its continuation four, wrapped at the console width (a number
+    keeps its unit on its line)."""
+    import re
+    import textwrap
+
+    from rich.text import Text
+
+    glued = re.sub(r"(\d) (?=(?:[kMG]?Hz|dB)\b)", "\\1\u00a0", text)
+    for line in textwrap.wrap(glued, width=max(20, c.width), initial_indent="  ", subsequent_indent="    ",
+                              break_long_words=False, break_on_hyphens=False):
+        c.print(Text(line.replace("\u00a0", " ")), soft_wrap=True)
+
+
 def render_ports(m: PortsSummary) -> None:
     """Terminal view of several ports: one line per port, then the details of ``detail_port`` (or of
     every port when it is None)."""
-    from rich.markup import escape
+    from .tables import say
 
     c = console()
     if m.detail_port is not None:
-        c.print(f"[bold]{escape(m.path)}[/bold]: {m.nports}-port file, every port's best match (smallest |Gamma| "
-                "sample) and threshold bands:")
+        say(c, f"{m.path}: {m.nports}-port file, every port's best match (smallest |Gamma| sample) and threshold bands:")
         for s in m.ports:
-            c.print("  " + escape(_best_line(s)))
-        c.print(f"Details for port {m.detail_port} (--port N for another, --port all for every port):")
+            _indented(c, _best_line(s))
+        say(c, f"Details for port {m.detail_port} (--port N for another, --port all for every port):")
         render(m.port(m.detail_port))
         return
     for k, s in enumerate(m.ports):
