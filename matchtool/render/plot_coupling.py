@@ -21,7 +21,7 @@ from typing import IO, Any
 
 import numpy as np
 
-from .plots import BAND_FILL, FORMATS, MASK_COLOR, _look, _mpl, _style, figure_bytes, frequency_unit
+from .plots import BAND_FILL, FORMATS, MASK_ALPHA, MASK_COLOR, MASK_TINT, _look, _mpl, _style, figure_bytes, frequency_unit
 
 ISOLATION_FLOOR_DB = -80.0  # |S_ij| below this (or zero) is drawn at the bottom of the axis
 
@@ -86,6 +86,10 @@ def isolation_figure(result, masks=None):
                         gid=f"isolation:trace:S{a}{b}", **_look(k))
                 k += 1
         for m in _masks(masks, "isolation"):
+            # the forbidden side of the limit (coupling above -limit) tinted, as the reflection masks are
+            ax.fill_between([m.f_low_hz / scale, m.f_high_hz / scale], [-m.limit, -m.limit], [0.0, 0.0],
+                            facecolor=MASK_TINT, alpha=MASK_ALPHA, edgecolor="none", zorder=1,
+                            gid=f"isolation:tint:{m.name}")
             ax.hlines(-m.limit, m.f_low_hz / scale, m.f_high_hz / scale, colors=MASK_COLOR, linewidth=2.2,
                       gid=f"isolation:mask:{m.name}")
             ax.annotate(f"{m.name}: isolation >= {m.limit:g} dB (ports {m.pair[0]},{m.pair[1]})",
@@ -116,6 +120,9 @@ def ecc_figure(result, masks=None):
                     gid=f"ecc:trace:{i}-{j}", **_look(k))
         top = max([0.1] + [float(np.max(p.ecc)) for p in result.pairs])
         for m in _masks(masks, "correlation"):
+            ax.fill_between([m.f_low_hz / scale, m.f_high_hz / scale], [m.limit, m.limit], [1.0, 1.0],
+                            facecolor=MASK_TINT, alpha=MASK_ALPHA, edgecolor="none", zorder=1,
+                            gid=f"ecc:tint:{m.name}")
             ax.hlines(m.limit, m.f_low_hz / scale, m.f_high_hz / scale, colors=MASK_COLOR, linewidth=2.2,
                       gid=f"ecc:mask:{m.name}")
             ax.annotate(f"{m.name}: ECC <= {m.limit:g} (ports {m.pair[0]},{m.pair[1]})",
@@ -146,7 +153,7 @@ def tarc_figure(result):
         ax.plot(f / scale, t.worst_db, label="worst over phase", gid="tarc:worst", markevery=max(1, f.size // 8),
                 markersize=4, **_look(0))
         ax.plot(f / scale, t.best_db, label="best over phase", gid="tarc:best", **{**_look(2), "marker": None})
-        ax.axhline(-10.0, color=MASK_COLOR, linewidth=1.0, linestyle=(0, (4, 2)))
+        ax.axhline(-10.0, color=MASK_COLOR, linewidth=1.0, linestyle=(0, (4, 2)), label="-10 dB TARC")
         ax.set_ylim(max(-60.0, float(np.min(t.best_db)) - 3.0), 1.0)
         ax.set_xlim(f[0] / scale, f[-1] / scale)
         ax.set_xlabel(f"Frequency ({unit})")

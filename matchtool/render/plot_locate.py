@@ -8,6 +8,7 @@ Artists carry a ``gid`` for tests and readers: ``distance:trace``, ``distance:ra
 
 from __future__ import annotations
 
+import math
 from typing import TYPE_CHECKING, BinaryIO
 
 import numpy as np
@@ -55,11 +56,20 @@ def distance_figure(result, quantity: str = "reflection", uncompensated: bool = 
             ax.axvspan(g.start_m, g.stop_m, color=plots.BAND_FILL, zorder=0, gid="distance:gate", label="gate")
         for k, p in enumerate(result.peaks, 1):
             yy = sign * 20 * np.log10(p.reflection_mag)
-            ax.plot([p.distance_m], [yy], marker="v" if sign > 0 else "^", color=plots.PALETTE[2][1],
-                    linestyle="none", gid=f"distance:peak:{k}")
+            # matchtool's own reflection mark: an open diamond with a dot, on the trace
+            ax.plot([p.distance_m], [yy], marker="D", markersize=7, markerfacecolor="white",
+                    markeredgecolor=plots.PALETTE[2][1], markeredgewidth=1.8, linestyle="none", zorder=5,
+                    gid=f"distance:peak:{k}")
+            ax.plot([p.distance_m], [yy], marker=".", markersize=3, color="black", linestyle="none", zorder=5.5)
             ax.annotate(f"{k}: {p.distance_m:.2f} m\nRL {p.return_loss_db:.1f} dB", (p.distance_m, yy),
                         textcoords="offset points", xytext=(4, 6 if sign > 0 else -18), fontsize=7.5)
-        ax.set_xlim(0, result.view_max_m)
+        right = result.view_max_m
+        if result.peaks and math.isclose(result.view_max_m, result.max_range_m):
+            # no --max-distance: show the listed reflections, not the whole alias-free range (mostly
+            # empty, and its far end holds the wrapped response of the reflections near 0 m)
+            far = max(p.distance_m for p in result.peaks)
+            right = min(result.view_max_m, max(1.5 * far + 5 * result.resolution_m, 20 * result.resolution_m))
+        ax.set_xlim(0, right)
         ax.margins(y=0.18)  # room for the labels above (below) the peaks
         ax.set_xlabel(f"distance along the feed, m (one way, VF {result.velocity_factor:g})")
         ax.set_ylabel("reflection, dB (20 log10 |Gamma|)" if sign > 0 else "return loss, dB (positive)")
