@@ -14,7 +14,7 @@ def section(ctx, names) -> h.Section | None:
     rows = []
     for r in c.rows:
         for k, q in enumerate(r.spec.requirements):
-            _, worst, where, limit, marg = requirement_cells(q, limit_unit=False)
+            _, worst, where, limit, marg = requirement_cells(q)
             rows.append([names[r.file] if k == 0 else "", q.name, verdict_cell(q.passed), worst, where, limit, marg])
     parts = [h.paragraph(f"Spec file {c.spec_path}, evaluated exactly as 'matchtool check' does. Limit and worst "
                          "are in the units of the limit key (shown with the worst value); the margin is positive "
