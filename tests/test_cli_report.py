@@ -91,7 +91,7 @@ def test_spec_verdicts_are_checks_results(cli, bench):
     assert [[c[0], c[1], c[2], c[4], c[6]] for c in rows] == expected
     # worst in the units of the limit key: the VSWR row shows a ratio, the return-loss row dB
     guard = [c for c in rows if c[1] == "ism guard"]
-    assert all(c[3].endswith("ratio") for c in guard) and all(c[5] == "3.000" for c in guard)
+    assert all(c[3].endswith("ratio") for c in guard) and all(c[5] == "3.000 ratio" for c in guard)  # the limit with its unit
 
 
 def test_match_section_holds_matchs_schematic_and_before_after_picture(cli, bench):
