@@ -10,6 +10,14 @@ def _num(x, fmt: str = "{:.2f}") -> str:
     return "n/a" if x is None else fmt.format(x)
 
 
+def _unit(key: str) -> str:
+    """' dB return loss', ' ratio' ... : the unit of a requirement's worst value and limit."""
+    from ..spec import LIMITS
+
+    info = LIMITS.get(key)
+    return f" {info.unit}" if info is not None and info.unit else ""
+
+
 def section_html(result, with_trend: bool = True) -> str:
     """A self-contained HTML fragment for a ``history.HistoryResult`` (computed with
     ``series=True`` for the trend figure); no external assets."""
@@ -25,9 +33,9 @@ def section_html(result, with_trend: bool = True) -> str:
         parts.append("<table><thead><tr><th>requirement</th><th>yield</th><th>passed</th><th>mean worst</th>"
                      "<th>std dev</th><th>limit</th><th>Cpk</th></tr></thead><tbody>")
         for r in lt.requirements:
-            scale, unit = (1e-6, " MHz") if r.key == "resonance" else (1.0, "")
+            scale, unit = (1e-6, " MHz") if r.key == "resonance" else (1.0, _unit(r.key))
             lim = (f"{r.f_low_hz * 1e-6:.1f} to {r.f_high_hz * 1e-6:.1f} MHz" if r.key == "resonance"
-                   and r.f_low_hz is not None else _num(r.limit, "{:.3f}"))
+                   and r.f_low_hz is not None else _num(r.limit, "{:.3f}") + ("" if r.limit is None else unit))
             mean = None if r.mean is None else r.mean * scale
             std = None if r.std is None else r.std * scale
             cpk = _num(r.cpk) if r.cpk is not None else f"n/a ({e(r.cpk_reason)})"
