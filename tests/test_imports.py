@@ -12,10 +12,28 @@ def _modules_after(code: str) -> set[str]:
     return set(out.split())
 
 
-def test_library_import_is_lean():
-    mods = _modules_after("import matchtool, matchtool.sweep, matchtool.reflection, matchtool.bands, "
-                          "matchtool.feedline, matchtool.locate, matchtool.antenna")
+def _core_modules() -> list[str]:
+    """Every module of the core: the package less the CLI (cli, commands) and the renderers."""
+    import pkgutil
+
+    import matchtool
+
+    names = []
+    for m in pkgutil.walk_packages(matchtool.__path__, "matchtool."):
+        top = m.name.split(".")[1]
+        if top in ("cli", "commands", "render", "__main__", "_entry"):
+            continue
+        names.append(m.name)
+    return names
+
+
+def test_every_core_module_imports_without_the_cli_or_drawing_stack():
+    names = _core_modules()
+    assert {"matchtool.sweep", "matchtool.touchstone.parse", "matchtool.matching.search", "matchtool.store",
+            "matchtool.locate", "matchtool.coupling", "matchtool.antenna", "matchtool.parts"} <= set(names)
+    mods = _modules_after("import " + ", ".join(names))
     assert "matplotlib" not in mods and "typer" not in mods and "rich" not in mods
+    assert "scipy.optimize" not in mods  # the matching search has its own optimiser (start-up cost)
 
 
 def test_commands_that_draw_nothing_do_not_import_matplotlib(tmp_path):
