@@ -20,7 +20,6 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-import skrf
 
 from ..errors import TouchstoneError
 from .comments import PortImpedances, port_impedances, renormalisation_statement
@@ -748,6 +747,8 @@ def _to_s(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: st
 
 
 def _convert(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str) -> np.ndarray:
+    import skrf  # only for Z/Y/H/G data: S-parameter files are read without scikit-rf
+
     v1 = version == "1"
     with np.errstate(all="ignore"):
         if param == "Z":
