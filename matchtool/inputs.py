@@ -164,6 +164,22 @@ def decode_touchstone(raw: bytes, path: str | Path) -> str:
     return text
 
 
+def plain_touchstone(raw: bytes, path: str | Path) -> str | bytes:
+    """The bytes of a Touchstone file as the parser reads them: ``raw`` itself when it is plain
+    ASCII text (no binary content, no CR, no byte-order mark, no Ctrl-Z), so that a large file
+    is not decoded into a string only to be encoded again for the number conversion; otherwise
+    :func:`decode_touchstone` of it (same refusals and messages)."""
+    if raw.isascii() and b"\r" not in raw and not raw.endswith(b"\x1a") and not raw.translate(None, _KEEP_BINARY):
+        return raw
+    return decode_touchstone(raw, path)
+
+
+def read_touchstone(path: str | Path, max_bytes: int | None = None) -> str | bytes:
+    """:func:`read_text` of a Touchstone file, as plain ASCII bytes where the file is plain ASCII
+    (see :func:`plain_touchstone`); ``matchtool.touchstone.parse_touchstone`` takes either."""
+    return plain_touchstone(read_bytes(path, max_bytes, "a Touchstone file", TouchstoneError), path)
+
+
 def decode_toml(raw: bytes, path: str | Path, error: type[InputError] = InputError,
                 expected: str = "UTF-8 text (TOML)") -> str:
     """Decode the bytes of a TOML file (spec, budget, parts library): UTF-8 with or without a

@@ -23,7 +23,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from .errors import OutOfRangeError, UsageError
-from .inputs import DEFAULT_MAX_BYTES
+from .inputs import DEFAULT_MAX_BYTES, read_touchstone
 from .touchstone import (
     Touchstone,
     decode_text,
@@ -144,7 +144,7 @@ def load(path: str | Path, port: int = 1, z0_ohm: float | None = None, max_bytes
     a warning). ``max_bytes`` is the input limit (default :func:`matchtool.inputs.default_max_bytes`).
     Raises TouchstoneError or UsageError.
     """
-    text = read_text(path, max_bytes)
+    text = read_touchstone(path, max_bytes)  # plain ASCII files stay bytes: no decode and re-encode
     ts = parse_touchstone(text, path, ports_from_name(path))
     return sweep_from_arrays(ts.f_hz, ts.s, _file_reference(ts), path=str(path), port=port, z0_ohm=z0_ohm,
                              warnings=ts.warnings, version=ts.version, s_def=ts.s_def)
@@ -157,7 +157,7 @@ def load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple[
     ``skrf.Network`` in the common case (no renormalisation, nothing to warn about |Gamma| > 1):
     for a lot of a thousand sweeps the Network objects cost more than the evaluation itself.
     """
-    ts = parse_touchstone(read_text(path), path, ports_from_name(path))
+    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path))
     n = ts.s.shape[1]
     fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n and ts.port_z0_ohm is None
             and (z0_ohm is None or np.allclose(ts.z0_ohm, z0_ohm)))
