@@ -560,10 +560,12 @@ def parse_touchstone(text: str | bytes, path: str | Path = "<text>", nports: int
     f_hz = _frequencies_hz(records[:, 0], opt.unit, rec_lines, path)
     m = len(records)
     pairs = records[:, 1:].reshape(m, npairs, 2)
-    if opt.fmt == "RI" and layout == "full":  # the common case: one copy into the S-matrix, no arithmetic
+    if opt.fmt == "RI" and layout == "full":
+        # the common case: the (re, im) pairs of each record already lie in memory as complex
+        # numbers do, so the S-matrix is a view of the records (strided, aligned): no copy
+        mat = records[:, 1:].view(np.complex128).reshape(m, n, n)
         if n == 2 and order == "21_12":
-            pairs = pairs.reshape(m, 2, 2, 2).transpose(0, 2, 1, 3)
-        mat = np.ascontiguousarray(pairs).view(np.complex128).reshape(m, n, n)
+            mat = mat.transpose(0, 2, 1)
     else:
         mat = _to_matrix(_complex_values(pairs, opt.fmt), n, layout, order)
     s = _to_s(mat, opt.param, z0, opt.r_ohm, st.version)
