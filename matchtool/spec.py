@@ -1069,7 +1069,7 @@ def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, li
     objects would cost more than the evaluation itself. A spec naming a port the file lacks raises
     SpecError (one line naming the file, the port and the spec key).
     """
-    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path))  # ASCII files stay bytes
+    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path), checked=True)  # ASCII files stay bytes
     n = ts.s.shape[1]
     err = _missing_port(str(path), n, spec)
     if err is not None:

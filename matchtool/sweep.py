@@ -145,7 +145,7 @@ def load(path: str | Path, port: int = 1, z0_ohm: float | None = None, max_bytes
     Raises TouchstoneError or UsageError.
     """
     text = read_touchstone(path, max_bytes)  # plain ASCII files stay bytes: no decode and re-encode
-    ts = parse_touchstone(text, path, ports_from_name(path))
+    ts = parse_touchstone(text, path, ports_from_name(path), checked=True)
     return sweep_from_arrays(ts.f_hz, ts.s, _file_reference(ts), path=str(path), port=port, z0_ohm=z0_ohm,
                              warnings=ts.warnings, version=ts.version, s_def=ts.s_def)
 
@@ -157,7 +157,7 @@ def load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple[
     ``skrf.Network`` in the common case (no renormalisation, nothing to warn about |Gamma| > 1):
     for a lot of a thousand sweeps the Network objects cost more than the evaluation itself.
     """
-    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path))
+    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path), checked=True)
     n = ts.s.shape[1]
     fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n and ts.port_z0_ohm is None
             and (z0_ohm is None or np.allclose(ts.z0_ohm, z0_ohm)))
@@ -231,13 +231,15 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
     except ValueError:
         raise UsageError(f"a reference impedance of shape {z_in.shape} does not fit {m} points of {n} ports",
                          path=path, expected="one value, (N,) or (n, N)") from None
-    if not (np.isfinite(z_full).all() and np.all(z_full.real > 0)):
+    # one value or one per port (the common case): check those, not their broadcast over frequency
+    z_chk = z_in.reshape(1, -1) if z_in.ndim == 0 or (z_in.ndim == 1 and z_in.size == n) else z_full
+    if not (np.isfinite(z_chk).all() and np.all(z_chk.real > 0)):
         raise UsageError("reference impedance must be positive and finite", path=path)
     if z0_ohm is not None and not (math.isfinite(z0_ohm) and z0_ohm > 0):
         raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z0_ohm:g} ohm",
                          expected="a positive, finite impedance")
     g_file = s[:, port - 1, port - 1]
-    usable = bool(np.all(z_full.imag == 0) and np.all(z_full == z_full[:1]))
+    usable = bool(np.all(z_chk.imag == 0) and np.all(z_chk == z_chk[:1]))
     if usable:
         z0_file = z_full[0].real.copy()
         if z0_ohm is not None and not np.allclose(z0_file, z0_ohm):

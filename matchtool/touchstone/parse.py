@@ -530,16 +530,19 @@ def _comment_reference(text: str | bytes, st: _State, n: int, m: int, z0: np.nda
     return pz
 
 
-def parse_touchstone(text: str | bytes, path: str | Path = "<text>", nports: int | None = None) -> Touchstone:
+def parse_touchstone(text: str | bytes, path: str | Path = "<text>", nports: int | None = None, *,
+                     checked: bool = False) -> Touchstone:
     """Parse Touchstone text (v1 or v2) into S-parameters.
 
     ``text`` is a str, or the file's bytes (plain ASCII bytes are read as they are; any other
     bytes are decoded by the one input policy, :func:`matchtool.inputs.plain_touchstone`).
-    ``nports`` is the port count that the file name states (``.sNp``); None when the name does not
-    say (then a version 2 ``[Number of Ports]`` must). Raises :class:`TouchstoneError`.
+    ``checked`` says that ``text`` comes from :func:`matchtool.inputs.read_touchstone` (or
+    ``plain_touchstone``) and is not checked again. ``nports`` is the port count that the file
+    name states (``.sNp``); None when the name does not say (then a version 2
+    ``[Number of Ports]`` must). Raises :class:`TouchstoneError`.
     """
     path = str(path)
-    if isinstance(text, bytes | bytearray | memoryview):
+    if isinstance(text, bytes | bytearray | memoryview) and not (checked and isinstance(text, bytes)):
         text = plain_touchstone(bytes(text), path)
     st = _scan(text, path)
     opt = st.option
@@ -732,12 +735,12 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
         if values.size:
             block = values.reshape(-1, per)
             recs.append(block)
-            lines_out.append(line_no[counts != 0])
+            lines_out.append(line_no if counts.all() else line_no[counts != 0])
             last_f = float(block[-1, 0])
     records = (recs[0] if len(recs) == 1 else np.concatenate(recs)) if recs else np.empty((0, per))
     if records.shape[0] == 0:
         raise TouchstoneError("no data", path, expected="at least one frequency row")
-    return records, np.concatenate(lines_out), noise_rows
+    return records, lines_out[0] if len(lines_out) == 1 else np.concatenate(lines_out), noise_rows
 
 
 def _check_frequencies(f: np.ndarray, rec_lines: np.ndarray, path: str) -> None:
