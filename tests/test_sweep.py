@@ -395,3 +395,56 @@ def test_two_port_rows_in_an_s1p_name_say_so(tmp_path):
     with pytest.raises(TouchstoneError, match=r"line 2: expected 3 numbers for a 1-port row, found 9 \(a row of 9 "
                                               r"numbers is 2-port data: is this a \.s2p file\?\)"):
         load(p)
+
+
+# ---------------------------------------------------------------- bytes input and the lazy Network
+
+def test_bytes_and_text_parse_to_the_same_numbers(tmp_path):
+    # the loader reads plain ASCII files as bytes (no decode and re-encode); the numbers, lines of
+    # errors and warnings must be those of the text. Expected values: the numbers written (derived).
+    f = np.array([1e9, 2e9, 3e9])
+    s = np.array([[[0.1 + 0.2j, 0.3 - 0.1j], [0.05j, -0.4 + 0j]]] * 3)
+    text = touchstone_text(f, s, 50.0, ["a comment"])
+    a, b = parse_touchstone(text, "t.s2p", 2), parse_touchstone(text.encode("ascii"), "t.s2p", 2)
+    assert np.array_equal(a.f_hz, f) and np.array_equal(b.f_hz, f)
+    assert np.array_equal(a.s, s) and np.array_equal(b.s, s)
+    bad = text.replace("2000000000 ", "2000000000 x", 1)
+    with pytest.raises(TouchstoneError) as ea:
+        parse_touchstone(bad, "t.s2p", 2)
+    with pytest.raises(TouchstoneError) as eb:
+        parse_touchstone(bad.encode("ascii"), "t.s2p", 2)
+    assert str(ea.value) == str(eb.value) and ea.value.line == eb.value.line == 4
+
+
+def test_bytes_that_are_not_plain_ascii_follow_the_input_policy():
+    # a Latin-1 comment (old instruments) decodes; binary content is refused with its line,
+    # as read_text does for a file
+    latin = b"! Messung \xb5W\n# MHz S RI R 50\n100 0.1 0.2\n"
+    assert parse_touchstone(latin, "a.s1p", 1).s[0, 0, 0] == 0.1 + 0.2j
+    with pytest.raises(TouchstoneError, match="binary content") as ei:
+        parse_touchstone(b"# MHz S RI R 50\n100 0.1 0.2\n\x01\n", "a.s1p", 1)
+    assert ei.value.line == 3
+
+
+def test_sweep_network_is_built_on_first_use_from_the_same_arrays(tmp_path):
+    p = write_rlc(tmp_path / "a.s1p", n=21)
+    sw = load(p)
+    assert "network" not in sw.__dict__  # not built by load
+    net = sw.network
+    assert isinstance(net, skrf.Network) and sw.network is net
+    assert np.array_equal(net.f, sw.f_hz) and np.array_equal(net.s[:, 0, 0], sw.gamma)
+    assert np.allclose(net.z0, 50.0) and net.name == "a"
+
+
+def test_inspect_does_not_import_scikit_rf(tmp_path):
+    # start-up (benchmark case P2): inspect needs only the arrays, so scikit-rf is not imported
+    import subprocess
+    import sys
+
+    from helpers import ROOT
+
+    p = write_rlc(tmp_path / "a.s1p", n=21)
+    code = (f"import sys; from matchtool.cli import main\nrc = main(['inspect', {str(p)!r}, '--json'])\n"
+            "print('SKRF', 'skrf' in sys.modules, rc)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=300)
+    assert out.stdout.strip().splitlines()[-1] == "SKRF False 0", out.stdout + out.stderr
