@@ -448,3 +448,59 @@ def test_inspect_does_not_import_scikit_rf(tmp_path):
             "print('SKRF', 'skrf' in sys.modules, rc)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=300)
     assert out.stdout.strip().splitlines()[-1] == "SKRF False 0", out.stdout + out.stderr
+
+
+def _large_text(n: int, comment_in_rest: bool = False) -> tuple[str, np.ndarray, np.ndarray]:
+    f = np.arange(1, n + 1) * 1e6
+    g = 0.3 * np.exp(1j * np.arange(n) * 1e-3)
+    lines = ["! header comment", "! Port[1] = 1:1  Impedance = 50 ohm", "# Hz S RI R 50"]
+    lines += [f"{fk:.0f} {gk.real:.9f} {gk.imag:.9f}" for fk, gk in zip(f, g, strict=True)]
+    if comment_in_rest:
+        lines.insert(3 + n // 2, "! a comment among the data")
+    return "\n".join(lines) + "\n", f, g
+
+
+def test_large_files_read_in_two_parts_load_as_the_text_does(tmp_path):
+    # a file over SPLIT_MIN_BYTES is read as its head and the rest (PlainParts): the numbers, the
+    # warnings and the lines named in errors are those of parsing the whole text (expected: the
+    # numbers written, and the line numbers derived from the lines written)
+    from matchtool.inputs import SPLIT_MIN_BYTES, PlainParts, read_touchstone
+
+    n = 40_000
+    for in_rest in (False, True):
+        text, f, g = _large_text(n, in_rest)
+        assert len(text) > SPLIT_MIN_BYTES
+        p = tmp_path / f"big_{in_rest}.s1p"
+        p.write_text(text)
+        parts = read_touchstone(p)
+        assert isinstance(parts, PlainParts) and parts.head.startswith(b"! header") and parts.rest.startswith(b"1000000 ")
+        sw, ref = load(p), parse_touchstone(text, p, 1)
+        assert np.array_equal(sw.f_hz, f) and np.allclose(sw.gamma, g, atol=1e-9)
+        assert np.array_equal(ref.s[:, 0, 0], sw.gamma) and sw.warnings == ref.warnings
+    # a bad token in the rest: the same message and line as for the whole text
+    text, _, _ = _large_text(n)
+    bad_line = 3 + 30_000  # the 30,000th data row (three header lines before the first)
+    rows = text.split("\n")
+    rows[bad_line - 1] = rows[bad_line - 1].replace(" ", " 0x", 1)
+    p = tmp_path / "bad.s1p"
+    p.write_text("\n".join(rows))
+    with pytest.raises(TouchstoneError) as e_file:
+        load(p)
+    with pytest.raises(TouchstoneError) as e_text:
+        parse_touchstone("\n".join(rows), p, 1)
+    assert str(e_file.value) == str(e_text.value) and e_file.value.line == bad_line
+
+
+def test_large_file_with_binary_content_or_latin1_in_the_rest(tmp_path):
+    # the two parts follow the one input policy: binary content is refused with its line; a
+    # Latin-1 comment decodes (read as text)
+    text, f, _ = _large_text(40_000)
+    rows = text.split("\n")
+    p = tmp_path / "bin.s1p"
+    p.write_bytes("\n".join(rows[:20_000]).encode() + b"\n\x00\x01\n" + "\n".join(rows[20_000:]).encode())
+    with pytest.raises(TouchstoneError, match="binary content") as ei:
+        load(p)
+    assert ei.value.line == 20_001
+    p = tmp_path / "latin.s1p"
+    p.write_bytes("\n".join(rows[:20_000]).encode() + b"\n! \xb5W\n" + "\n".join(rows[20_000:]).encode())
+    assert np.array_equal(load(p).f_hz, f)

@@ -20,15 +20,16 @@ class Lines:
     """Maps character offsets in the text (a str, or ASCII bytes) to 1-based line numbers
     (monotonic queries are cheap)."""
 
-    def __init__(self, text: str | bytes) -> None:
+    def __init__(self, text: str | bytes, base: int = 0) -> None:
         self.text = text
         self.nl = b"\n" if isinstance(text, bytes) else "\n"
+        self.base = base  # lines before the text (the head of a file read in two parts)
         self.pos = 0
-        self.line = 1
+        self.line = 1 + base
 
     def at(self, offset: int) -> int:
         if offset < self.pos:
-            self.pos, self.line = 0, 1
+            self.pos, self.line = 0, 1 + self.base
         self.line += self.text.count(self.nl, self.pos, offset)
         self.pos = offset
         return self.line

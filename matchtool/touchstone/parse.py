@@ -22,7 +22,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import TouchstoneError
-from ..inputs import plain_touchstone
+from ..inputs import PlainParts, plain_touchstone
 from .comments import PortImpedances, port_impedances, renormalisation_statement
 from .numbers import _NUMBER, Lines, check_rows, controls, numbers, positive, show
 
@@ -105,7 +105,8 @@ class _State:
     first_repeat: int = 0
     warnings: list[str] = field(default_factory=list)
     comments: bool = False  # the text holds comments
-    comment_end: int = 0  # ... none after this offset
+    comment_end: int = 0  # ... none after this offset (of the part being scanned)
+    comment_text: list[str | bytes] = field(default_factory=list)  # the text up to its last comment (in parts)
 
 
 # ------------------------------------------------------------------------------- the option line
@@ -309,31 +310,39 @@ def _on_region(st: _State, start: int, end: int) -> None:
     st.chunks.append(_Chunk(body[start:end] if seg is None else seg, st.lines.at(start), st.section))
 
 
-def _scan(text: str | bytes, path: str) -> _State:
+def _scan(text: str | bytes | PlainParts, path: str) -> _State:
     """One pass over the control lines of ``text`` (a str, or ASCII bytes); the data between them
     become chunks.
 
     Comments ('!' to the end of the line) are removed from each control line and each data
     region as it is taken (line numbers hold), not from the whole text: a sweep's comments are
     mostly at its top, and a copy of a large file costs time and memory."""
-    body = text
-    raw = isinstance(text, bytes)
-    last = text.rfind(b"!" if raw else "!")
-    st = _State(path=path, body=body, lines=Lines(body), comments=last >= 0,
-                comment_end=0 if last < 0 else (text.find(b"\n" if raw else "\n", last) + 1 or len(text)))
-    prev_end = 0
-    for c_start, c_end, ctrl in controls(body):
-        _on_region(st, prev_end, c_start)
-        prev_end = c_end
-        ln = st.lines.at(c_start)
-        st.merge = False
-        if "!" in ctrl:
-            ctrl = ctrl.partition("!")[0].rstrip()
-        if ctrl.startswith("#"):
-            _on_option_line(st, ctrl, ln)
-        else:
-            _on_keyword(st, ctrl, ln)
-    _on_region(st, prev_end, len(body))
+    parts = (text.head, text.rest) if isinstance(text, PlainParts) else (text,)
+    st = _State(path=path, body=parts[0], lines=Lines(parts[0]))
+    base = 0
+    for i, body in enumerate(parts):  # a file read in two parts is scanned as if it were one text
+        raw = isinstance(body, bytes)
+        last = body.rfind(b"!" if raw else "!")
+        st.body, st.lines = body, Lines(body, base)
+        st.comment_end = 0 if last < 0 else (body.find(b"\n" if raw else "\n", last) + 1 or len(body))
+        if last >= 0:
+            st.comments = True
+            st.comment_text = [*parts[:i], body[: st.comment_end]]
+        prev_end = 0
+        for c_start, c_end, ctrl in controls(body):
+            _on_region(st, prev_end, c_start)
+            prev_end = c_end
+            ln = st.lines.at(c_start)
+            st.merge = False
+            if "!" in ctrl:
+                ctrl = ctrl.partition("!")[0].rstrip()
+            if ctrl.startswith("#"):
+                _on_option_line(st, ctrl, ln)
+            else:
+                _on_keyword(st, ctrl, ln)
+        _on_region(st, prev_end, len(body))
+        if i < len(parts) - 1:  # lines before the next part (the head is small)
+            base += body.count(b"\n")
     for c in st.chunks:
         if c.more:
             c.text = "".join([c.text, *c.more])
@@ -493,7 +502,7 @@ def _count_keywords(st: _State, points: int, noise_rows: int) -> None:
                                   f"{noise_rows}", path, ln)
 
 
-def _comment_reference(text: str | bytes, st: _State, n: int, m: int, z0: np.ndarray) -> PortImpedances | None:
+def _comment_reference(text: str | bytes | PlainParts, st: _State, n: int, m: int, z0: np.ndarray) -> PortImpedances | None:
     """The port impedances of simulator comments, where the data are at them and not at the
     file's reference ``z0`` (see :mod:`matchtool.touchstone.comments`); None otherwise.
 
@@ -503,9 +512,8 @@ def _comment_reference(text: str | bytes, st: _State, n: int, m: int, z0: np.nda
     """
     if not st.comments:
         return None
-    region = text[: st.comment_end]  # every comment lies in it (line numbers hold: a prefix)
-    if isinstance(region, bytes):
-        region = region.decode("ascii")
+    # every comment lies in it (line numbers hold: the prefix of the text up to its last comment)
+    region = "".join(p.decode("ascii") if isinstance(p, bytes) else p for p in st.comment_text)
     low = region.lower()
     if "mpedance" not in low and "normali" not in low:
         return None  # no comment about the reference
@@ -530,7 +538,7 @@ def _comment_reference(text: str | bytes, st: _State, n: int, m: int, z0: np.nda
     return pz
 
 
-def parse_touchstone(text: str | bytes, path: str | Path = "<text>", nports: int | None = None, *,
+def parse_touchstone(text: str | bytes | PlainParts, path: str | Path = "<text>", nports: int | None = None, *,
                      checked: bool = False) -> Touchstone:
     """Parse Touchstone text (v1 or v2) into S-parameters.
 
@@ -544,6 +552,8 @@ def parse_touchstone(text: str | bytes, path: str | Path = "<text>", nports: int
     path = str(path)
     if isinstance(text, bytes | bytearray | memoryview) and not (checked and isinstance(text, bytes)):
         text = plain_touchstone(bytes(text), path)
+    elif isinstance(text, PlainParts) and not checked:
+        text = plain_touchstone(text.head + text.rest, path)
     st = _scan(text, path)
     opt = st.option
     n = _port_count(st, nports, len(text))
