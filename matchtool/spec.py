@@ -78,7 +78,7 @@ import numpy as np
 from . import reflection as rf
 from .bands import CAP_DB, MIN_BAND_SAMPLES, band_samples, sweep_covers, worst_in_band
 from .errors import MatchtoolError, SpecError, UsageError
-from .sweep import Sweep, _file_reference, _port_warnings, load, parse_touchstone, ports_from_name, read_text, sweep_from_arrays
+from .sweep import Sweep, _file_reference, _port_warnings, load, parse_touchstone, ports_from_name, sweep_from_arrays
 
 _CAP_DB = CAP_DB  # the old private name (the one definition lives in bands.py)
 MAX_SPEC_BYTES = 1_000_000
@@ -1058,7 +1058,7 @@ def evaluate(sweep: Sweep | Any, spec: Spec) -> UnitResult:
 
 
 # one input policy (matchtool/inputs.py): the special-file check lives there; kept importable here
-from .inputs import SPECIAL_FILE, is_special_file, special_file_error  # noqa: E402,F401
+from .inputs import SPECIAL_FILE, is_special_file, read_touchstone, special_file_error  # noqa: E402,F401
 
 
 def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, list[str], int]:
@@ -1069,7 +1069,7 @@ def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, li
     objects would cost more than the evaluation itself. A spec naming a port the file lacks raises
     SpecError (one line naming the file, the port and the spec key).
     """
-    ts = parse_touchstone(read_text(path), path, ports_from_name(path))
+    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path), checked=True)  # ASCII files stay bytes
     n = ts.s.shape[1]
     err = _missing_port(str(path), n, spec)
     if err is not None:
@@ -1080,7 +1080,7 @@ def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, li
         # renormalise as load() does (a per-frequency or complex reference from the file, or the spec's z0_ohm)
         sw = sweep_from_arrays(ts.f_hz, ts.s, _file_reference(ts), path=str(path), port=spec.ports[0],
                                z0_ohm=spec.z0_ohm, warnings=ts.warnings, version=ts.version, s_def=ts.s_def)
-        s, z0, warnings = np.asarray(sw.network.s), np.full(n, sw.z0_ohm), list(sw.warnings)
+        s, z0, warnings = sw.s, np.full(n, sw.z0_ohm), list(sw.warnings)
     for p in spec.ports:
         if (np.abs(s[:, p - 1, p - 1]) > 1.0).any():  # the loader's own warning, for each port read
             warnings.extend(w for w in sweep_from_arrays(ts.f_hz, s, z0, path=str(path), port=p).warnings

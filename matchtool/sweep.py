@@ -14,14 +14,16 @@ impedances in ohms (``z0_ohm``); ports are numbered from 1 as in the file.
 from __future__ import annotations
 
 import math
+import sys
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import skrf
 
 from .errors import OutOfRangeError, UsageError
-from .inputs import DEFAULT_MAX_BYTES
+from .inputs import DEFAULT_MAX_BYTES, read_touchstone
 from .touchstone import (
     Touchstone,
     decode_text,
@@ -33,6 +35,9 @@ from .touchstone import (
 )
 from .units import format_frequency
 
+if TYPE_CHECKING:  # scikit-rf is imported where a Network is built or converted, not at start-up
+    import skrf
+
 __all__ = ["DEFAULT_MAX_BYTES", "SYSTEM_Z0_OHM", "Sweep", "Touchstone", "as_sweep", "decode_text", "gamma_at", "gamma_at_many",
            "load", "load_reflection", "parse_touchstone", "ports_from_name", "read_text", "sweep_from_arrays",
            "touchstone_text", "write_touchstone"]
@@ -43,28 +48,40 @@ __all__ = ["DEFAULT_MAX_BYTES", "SYSTEM_Z0_OHM", "Sweep", "Touchstone", "as_swee
 class Sweep:
     """A loaded sweep and the port chosen for reflection metrics.
 
-    ``network`` is the whole N-port as an ``skrf.Network`` (renormalised when ``z0_ohm`` was
-    asked for); ``gamma`` is S_pp of the chosen port ``port`` (1-based) at ``z0_ohm``.
+    ``f_hz`` (n,) in Hz; ``s`` (n, N, N) the whole N-port at ``z0_ports_ohm`` (N,) real ohms per
+    port (renormalised when ``z0_ohm`` was asked for); ``gamma`` is S_pp of the chosen port
+    ``port`` (1-based) at ``z0_ohm``. ``network`` is the same N-port as an ``skrf.Network``, built
+    on first use (scikit-rf is imported only then: a command that needs only the arrays, such as
+    ``inspect``, starts without it).
     """
 
-    network: skrf.Network
+    f_hz: np.ndarray
+    s: np.ndarray
+    z0_ports_ohm: np.ndarray
     port: int
     path: str
     z0_ohm: float
     warnings: list[str] = field(default_factory=list)
     version: str = "1"
 
-    @property
-    def f_hz(self) -> np.ndarray:
-        return self.network.frequency.f
+    @cached_property
+    def network(self) -> skrf.Network:
+        """The N-port as an ``skrf.Network`` (z0 (n, N), named after the file's stem); built once."""
+        import skrf
+
+        m, n = self.s.shape[0], self.s.shape[1]
+        freq = skrf.Frequency.from_f(self.f_hz, unit="Hz")
+        # a (nports,) z0 would be read by scikit-rf as one value per frequency when nfreq == nports
+        z0_net = np.broadcast_to(self.z0_ports_ohm, (m, n)).copy()
+        return skrf.Network(frequency=freq, s=self.s, z0=z0_net, name=Path(self.path).stem)
 
     @property
     def gamma(self) -> np.ndarray:
-        return self.network.s[:, self.port - 1, self.port - 1]
+        return self.s[:, self.port - 1, self.port - 1]
 
     @property
     def nports(self) -> int:
-        return int(self.network.nports)
+        return int(self.s.shape[1])
 
     @property
     def name(self) -> str:
@@ -80,11 +97,18 @@ class Sweep:
         that varies with frequency or is complex is renormalised to :data:`SYSTEM_Z0_OHM` with a
         warning. ``path`` names it in messages (default: the network's name).
         """
-        if not isinstance(network, skrf.Network):
+        if not _is_network(network):
             raise UsageError(f"expected an skrf.Network, got {type(network).__name__}", parameter="network")
         name = path if path is not None else (network.name or "<network>")
         return sweep_from_arrays(network.f, network.s, np.asarray(network.z0), path=name, port=port,
                                  z0_ohm=z0_ohm, s_def=getattr(network, "s_def", "power"))
+
+
+def _is_network(obj: object) -> bool:
+    """Whether ``obj`` is an ``skrf.Network`` (without importing scikit-rf: if it is not imported,
+    nothing can be one)."""
+    skrf = sys.modules.get("skrf")
+    return skrf is not None and isinstance(obj, skrf.Network)
 
 
 def as_sweep(obj: Sweep | skrf.Network | str | Path, port: int | None = None, z0_ohm: float | None = None) -> Sweep:
@@ -95,11 +119,10 @@ def as_sweep(obj: Sweep | skrf.Network | str | Path, port: int | None = None, z0
     if isinstance(obj, Sweep):
         if (port is None or port == obj.port) and (z0_ohm is None or math.isclose(z0_ohm, obj.z0_ohm)):
             return obj
-        z0 = np.asarray(obj.network.z0)
-        return sweep_from_arrays(obj.f_hz, obj.network.s, np.real(z0[0]), path=obj.path,
+        return sweep_from_arrays(obj.f_hz, obj.s, obj.z0_ports_ohm, path=obj.path,
                                  port=obj.port if port is None else port, z0_ohm=z0_ohm,
                                  warnings=list(obj.warnings), version=obj.version)
-    if isinstance(obj, skrf.Network):
+    if _is_network(obj):
         return Sweep.from_network(obj, port=1 if port is None else port, z0_ohm=z0_ohm)
     if isinstance(obj, str | Path):
         return load(obj, port=1 if port is None else port, z0_ohm=z0_ohm)
@@ -121,8 +144,8 @@ def load(path: str | Path, port: int = 1, z0_ohm: float | None = None, max_bytes
     a warning). ``max_bytes`` is the input limit (default :func:`matchtool.inputs.default_max_bytes`).
     Raises TouchstoneError or UsageError.
     """
-    text = read_text(path, max_bytes)
-    ts = parse_touchstone(text, path, ports_from_name(path))
+    text = read_touchstone(path, max_bytes)  # plain ASCII files stay bytes: no decode and re-encode
+    ts = parse_touchstone(text, path, ports_from_name(path), checked=True)
     return sweep_from_arrays(ts.f_hz, ts.s, _file_reference(ts), path=str(path), port=port, z0_ohm=z0_ohm,
                              warnings=ts.warnings, version=ts.version, s_def=ts.s_def)
 
@@ -134,7 +157,7 @@ def load_reflection(path: str | Path, port: int, z0_ohm: float | None) -> tuple[
     ``skrf.Network`` in the common case (no renormalisation, nothing to warn about |Gamma| > 1):
     for a lot of a thousand sweeps the Network objects cost more than the evaluation itself.
     """
-    ts = parse_touchstone(read_text(path), path, ports_from_name(path))
+    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path), checked=True)
     n = ts.s.shape[1]
     fast = (not isinstance(port, bool) and isinstance(port, int) and 1 <= port <= n and ts.port_z0_ohm is None
             and (z0_ohm is None or np.allclose(ts.z0_ohm, z0_ohm)))
@@ -208,30 +231,32 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
     except ValueError:
         raise UsageError(f"a reference impedance of shape {z_in.shape} does not fit {m} points of {n} ports",
                          path=path, expected="one value, (N,) or (n, N)") from None
-    if not (np.isfinite(z_full).all() and np.all(z_full.real > 0)):
+    # one value or one per port (the common case): check those, not their broadcast over frequency
+    z_chk = z_in.reshape(1, -1) if z_in.ndim == 0 or (z_in.ndim == 1 and z_in.size == n) else z_full
+    if not (np.isfinite(z_chk).all() and np.all(z_chk.real > 0)):
         raise UsageError("reference impedance must be positive and finite", path=path)
     if z0_ohm is not None and not (math.isfinite(z0_ohm) and z0_ohm > 0):
         raise UsageError("not a usable system impedance", parameter="z0_ohm", value=f"{z0_ohm:g} ohm",
                          expected="a positive, finite impedance")
     g_file = s[:, port - 1, port - 1]
-    usable = bool(np.all(z_full.imag == 0) and np.all(z_full == z_full[:1]))
+    usable = bool(np.all(z_chk.imag == 0) and np.all(z_chk == z_chk[:1]))
     if usable:
         z0_file = z_full[0].real.copy()
         if z0_ohm is not None and not np.allclose(z0_file, z0_ohm):
+            import skrf
+
             s = skrf.network.renormalize_s(s, z0_file, np.full(n, float(z0_ohm)))
     else:
         target = SYSTEM_Z0_OHM if z0_ohm is None else float(z0_ohm)
         if z0_ohm is None:
             _add(warnings, f"{path}: the reference impedance varies with frequency or is complex; renormalised to "
                            f"{target:g} ohm (the system impedance; --z0 chooses another)")
+        import skrf
+
         s = skrf.network.renormalize_s(s, np.array(z_full), np.full(n, target), s_def=s_def, s_def_old=s_def)
         z0_file = np.full(n, target)
     if z0_ohm is not None:
         z0_file = np.full(n, float(z0_ohm))
-    freq = skrf.Frequency.from_f(f_hz, unit="Hz")
-    # a (nports,) z0 would be read by scikit-rf as one value per frequency when nfreq == nports
-    z0_net = np.broadcast_to(z0_file, (m, n)).copy()
-    net = skrf.Network(frequency=freq, s=s, z0=z0_net, name=Path(path).stem)
     g = np.abs(s[:, port - 1, port - 1])
     over = g > 1.0
     if over.any():
@@ -243,8 +268,8 @@ def sweep_from_arrays(f_hz: np.ndarray, s: np.ndarray, z0_file_ohm: np.ndarray |
              f"{format_frequency(float(f_hz[k]))}): a passive antenna cannot reflect more than it receives; "
              f"check the calibration or de-embedding{sign}")
     _port_warnings(warnings, str(path), g_file, int(port), float(z0_file[port - 1]), z0_ohm is None and usable)
-    return Sweep(network=net, port=int(port), path=str(path), z0_ohm=float(z0_file[port - 1]),
-                 warnings=warnings, version=version)
+    return Sweep(f_hz=f_hz, s=s, z0_ports_ohm=np.asarray(z0_file, dtype=float), port=int(port), path=str(path),
+                 z0_ohm=float(z0_file[port - 1]), warnings=warnings, version=version)
 
 
 def gamma_at(sweep: Sweep, f_hz: float) -> complex:

@@ -8,11 +8,13 @@ import re
 import subprocess
 import sys
 
+import pytest
 from helpers import ROOT
 
 SCRIPT = ROOT / "tests" / "benchmarks" / "run.py"
 
 
+@pytest.mark.slow
 def test_quick_benchmark_prints_the_table_and_exits_0(tmp_path):
     out_json = tmp_path / "bench.json"
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}

@@ -10,7 +10,8 @@ Three properties:
 
 At least 1,000 examples per test in the normal run; the long run is
     HYPOTHESIS_PROFILE=long python -m pytest tests/test_fuzz.py
-which takes the 'long' profile of tests/conftest.py (10,000 examples per test).
+which takes the 'long' profile of tests/conftest.py (10,000 examples per test). Every test here
+is marked ``slow``: ``python -m pytest -m "not slow"`` leaves them out of the quick loop.
 """
 
 from __future__ import annotations
@@ -23,11 +24,14 @@ import tempfile
 from pathlib import Path
 
 import numpy as np
+import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from matchtool.errors import MatchtoolError
 from matchtool.sweep import load
+
+pytestmark = pytest.mark.slow  # the long fuzz: run by default and by .ci/run; skipped by -m "not slow"
 
 N_EXAMPLES = max(1000, settings.default.max_examples)
 FUZZ = settings(max_examples=N_EXAMPLES, deadline=None, suppress_health_check=list(HealthCheck))

@@ -395,3 +395,112 @@ def test_two_port_rows_in_an_s1p_name_say_so(tmp_path):
     with pytest.raises(TouchstoneError, match=r"line 2: expected 3 numbers for a 1-port row, found 9 \(a row of 9 "
                                               r"numbers is 2-port data: is this a \.s2p file\?\)"):
         load(p)
+
+
+# ---------------------------------------------------------------- bytes input and the lazy Network
+
+def test_bytes_and_text_parse_to_the_same_numbers(tmp_path):
+    # the loader reads plain ASCII files as bytes (no decode and re-encode); the numbers, lines of
+    # errors and warnings must be those of the text. Expected values: the numbers written (derived).
+    f = np.array([1e9, 2e9, 3e9])
+    s = np.array([[[0.1 + 0.2j, 0.3 - 0.1j], [0.05j, -0.4 + 0j]]] * 3)
+    text = touchstone_text(f, s, 50.0, ["a comment"])
+    a, b = parse_touchstone(text, "t.s2p", 2), parse_touchstone(text.encode("ascii"), "t.s2p", 2)
+    assert np.array_equal(a.f_hz, f) and np.array_equal(b.f_hz, f)
+    assert np.array_equal(a.s, s) and np.array_equal(b.s, s)
+    bad = text.replace("2000000000 ", "2000000000 x", 1)
+    with pytest.raises(TouchstoneError) as ea:
+        parse_touchstone(bad, "t.s2p", 2)
+    with pytest.raises(TouchstoneError) as eb:
+        parse_touchstone(bad.encode("ascii"), "t.s2p", 2)
+    assert str(ea.value) == str(eb.value) and ea.value.line == eb.value.line == 4
+
+
+def test_bytes_that_are_not_plain_ascii_follow_the_input_policy():
+    # a Latin-1 comment (old instruments) decodes; binary content is refused with its line,
+    # as read_text does for a file
+    latin = b"! Messung \xb5W\n# MHz S RI R 50\n100 0.1 0.2\n"
+    assert parse_touchstone(latin, "a.s1p", 1).s[0, 0, 0] == 0.1 + 0.2j
+    with pytest.raises(TouchstoneError, match="binary content") as ei:
+        parse_touchstone(b"# MHz S RI R 50\n100 0.1 0.2\n\x01\n", "a.s1p", 1)
+    assert ei.value.line == 3
+
+
+def test_sweep_network_is_built_on_first_use_from_the_same_arrays(tmp_path):
+    p = write_rlc(tmp_path / "a.s1p", n=21)
+    sw = load(p)
+    assert "network" not in sw.__dict__  # not built by load
+    net = sw.network
+    assert isinstance(net, skrf.Network) and sw.network is net
+    assert np.array_equal(net.f, sw.f_hz) and np.array_equal(net.s[:, 0, 0], sw.gamma)
+    assert np.allclose(net.z0, 50.0) and net.name == "a"
+
+
+def test_inspect_does_not_import_scikit_rf(tmp_path):
+    # start-up (benchmark case P2): inspect needs only the arrays, so scikit-rf is not imported
+    import subprocess
+    import sys
+
+    from helpers import ROOT
+
+    p = write_rlc(tmp_path / "a.s1p", n=21)
+    code = (f"import sys; from matchtool.cli import main\nrc = main(['inspect', {str(p)!r}, '--json'])\n"
+            "print('SKRF', 'skrf' in sys.modules, rc)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT, timeout=300)
+    assert out.stdout.strip().splitlines()[-1] == "SKRF False 0", out.stdout + out.stderr
+
+
+def _large_text(n: int, comment_in_rest: bool = False) -> tuple[str, np.ndarray, np.ndarray]:
+    f = np.arange(1, n + 1) * 1e6
+    g = 0.3 * np.exp(1j * np.arange(n) * 1e-3)
+    lines = ["! header comment", "! Port[1] = 1:1  Impedance = 50 ohm", "# Hz S RI R 50"]
+    lines += [f"{fk:.0f} {gk.real:.9f} {gk.imag:.9f}" for fk, gk in zip(f, g, strict=True)]
+    if comment_in_rest:
+        lines.insert(3 + n // 2, "! a comment among the data")
+    return "\n".join(lines) + "\n", f, g
+
+
+def test_large_files_read_in_two_parts_load_as_the_text_does(tmp_path):
+    # a file over SPLIT_MIN_BYTES is read as its head and the rest (PlainParts): the numbers, the
+    # warnings and the lines named in errors are those of parsing the whole text (expected: the
+    # numbers written, and the line numbers derived from the lines written)
+    from matchtool.inputs import SPLIT_MIN_BYTES, PlainParts, read_touchstone
+
+    n = 40_000
+    for in_rest in (False, True):
+        text, f, g = _large_text(n, in_rest)
+        assert len(text) > SPLIT_MIN_BYTES
+        p = tmp_path / f"big_{in_rest}.s1p"
+        p.write_text(text)
+        parts = read_touchstone(p)
+        assert isinstance(parts, PlainParts) and parts.head.startswith(b"! header") and parts.rest.startswith(b"1000000 ")
+        sw, ref = load(p), parse_touchstone(text, p, 1)
+        assert np.array_equal(sw.f_hz, f) and np.allclose(sw.gamma, g, atol=1e-9)
+        assert np.array_equal(ref.s[:, 0, 0], sw.gamma) and sw.warnings == ref.warnings
+    # a bad token in the rest: the same message and line as for the whole text
+    text, _, _ = _large_text(n)
+    bad_line = 3 + 30_000  # the 30,000th data row (three header lines before the first)
+    rows = text.split("\n")
+    rows[bad_line - 1] = rows[bad_line - 1].replace(" ", " 0x", 1)
+    p = tmp_path / "bad.s1p"
+    p.write_text("\n".join(rows))
+    with pytest.raises(TouchstoneError) as e_file:
+        load(p)
+    with pytest.raises(TouchstoneError) as e_text:
+        parse_touchstone("\n".join(rows), p, 1)
+    assert str(e_file.value) == str(e_text.value) and e_file.value.line == bad_line
+
+
+def test_large_file_with_binary_content_or_latin1_in_the_rest(tmp_path):
+    # the two parts follow the one input policy: binary content is refused with its line; a
+    # Latin-1 comment decodes (read as text)
+    text, f, _ = _large_text(40_000)
+    rows = text.split("\n")
+    p = tmp_path / "bin.s1p"
+    p.write_bytes("\n".join(rows[:20_000]).encode() + b"\n\x00\x01\n" + "\n".join(rows[20_000:]).encode())
+    with pytest.raises(TouchstoneError, match="binary content") as ei:
+        load(p)
+    assert ei.value.line == 20_001
+    p = tmp_path / "latin.s1p"
+    p.write_bytes("\n".join(rows[:20_000]).encode() + b"\n! \xb5W\n" + "\n".join(rows[20_000:]).encode())
+    assert np.array_equal(load(p).f_hz, f)

@@ -17,17 +17,20 @@ _DATA_BYTES = b"0123456789eE+-. \t\n\v\f"
 
 
 class Lines:
-    """Maps character offsets in the text to 1-based line numbers (monotonic queries are cheap)."""
+    """Maps character offsets in the text (a str, or ASCII bytes) to 1-based line numbers
+    (monotonic queries are cheap)."""
 
-    def __init__(self, text: str) -> None:
+    def __init__(self, text: str | bytes, base: int = 0) -> None:
         self.text = text
+        self.nl = b"\n" if isinstance(text, bytes) else "\n"
+        self.base = base  # lines before the text (the head of a file read in two parts)
         self.pos = 0
-        self.line = 1
+        self.line = 1 + base
 
     def at(self, offset: int) -> int:
         if offset < self.pos:
-            self.pos, self.line = 0, 1
-        self.line += self.text.count("\n", self.pos, offset)
+            self.pos, self.line = 0, 1 + self.base
+        self.line += self.text.count(self.nl, self.pos, offset)
         self.pos = offset
         return self.line
 
@@ -97,29 +100,40 @@ def _counts_per_line(raw: np.ndarray) -> np.ndarray:
 _BLOCK = 1 << 19  # bytes counted at a time: the temporaries stay small whatever the file's size
 
 
-def _counts_in_blocks(data: bytes) -> np.ndarray:
-    """:func:`_counts_per_line` of ``data``, a block of about ``_BLOCK`` bytes at a time (half a
-    megabyte measured fastest: the temporaries stay in cache), each
-    block ending after a newline (so no line is split; a block opens with a line start)."""
-    raw = np.frombuffer(data, dtype=np.uint8)
-    if raw.size <= 2 * _BLOCK:
-        return _counts_per_line(raw)
+def _counts_in_blocks(data: str | bytes) -> np.ndarray:
+    """:func:`_counts_per_line` of ``data`` (ASCII bytes, or an ASCII str), about ``_BLOCK``
+    bytes at a time (half a megabyte measured fastest: the temporaries stay in cache), each block
+    ending after a newline (so no line is split; a block opens with a line start). A str is
+    encoded a block at a time: the whole text is never copied for the count (its numbers are
+    read from the str itself by ``np.fromstring``)."""
+    is_str = isinstance(data, str)
+    nl = "\n" if is_str else b"\n"
+
+    def block(a: int, b: int) -> np.ndarray:
+        if is_str:
+            return np.frombuffer(data[a:b].encode("ascii"), dtype=np.uint8)
+        return np.frombuffer(data, dtype=np.uint8, count=b - a, offset=a)
+
+    size = len(data)
+    if size <= 2 * _BLOCK:
+        return _counts_per_line(block(0, size))
     parts = []
     a = 0
-    while a < raw.size:
-        b = data.rfind(b"\n", a, a + _BLOCK) + 1
+    while a < size:
+        b = data.rfind(nl, a, a + _BLOCK) + 1
         if b <= a:  # a line longer than a block
-            b = data.find(b"\n", a + _BLOCK) + 1 or raw.size
-        part = _counts_per_line(raw[a:b])
-        parts.append(part[:-1] if b < raw.size else part)  # the empty line after a block's last newline
+            b = data.find(nl, a + _BLOCK) + 1 or size
+        part = _counts_per_line(block(a, b))
+        parts.append(part[:-1] if b < size else part)  # the empty line after a block's last newline
         a = b
     return np.concatenate(parts)
 
 
-def _numbers_fast(data: bytes) -> tuple[np.ndarray, np.ndarray] | None:
-    """The common case in one C-speed conversion: ``np.fromstring`` reads every number and the
-    count per line comes from byte arithmetic. None whenever anything is unusual (a token that
-    is not one plain finite number: the exact path then finds and names it)."""
+def _numbers_fast(data: str | bytes) -> tuple[np.ndarray, np.ndarray] | None:
+    """The common case in one C-speed conversion: ``np.fromstring`` reads every number (from the
+    ASCII bytes or str as it is: no copy) and the count per line comes from byte arithmetic.
+    None whenever anything is unusual (a token that is not one plain finite number: the exact
+    path then finds and names it)."""
     counts = _counts_in_blocks(data)
     total = int(counts.sum())
     if total == 0:
@@ -143,18 +157,15 @@ def numbers(chunk: str | bytes, first_line: int, path: str, what: str) -> tuple[
     common case takes :func:`_numbers_fast`; anything it does not accept goes through the exact
     path below, which finds and names the first bad token (the messages of the hostile corpus).
     """
-    if isinstance(chunk, bytes):  # ASCII already (the caller has let go of the text)
-        data = chunk
-    else:
-        try:
-            data = chunk.encode("ascii")
-        except UnicodeEncodeError:
-            raise bad_token(chunk, first_line, path, what) from None
-    fast = _numbers_fast(data) if data else None
+    if isinstance(chunk, str) and not chunk.isascii():  # (str.isascii is a flag: no scan)
+        raise bad_token(chunk, first_line, path, what)
+    fast = _numbers_fast(chunk) if chunk else None
     if fast is not None:
         return fast
-    if isinstance(chunk, bytes):
-        chunk = data.decode("ascii")
+    if isinstance(chunk, bytes):  # ASCII (read from a plain file)
+        data, chunk = chunk, chunk.decode("ascii")
+    else:
+        data = chunk.encode("ascii")
     if data.translate(None, _DATA_BYTES):  # something other than digits, signs, '.', 'e' and blanks
         raise bad_token(chunk, first_line, path, what)
     raw = np.frombuffer(data, dtype=np.uint8)
@@ -183,11 +194,15 @@ def numbers(chunk: str | bytes, first_line: int, path: str, what: str) -> tuple[
     return values, counts
 
 
-def controls(body: str):
+def controls(body: str | bytes):
     """Yield (line start, line end, stripped text) of every line that begins (after blanks) with
-    '#' or '['. Uses str.find, which is far faster than a regex scan of a large file."""
+    '#' or '['. Uses str.find (bytes.find for ASCII bytes: the text comes back as str), which is
+    far faster than a regex scan of a large file."""
+    raw = isinstance(body, bytes)
+    nl = b"\n" if raw else "\n"
+    blanks = b" \t\f\v" if raw else " \t\f\v"
     found = []
-    for ch in "#[":
+    for ch in (b"#", b"[") if raw else ("#", "["):
         k = body.find(ch)
         while k >= 0:
             found.append(k)
@@ -198,19 +213,18 @@ def controls(body: str):
     for k in found:
         if k < last_end:  # inside a control line already yielded
             continue
-        if prev >= 0 and body.find("\n", prev, k) < 0:
+        if prev >= 0 and body.find(nl, prev, k) < 0:
             prev = k
             continue  # same line as an earlier '#'/'[' that is not at its start (keeps this linear)
         prev = k
-        start = body.rfind("\n", 0, k) + 1
-        if body[start:k].strip(" \t\f\v"):
+        start = body.rfind(nl, 0, k) + 1
+        if body[start:k].strip(blanks):
             continue  # not at the start of its line: the data checks report it
-        end = body.find("\n", k)
+        end = body.find(nl, k)
         end = len(body) if end < 0 else end
         last_end = end
-        yield start, end, body[k:end].strip()
-
-
+        ctrl = body[k:end].strip()
+        yield start, end, ctrl.decode("ascii") if raw else ctrl
 
 
 def check_rows(counts: np.ndarray, first_line: int, per: int, path: str, what: str) -> None:

@@ -20,9 +20,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
-import skrf
 
 from ..errors import TouchstoneError
+from ..inputs import PlainParts, plain_touchstone
 from .comments import PortImpedances, port_impedances, renormalisation_statement
 from .numbers import _NUMBER, Lines, check_rows, controls, numbers, positive, show
 
@@ -31,6 +31,9 @@ _PARAMS = {"s", "y", "z", "h", "g"}
 _FORMATS = {"ri", "ma", "db"}
 _COMMENT = re.compile(r"![^\n]*")
 _NOT_BLANK = re.compile(r"[^ \t\n\r\v\f]")
+_NOT_BLANK_B = re.compile(rb"[^ \t\n\r\v\f]")
+_OPTION_LATER = re.compile(r"^[ \t]*#", re.M)
+_OPTION_LATER_B = re.compile(rb"^[ \t]*#", re.M)
 
 
 @dataclass(frozen=True, eq=False)
@@ -76,7 +79,7 @@ class _Option:
 
 @dataclass
 class _Chunk:
-    text: str
+    text: str | bytes  # bytes (ASCII) where the file was read as bytes and the region holds no comment
     line: int  # 1-based line number of the chunk's first line
     section: str  # "network", "noise", "reference"
     more: list[str] = field(default_factory=list)  # text after ignored option lines, joined later
@@ -87,7 +90,7 @@ class _State:
     """What the scan of the control lines has found so far."""
 
     path: str
-    body: str  # the text with comments removed (same line numbers)
+    body: str | bytes  # the text (a str, or ASCII bytes); comments are removed per region
     lines: Lines
     option: _Option | None = None
     version: str = "1"
@@ -102,7 +105,8 @@ class _State:
     first_repeat: int = 0
     warnings: list[str] = field(default_factory=list)
     comments: bool = False  # the text holds comments
-    comment_end: int = 0  # ... none after this offset
+    comment_end: int = 0  # ... none after this offset (of the part being scanned)
+    comment_text: list[str | bytes] = field(default_factory=list)  # the text up to its last comment (in parts)
 
 
 # ------------------------------------------------------------------------------- the option line
@@ -259,55 +263,86 @@ def _on_keyword(st: _State, ctrl: str, ln: int) -> None:
 
 
 def _on_region(st: _State, start: int, end: int) -> None:
-    """The text between two control lines: data of the current section, or an error."""
+    """The text between two control lines: data of the current section, or an error.
+
+    The common region (no comment, not continuing an earlier chunk) is taken as one slice of the
+    text, bytes when the text is bytes (the number conversion reads bytes: no decode and
+    re-encode); the others are taken as str with their comments removed."""
     if st.in_info:
         return
-    seg = st.body[start:end]
-    if start < st.comment_end and "!" in seg:
-        seg = _COMMENT.sub("", seg)
-    if st.merge and st.chunks and st.chunks[-1].section == st.section:
-        # only ignored option lines since the last chunk: continue it (an ignored line stays
-        # as an empty line, so line numbers hold) instead of starting a chunk per line
-        st.chunks[-1].more.append(seg)
-        return
-    lead = _NOT_BLANK.search(seg)  # (no copy of a large region, unlike lstrip)
-    if lead is None:
-        return
-    first = st.lines.at(start) + seg.count("\n", 0, lead.start())
+    body = st.body
+    raw = isinstance(body, bytes)
+    has_comment = start < st.comment_end and body.find(b"!" if raw else "!", start, end) >= 0
+    merge = st.merge and st.chunks and st.chunks[-1].section == st.section
+    if has_comment or merge:
+        seg = body[start:end]
+        if raw:
+            seg = seg.decode("ascii")
+        if has_comment:
+            seg = _COMMENT.sub("", seg)
+        if merge:
+            # only ignored option lines since the last chunk: continue it (an ignored line stays
+            # as an empty line, so line numbers hold) instead of starting a chunk per line
+            last = st.chunks[-1]
+            if isinstance(last.text, bytes):
+                last.text = last.text.decode("ascii")
+            last.more.append(seg)
+            return
+        lead = _NOT_BLANK.search(seg)  # (no copy of a large region, unlike lstrip)
+        if lead is None:
+            return
+        blank_lines = seg.count("\n", 0, lead.start())
+    else:
+        seg = None
+        lead = (_NOT_BLANK_B if raw else _NOT_BLANK).search(body, start, end)
+        if lead is None:
+            return
+        blank_lines = body.count(b"\n" if raw else "\n", start, lead.start())
+    first = st.lines.at(start) + blank_lines
     if st.ended:
         raise TouchstoneError("text after [End]", st.path, first)
     if st.option is None:
-        later = re.search(r"^[ \t]*#", st.body[end:], re.M)
+        later = (_OPTION_LATER_B if raw else _OPTION_LATER).search(body, end)
         raise TouchstoneError("data before the option line" if later else "no option line before the data",
                               st.path, first, expected="'# <unit> <parameter> <format> R <ohms>' first")
     if st.section is None:
         raise TouchstoneError("data before [Network Data]", st.path, first)
-    st.chunks.append(_Chunk(seg, st.lines.at(start), st.section))
+    st.chunks.append(_Chunk(body[start:end] if seg is None else seg, st.lines.at(start), st.section))
 
 
-def _scan(text: str, path: str) -> _State:
-    """One pass over the control lines of ``text``; the data between them become chunks.
+def _scan(text: str | bytes | PlainParts, path: str) -> _State:
+    """One pass over the control lines of ``text`` (a str, or ASCII bytes); the data between them
+    become chunks.
 
     Comments ('!' to the end of the line) are removed from each control line and each data
     region as it is taken (line numbers hold), not from the whole text: a sweep's comments are
     mostly at its top, and a copy of a large file costs time and memory."""
-    body = text
-    last = text.rfind("!")
-    st = _State(path=path, body=body, lines=Lines(body), comments=last >= 0,
-                comment_end=0 if last < 0 else (text.find("\n", last) + 1 or len(text)))
-    prev_end = 0
-    for c_start, c_end, ctrl in controls(body):
-        _on_region(st, prev_end, c_start)
-        prev_end = c_end
-        ln = st.lines.at(c_start)
-        st.merge = False
-        if "!" in ctrl:
-            ctrl = ctrl.partition("!")[0].rstrip()
-        if ctrl.startswith("#"):
-            _on_option_line(st, ctrl, ln)
-        else:
-            _on_keyword(st, ctrl, ln)
-    _on_region(st, prev_end, len(body))
+    parts = (text.head, text.rest) if isinstance(text, PlainParts) else (text,)
+    st = _State(path=path, body=parts[0], lines=Lines(parts[0]))
+    base = 0
+    for i, body in enumerate(parts):  # a file read in two parts is scanned as if it were one text
+        raw = isinstance(body, bytes)
+        last = body.rfind(b"!" if raw else "!")
+        st.body, st.lines = body, Lines(body, base)
+        st.comment_end = 0 if last < 0 else (body.find(b"\n" if raw else "\n", last) + 1 or len(body))
+        if last >= 0:
+            st.comments = True
+            st.comment_text = [*parts[:i], body[: st.comment_end]]
+        prev_end = 0
+        for c_start, c_end, ctrl in controls(body):
+            _on_region(st, prev_end, c_start)
+            prev_end = c_end
+            ln = st.lines.at(c_start)
+            st.merge = False
+            if "!" in ctrl:
+                ctrl = ctrl.partition("!")[0].rstrip()
+            if ctrl.startswith("#"):
+                _on_option_line(st, ctrl, ln)
+            else:
+                _on_keyword(st, ctrl, ln)
+        _on_region(st, prev_end, len(body))
+        if i < len(parts) - 1:  # lines before the next part (the head is small)
+            base += body.count(b"\n")
     for c in st.chunks:
         if c.more:
             c.text = "".join([c.text, *c.more])
@@ -422,6 +457,8 @@ def _noise_rows(st: _State, n: int) -> int:
 
 def _frequencies_hz(f_file: np.ndarray, unit: float, rec_lines: np.ndarray, path: str) -> np.ndarray:
     _check_frequencies(f_file, rec_lines, path)
+    if unit == 1.0:  # Hz already: strictly increasing as checked
+        return np.array(f_file)
     with np.errstate(over="ignore"):
         f_hz = f_file * unit
     if not np.isfinite(f_hz).all():
@@ -465,7 +502,7 @@ def _count_keywords(st: _State, points: int, noise_rows: int) -> None:
                                   f"{noise_rows}", path, ln)
 
 
-def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) -> PortImpedances | None:
+def _comment_reference(text: str | bytes | PlainParts, st: _State, n: int, m: int, z0: np.ndarray) -> PortImpedances | None:
     """The port impedances of simulator comments, where the data are at them and not at the
     file's reference ``z0`` (see :mod:`matchtool.touchstone.comments`); None otherwise.
 
@@ -475,7 +512,8 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     """
     if not st.comments:
         return None
-    region = text[: st.comment_end]  # every comment lies in it (line numbers hold: a prefix)
+    # every comment lies in it (line numbers hold: the prefix of the text up to its last comment)
+    region = "".join(p.decode("ascii") if isinstance(p, bytes) else p for p in st.comment_text)
     low = region.lower()
     if "mpedance" not in low and "normali" not in low:
         return None  # no comment about the reference
@@ -500,13 +538,22 @@ def _comment_reference(text: str, st: _State, n: int, m: int, z0: np.ndarray) ->
     return pz
 
 
-def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None = None) -> Touchstone:
+def parse_touchstone(text: str | bytes | PlainParts, path: str | Path = "<text>", nports: int | None = None, *,
+                     checked: bool = False) -> Touchstone:
     """Parse Touchstone text (v1 or v2) into S-parameters.
 
-    ``nports`` is the port count that the file name states (``.sNp``); None when the name does not
-    say (then a version 2 ``[Number of Ports]`` must). Raises :class:`TouchstoneError`.
+    ``text`` is a str, or the file's bytes (plain ASCII bytes are read as they are; any other
+    bytes are decoded by the one input policy, :func:`matchtool.inputs.plain_touchstone`).
+    ``checked`` says that ``text`` comes from :func:`matchtool.inputs.read_touchstone` (or
+    ``plain_touchstone``) and is not checked again. ``nports`` is the port count that the file
+    name states (``.sNp``); None when the name does not say (then a version 2
+    ``[Number of Ports]`` must). Raises :class:`TouchstoneError`.
     """
     path = str(path)
+    if isinstance(text, bytes | bytearray | memoryview) and not (checked and isinstance(text, bytes)):
+        text = plain_touchstone(bytes(text), path)
+    elif isinstance(text, PlainParts) and not checked:
+        text = plain_touchstone(text.head + text.rest, path)
     st = _scan(text, path)
     opt = st.option
     n = _port_count(st, nports, len(text))
@@ -524,8 +571,16 @@ def parse_touchstone(text: str, path: str | Path = "<text>", nports: int | None 
     noise_rows += _noise_rows(st, n)
 
     f_hz = _frequencies_hz(records[:, 0], opt.unit, rec_lines, path)
-    vals = _complex_values(records[:, 1:].reshape(len(records), npairs, 2), opt.fmt)
-    mat = _to_matrix(vals, n, layout, order)
+    m = len(records)
+    pairs = records[:, 1:].reshape(m, npairs, 2)
+    if opt.fmt == "RI" and layout == "full":
+        # the common case: the (re, im) pairs of each record already lie in memory as complex
+        # numbers do, so the S-matrix is a view of the records (strided, aligned): no copy
+        mat = records[:, 1:].view(np.complex128).reshape(m, n, n)
+        if n == 2 and order == "21_12":
+            mat = mat.transpose(0, 2, 1)
+    else:
+        mat = _to_matrix(_complex_values(pairs, opt.fmt), n, layout, order)
     s = _to_s(mat, opt.param, z0, opt.r_ohm, st.version)
     # finite numbers stay finite as RI or MA S-parameters; DB and the conversions can overflow
     bad = np.zeros(len(s), dtype=bool) if opt.param == "S" and opt.fmt != "DB" else ~np.isfinite(s).all(axis=(1, 2))
@@ -622,6 +677,10 @@ def _v1_noise_start(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray,
     """The line (index in the chunk) where a version 1 two-port's noise block starts: the first
     frequency not above the one before (Touchstone 1.1), accepted only when every row from there
     on holds the five noise numbers. None when the chunk holds network rows only."""
+    if values.size and values.size % per == 0 and np.all((counts == per) | (counts == 0)):
+        f = values[::per]  # every line a whole record: the common case, decided without the row index
+        if f[0] > last_f and np.all(f[1:] > f[:-1]):
+            return None
     starts = np.concatenate(([0], np.cumsum(counts)[:-1]))
     rows = np.flatnonzero(counts)
     row_f = values[starts[rows]] if values.size else np.empty(0)
@@ -646,15 +705,10 @@ def _v1_noise_start(values: np.ndarray, counts: np.ndarray, line_no: np.ndarray,
 
 
 def _chunk_numbers(c: _Chunk, path: str) -> tuple[np.ndarray, np.ndarray]:
-    """Numbers and counts per line of a network-data chunk; its text is let go of once encoded
-    (peak memory of a large file)."""
+    """Numbers and counts per line of a network-data chunk (the chunk lets go of its text: peak
+    memory of a large file)."""
     text, c.text = c.text, ""
-    try:
-        arg: str | bytes = text.encode("ascii")
-    except UnicodeEncodeError:
-        arg = text
-    del text
-    return numbers(arg, c.line, path, "network data")
+    return numbers(text, c.line, path, "network data")
 
 
 def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, from_name: bool = False):
@@ -691,12 +745,12 @@ def _assemble(chunks: list[_Chunk], n: int, per: int, version: str, path: str, f
         if values.size:
             block = values.reshape(-1, per)
             recs.append(block)
-            lines_out.append(line_no[counts != 0])
+            lines_out.append(line_no if counts.all() else line_no[counts != 0])
             last_f = float(block[-1, 0])
     records = (recs[0] if len(recs) == 1 else np.concatenate(recs)) if recs else np.empty((0, per))
     if records.shape[0] == 0:
         raise TouchstoneError("no data", path, expected="at least one frequency row")
-    return records, np.concatenate(lines_out), noise_rows
+    return records, lines_out[0] if len(lines_out) == 1 else np.concatenate(lines_out), noise_rows
 
 
 def _check_frequencies(f: np.ndarray, rec_lines: np.ndarray, path: str) -> None:
@@ -748,6 +802,8 @@ def _to_s(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: st
 
 
 def _convert(mat: np.ndarray, param: str, z0: np.ndarray, r_ohm: float, version: str) -> np.ndarray:
+    import skrf  # only for Z/Y/H/G data: S-parameter files are read without scikit-rf
+
     v1 = version == "1"
     with np.errstate(all="ignore"):
         if param == "Z":

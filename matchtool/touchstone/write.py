@@ -3,13 +3,16 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import skrf
 
 from ..errors import UsageError
 from ..outputs import atomic_write
 from .read import ports_from_name
+
+if TYPE_CHECKING:
+    import skrf
 
 
 def touchstone_text(f_hz: np.ndarray, s: np.ndarray, z0_ohm: np.ndarray | float, comments: list[str] = (),

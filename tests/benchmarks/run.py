@@ -9,15 +9,18 @@ Cases (goals from the benchmarks issue):
 
   P1  ``matchtool check`` of 1,000 sweeps x 1,601 points against a two-band spec, --jobs 1 and
       --jobs 2, against one process looping ``skrf.Network(path)`` over the same files.
-      Goal: <= 1.2x (one job), <= 0.7x (two jobs).
+      Goal: <= 0.35x (one job), <= 0.25x (two jobs, on an idle machine; first round: 1.2x and
+      0.7x). A third row: --jobs 2 against --jobs 1 on a small lot of 150 files, goal <= 1.0x
+      (two jobs are never slower than one: a small lot stays in-process).
   P2  cold ``python -m matchtool inspect FILE --json`` against
-      ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.3x.
+      ``python -c "import skrf; skrf.Network(FILE)"``. Goal: <= 1.1x (first round: 1.3x).
   P3  ``matchtool match FILE --band 902MHz:928MHz --series E24`` with part Q on a 1,601-point
       sweep (wall time of the command). Goal: < 1 s; the ratio to a bare scikit-rf read is shown.
   P4  the same with ``--tolerance 5 --trials 10000``: the time the 10,000 trials add to P3.
       Goal: < 2 s.
   P5  ``inspect`` of a 1,000,000-point sweep: wall time and peak memory (max RSS of the process)
-      against scikit-rf's own read of the same file. Goal: <= 1.3x time, <= 2x memory.
+      against scikit-rf's own read of the same file. Goal: <= 0.35x time, <= 0.6x memory (first
+      round: 1.3x and 2x).
   P6  the Touchstone parser in-process: ``matchtool.sweep.parse_touchstone`` of a 100,000-row
       two-port RI file (about 14 MB of text, already in memory) against ``numpy.loadtxt`` of the
       same body (the numbers only, from an in-memory text stream), interleaved in one process,
@@ -317,8 +320,11 @@ def mt(*args: object) -> list[str]:
 
 
 def p1(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
-    rows = [Row("P1", f"check {sz.p1_files} x {sz.points} pts, --jobs 1", goal="<= 1.2x", limit=1.2),
-            Row("P1", f"check {sz.p1_files} x {sz.points} pts, --jobs 2", goal="<= 0.7x", limit=0.7)]
+    small = min(150, sz.p1_files)
+    rows = [Row("P1", f"check {sz.p1_files} x {sz.points} pts, --jobs 1", goal="<= 0.35x", limit=0.35),
+            Row("P1", f"check {sz.p1_files} x {sz.points} pts, --jobs 2", goal="<= 0.25x", limit=0.25),
+            # "never slower than one job": equal within the noise of repeated runs (5 %)
+            Row("P1", f"check {small} files: --jobs 2 vs --jobs 1", goal="<= 1.0x+5%", limit=1.05)]
     if not has_command("check"):
         for r in rows:
             r.status = "not built yet"
@@ -332,7 +338,9 @@ def p1(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
             str(listing)]
     cands = {"base": loop,
              "j1": mt("check", *files, "--spec", spec, "--json", "--jobs", 1),
-             "j2": mt("check", *files, "--spec", spec, "--json", "--jobs", 2)}
+             "j2": mt("check", *files, "--spec", spec, "--json", "--jobs", 2),
+             "s1": mt("check", *files[:small], "--spec", spec, "--json", "--jobs", 1),
+             "s2": mt("check", *files[:small], "--spec", spec, "--json", "--jobs", 2)}
     probe = run.once(cands["j1"])
     nb = not_built(probe.err) if probe.code == 2 else None
     if nb or probe.code not in (0, 1):
@@ -341,19 +349,20 @@ def p1(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
             r.note = nb or failed([probe], (0, 1)) or ""
         return rows
     res = run.compare(cands, sz.reps_slow)
-    for r, key in zip(rows, ("j1", "j2"), strict=True):
-        bad = failed(res[key], (0, 1)) or failed(res["base"])
+    for r, key, base in zip(rows, ("j1", "j2", "s2"), ("base", "base", "s1"), strict=True):
+        bad = failed(res[key], (0, 1)) or failed(res[base], (0, 1) if base == "s1" else (0,))
         if bad:
             r.status, r.note = "error", bad
             continue
-        r.set_times(res[key], res["base"])
+        r.set_times(res[key], res[base])
     rows[0].note = f"baseline: one process, skrf.Network over the {sz.p1_files} files"
+    rows[2].note = f"baseline: the same {small} files with --jobs 1"
     return rows
 
 
 def p2(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     path = write_sweep(tmp / "p2_ant.s1p", sz.points, 917.5e6, np.random.default_rng([SEED, 2]))
-    row = Row("P2", f"cold inspect --json, {sz.points} pts", goal="<= 1.3x", limit=1.3)
+    row = Row("P2", f"cold inspect --json, {sz.points} pts", goal="<= 1.1x", limit=1.1)
     res = run.compare({"base": skrf_read(path), "ours": mt("inspect", path, "--json"),
                        "python": [PY, "-c", "pass"], "numpy": [PY, "-c", "import numpy"]}, sz.reps_fast)
     bad = failed(res["ours"]) or failed(res["base"])
@@ -423,8 +432,8 @@ def p3_p4(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
 def p5(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
     path = write_sweep(tmp / "p5_big.s1p", sz.p5_points, 917.5e6, np.random.default_rng([SEED, 5]), 100e6, 6e9)
     mb = path.stat().st_size / 1e6
-    rt = Row("P5", f"inspect {sz.p5_points:,} pts ({mb:.0f} MB): time", goal="<= 1.3x", limit=1.3)
-    rm = Row("P5", f"inspect {sz.p5_points:,} pts: peak memory", unit="MB", goal="<= 2x", limit=2.0)
+    rt = Row("P5", f"inspect {sz.p5_points:,} pts ({mb:.0f} MB): time", goal="<= 0.35x", limit=0.35)
+    rm = Row("P5", f"inspect {sz.p5_points:,} pts: peak memory", unit="MB", goal="<= 0.6x", limit=0.6)
     reps = sz.reps_slow
     res = run.compare({"base": skrf_read(path), "ours": mt("inspect", path, "--json")}, reps)
     bad = failed(res["ours"]) or failed(res["base"])
