@@ -69,8 +69,10 @@ class RequirementHistory:
 
 @dataclass(frozen=True)
 class StoredWorst:
-    """A unit that misses the spec by most (see :func:`matchtool.batch.worst_units`); in a lot
-    where every unit passed, one closest to failing (``passed`` True)."""
+    """A unit that misses the spec by most, by the rule of :func:`matchtool.batch.worst_units`:
+    ``ranked_by`` "requirement" for the worst unit of ``requirement`` (margin in its own unit),
+    "relative_margin" for the other units ranked across requirements; in a lot where every unit
+    passed, one closest to failing (``passed`` True)."""
 
     file: str
     station: str
@@ -79,6 +81,7 @@ class StoredWorst:
     margin_hz: float | None
     relative_margin: float | None
     passed: bool = False
+    ranked_by: str = "relative_margin"
 
 
 @dataclass(frozen=True)
@@ -482,12 +485,10 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
                 k = (row[1] is None, row[1] if row[1] is not None else 0.0, info[0] if info else "")
                 if best is None or k < best[0]:
                     best = (k, row, info)
-        if best is not None and best[2] is not None:
-            ident = (best[2][0], best[2][1])
-            if ident not in taken:
-                taken.add(ident)
-                row = best[1]
-                chosen.append(StoredWorst(best[2][0], best[2][1], name, row[2], row[3], row[4]))
+        if best is not None and best[2] is not None:  # a unit may be the worst of several requirements
+            taken.add((best[2][0], best[2][1]))
+            row = best[1]
+            chosen.append(StoredWorst(best[2][0], best[2][1], name, row[2], row[3], row[4], ranked_by="requirement"))
     fill = []
     for c in cands:
         _, rows = c.get(lt, ({}, []))
@@ -497,7 +498,7 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
             fill.append(((rel is None, rel if rel is not None else 0.0, negcount, info[0]), det, info))
     fill.sort(key=lambda t: t[0])
     for _, det, info in fill:
-        if len(chosen) >= n_worst:
+        if len(taken) >= n_worst:
             break
         if (info[0], info[1]) in taken:
             continue

@@ -209,7 +209,7 @@ def test_history_text_fits_the_width(cli, lot, monkeypatch, width):
     monkeypatch.setenv("COLUMNS", str(width))
     r = cli("history", "--store", db)
     assert r.code == 0
-    assert all(len(ln) <= width for ln in r.out.splitlines()), width
+    assert all(len(ln) <= width for ln in r.out.splitlines()), [ln for ln in r.out.splitlines() if len(ln) > width]
     words = set(r.out.split())
     doc = cli("history", "--store", db, "--json").json()["lots"][0]
     for q in doc["requirements"]:
