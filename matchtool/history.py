@@ -385,7 +385,8 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
     """The lot history of the stores at ``stores`` (URLs or paths; several are added together, as
     for shards written to separate stores), optionally only ``lot``, units checked at or after
     ``since`` (UTC) and spec name ``spec``. ``series`` also returns the per-unit worst values for
-    a trend plot. Raises InputError when a store cannot be opened."""
+    a trend plot. Raises InputError when a store cannot be opened, or when ``lot`` is given and no
+    store holds that lot (the message lists the lots present)."""
     from .store import Store
 
     if not stores:
@@ -401,6 +402,8 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
         for u in stores:
             opened.append(Store(u, create=False))
         try:
+            if lot is not None:
+                _require_lot(opened, lot)
             return _history(opened, lot, since_t, spec, n_worst, series)
         except SQLAlchemyError as exc:
             raise InputError(f"cannot read the results store ({_db_reason(exc)})",
@@ -408,6 +411,43 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
     finally:
         for st in opened:
             st.close()
+
+
+LOTS_LISTED = 20
+"""An unknown lot's error names at most this many of the lots present."""
+
+
+def lot_names(opened) -> list[str]:
+    """Every lot in the opened stores, in natural order (``lot2`` before ``lot10``)."""
+    from sqlalchemy import select
+
+    from .batch import _natural
+
+    _, _, U, _ = _tables()
+    names: set[str] = set()
+    for st in opened:
+        with st.engine.connect() as conn:
+            names |= {r[0] for r in conn.execute(select(U.c.lot).distinct())}
+    return sorted(names, key=_natural)
+
+
+def _require_lot(opened, lot: str) -> None:
+    """Raise InputError (parameter ``lot``) when no store holds lot ``lot`` at all, naming the lots
+    present (or saying the stores are empty). A lot that exists but has no unit within the other
+    filters is not an error (the result is then empty)."""
+    from .errors import InputError
+
+    present = lot_names(opened)
+    if lot in present:
+        return
+    where = ", ".join(st.shown for st in opened)
+    if not present:
+        raise InputError(f"no such lot: {where} is empty (no lot stored yet)", parameter="lot", value=lot,
+                         expected="a store written by 'matchtool check --store ... --lot NAME'")
+    shown = ", ".join(present[:LOTS_LISTED]) + (f" and {len(present) - LOTS_LISTED} more"
+                                                if len(present) > LOTS_LISTED else "")
+    raise InputError(f"no such lot in {where}", parameter="lot", value=lot,
+                     expected=f"one of the lots present: {shown}")
 
 
 def _history(opened, lot, since_t, spec, n_worst, series) -> HistoryResult:
