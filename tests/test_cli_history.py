@@ -282,3 +282,14 @@ def test_station_defaults_to_the_host_name_and_url_forms(cli, lot):
     assert h["lots"][0]["stations"] == [socket.gethostname()] and h["lots"][0]["units"] == 2
     r = cli("check", folder / "u1.s1p", "--spec", spec, "--store", "mysql://u@h/db", "--lot", "L")
     assert r.code == 2 and "--store" in r.err and "unknown kind of store" in r.err
+
+
+def test_history_limits_keep_the_digits_the_spec_gave(cli, lot):
+    d, spec, folder = lot
+    tight = d / "tight.toml"
+    tight.write_text('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 15.7531\n'
+                     '[resonance]\nf_low = "914.75 MHz"\nf_high = "925 MHz"\n')
+    db = d / "r.db"
+    cli("check", *sorted(folder.glob("u1*.s1p")), "--spec", tight, "--store", db, "--lot", "t")
+    text = " ".join(cli("history", "--store", db).out.split())
+    assert ">= 15.7531 dB" in text and "914.75 to 925 MHz" in text and "914.8" not in text

@@ -8,7 +8,7 @@ import sys
 import textwrap
 
 from ...units import format_frequency as ff
-from .check import _short, common_folder, table, text_width, worst_lines
+from .check import GLUE, _short, common_folder, table, text_width, window_text, worst_lines
 
 _UNIT = {"min_return_loss_db": "dB", "max_vswr": "ratio", "max_s11_db": "dB", "max_mismatch_loss_db": "dB",
          "max_deviation_db": "dB"}
@@ -19,19 +19,22 @@ def _val(key: str, x: float | None, digits: int = 2) -> str:
         return "n/a"
     if key == "resonance":
         return ff(x)
-    d = 3 if key == "max_vswr" else digits
+    d = max(3, digits) if key == "max_vswr" else digits
     u = _UNIT.get(key, "")
-    return f"{x:.{d}f}" + (f" {u}" if u else "")
+    return f"{x:.{d}f}" + (f"{GLUE}{u}" if u else "")
 
 
 def _limit(r) -> str:
     if r.key == "resonance":
         if r.f_low_hz is None or r.f_high_hz is None:
             return "n/a"
-        return f"{r.f_low_hz / 1e6:.1f} to {r.f_high_hz / 1e6:.1f} MHz"
+        return window_text(r.f_low_hz, r.f_high_hz)[1]  # the edges with the digits the spec gave
     if r.limit is None:
         return "changed"
-    return (">= " if r.cpk_side == "lower" else "<= ") + _val(r.key, r.limit)
+    d = 3 if r.key == "max_vswr" else 2
+    while d < 10 and abs(round(r.limit, d) - r.limit) > 1e-12 * max(1.0, abs(r.limit)):
+        d += 1  # the limit with the digits the spec gave it (15.7531, not 15.75)
+    return (">= " if r.cpk_side == "lower" else "<= ") + _val(r.key, r.limit, d)
 
 
 def _std(key: str, x: float | None) -> str:
