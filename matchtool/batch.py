@@ -343,12 +343,22 @@ class RequirementYield:
         return self.passed / self.evaluated if self.evaluated else 0.0
 
 
+BY_REQUIREMENT = "requirement"
+"""``WorstUnit.ranked_by`` of an entry that is the worst unit of its requirement (the most negative
+margin in that requirement's own unit)."""
+BY_RELATIVE = "relative_margin"
+"""``WorstUnit.ranked_by`` of an entry ranked across requirements of different kinds by
+:func:`relative_margin` (margin over the limit's scale)."""
+
+
 @dataclass(frozen=True)
 class WorstUnit:
-    """A unit and the requirement it misses most (or, for a passing unit, where its smallest margin
-    lies): ``margin_db`` (dB) or ``margin_hz`` (Hz) in that requirement's own unit, None when it
-    could not be evaluated; ``relative_margin`` is the margin over the limit's scale (see
-    :func:`relative_margin`)."""
+    """A unit and one requirement: ``margin_db`` (dB) or ``margin_hz`` (Hz) in that requirement's
+    own unit, None when it could not be evaluated; ``relative_margin`` is the margin over the
+    limit's scale (see :func:`relative_margin`). ``ranked_by`` says why it is listed:
+    :data:`BY_REQUIREMENT` (the unit that misses ``requirement`` by most) or :data:`BY_RELATIVE`
+    (one of the other units, ranked by relative margin; ``requirement`` is the one it misses most,
+    or for a passing unit the one closest to failing)."""
 
     file: str
     requirement: str
@@ -356,6 +366,8 @@ class WorstUnit:
     passed: bool
     margin_hz: float | None = None
     relative_margin: float | None = None
+    ranked_by: str = BY_RELATIVE
+    margin_ecc: float | None = None
 
 
 @dataclass(frozen=True)
@@ -408,7 +420,7 @@ def relative_margin(r: RequirementResult) -> float | None:
     that misses of different kinds compare: 8 dB return loss against a 10 dB limit is -0.2, a best
     match 2 MHz outside a 20 MHz wide window is -0.2. None when it could not be evaluated; a
     limit with no positive scale gives the margin itself."""
-    m = r.margin_hz if r.key == "resonance" else r.margin_db
+    m = own_margin(r)
     if m is None or not math.isfinite(m):
         return None if m is None else (-math.inf if m < 0 else math.inf)
     s = limit_scale(r)
@@ -429,25 +441,37 @@ def _worst_of(u: UnitResult) -> tuple[RequirementResult | None, float]:
     return best, (key[1] if key[0] == 0 else math.nan)
 
 
-def _entry(u: UnitResult, r: RequirementResult | None) -> WorstUnit:
+def own_margin(r: RequirementResult) -> float | None:
+    """A requirement's margin in its own unit: Hz for the resonance window, ECC for an ECC limit,
+    dB for the others (positive when passing; None when not evaluated)."""
+    if r.key == "resonance":
+        return r.margin_hz
+    if r.margin_db is None and r.margin_ecc is not None:
+        return r.margin_ecc
+    return r.margin_db
+
+
+def _entry(u: UnitResult, r: RequirementResult | None, ranked_by: str = BY_RELATIVE) -> WorstUnit:
     if r is None:
-        return WorstUnit(u.file, "", None, u.passed)
-    return WorstUnit(u.file, r.name, r.margin_db, u.passed, r.margin_hz, relative_margin(r))
+        return WorstUnit(u.file, "", None, u.passed, ranked_by=ranked_by)
+    return WorstUnit(u.file, r.name, r.margin_db, u.passed, r.margin_hz, relative_margin(r), ranked_by, r.margin_ecc)
 
 
 def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit, ...]:
     """The units that miss the spec by most, worst first.
 
-    Failing units: first, for each requirement that some unit fails, the unit that misses it by
-    most in that requirement's own unit (dB, or MHz for the resonance window), requirements in
-    spec order (their place in the units' requirement lists), so the worst unit of every
-    requirement is always listed (a near-open unit is never crowded out by many small misses of
-    another kind); then the remaining places go to the failing units with the smallest
-    :func:`relative_margin`. A requirement that could not be evaluated (band not covered) ranks
-    after every evaluated miss. At least ``n_worst`` entries, more when more requirements fail. A
-    lot where every unit passes lists the ``n_worst`` units closest to failing (smallest relative
-    margin). Ties go to the unit that fails more requirements, then to the file name in
-    code-point order (not the input order, so a store of shards ranks alike).
+    Failing units: first, for each requirement that some unit fails (in spec order: their place in
+    the units' requirement lists), the unit that misses it by most in that requirement's own unit
+    (dB, MHz for the resonance window, ECC), with its margin for that requirement
+    (``ranked_by`` :data:`BY_REQUIREMENT`); one unit may be listed under several requirements. So
+    the worst miss of every requirement is always shown with its own margin (a near-open unit is
+    never crowded out by many small misses of another kind). Then other failing units, ranked by
+    :func:`relative_margin` across kinds (``ranked_by`` :data:`BY_RELATIVE`, each with the
+    requirement it misses most), until ``n_worst`` different units are listed. A requirement that
+    could not be evaluated (band not covered) ranks after every evaluated miss. A lot where every
+    unit passes lists the ``n_worst`` units closest to failing (smallest relative margin). Ties go
+    to the unit that fails more requirements, then to the file name in code-point order (not the
+    input order, so a store of shards ranks alike).
     """
     ok = [u for u in results if u.error is None]
     failing = [u for u in ok if not u.passed]
@@ -460,20 +484,20 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
         for k, r in enumerate(u.requirements):
             order[r.name] = min(order.get(r.name, k), k)
     names = sorted({r.name for u in failing for r in u.requirements if not r.passed}, key=lambda n: (order[n], n))
-    chosen: list[tuple[int, RequirementResult]] = []
+    chosen: list[WorstUnit] = []
     taken: set[int] = set()
     for name in names:
         best, best_k = None, None
         for n, u in enumerate(failing):
             for r in u.requirements:
                 if r.name == name and not r.passed:
-                    m = r.margin_hz if r.key == "resonance" else r.margin_db
+                    m = own_margin(r)
                     k = (1, 0.0, u.file, n) if m is None else (0, m, u.file, n)
                     if best_k is None or k < best_k:
                         best, best_k = (n, r), k
-        if best is not None and best[0] not in taken:
+        if best is not None:
             taken.add(best[0])
-            chosen.append(best)
+            chosen.append(_entry(failing[best[0]], best[1], BY_REQUIREMENT))
     rest = []
     for n, u in enumerate(failing):
         if n not in taken:
@@ -481,9 +505,14 @@ def worst_units(results: list[UnitResult], n_worst: int = 5) -> tuple[WorstUnit,
             rest.append(((math.isnan(rel), 0.0 if math.isnan(rel) else rel, -sum(not q.passed for q in u.requirements),
                           u.file, n), n, r))
     rest.sort(key=lambda t: t[0])
-    for _, n, r in rest[:max(0, n_worst - len(chosen))]:
-        chosen.append((n, r))
-    return tuple(_entry(failing[n], r) for n, r in chosen)
+    for _, n, r in rest[:max(0, n_worst - len(taken))]:
+        chosen.append(_entry(failing[n], r))
+    return tuple(chosen)
+
+
+def worst_of_requirement(summary: LotSummary, name: str) -> WorstUnit | None:
+    """The worst unit of requirement ``name`` in a lot summary (None when no unit fails it)."""
+    return next((w for w in summary.worst if w.ranked_by == BY_REQUIREMENT and w.requirement == name), None)
 
 
 def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:

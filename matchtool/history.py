@@ -69,8 +69,10 @@ class RequirementHistory:
 
 @dataclass(frozen=True)
 class StoredWorst:
-    """A unit that misses the spec by most (see :func:`matchtool.batch.worst_units`); in a lot
-    where every unit passed, one closest to failing (``passed`` True)."""
+    """A unit that misses the spec by most, by the rule of :func:`matchtool.batch.worst_units`:
+    ``ranked_by`` "requirement" for the worst unit of ``requirement`` (margin in its own unit),
+    "relative_margin" for the other units ranked across requirements; in a lot where every unit
+    passed, one closest to failing (``passed`` True)."""
 
     file: str
     station: str
@@ -79,6 +81,7 @@ class StoredWorst:
     margin_hz: float | None
     relative_margin: float | None
     passed: bool = False
+    ranked_by: str = "relative_margin"
 
 
 @dataclass(frozen=True)
@@ -382,7 +385,8 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
     """The lot history of the stores at ``stores`` (URLs or paths; several are added together, as
     for shards written to separate stores), optionally only ``lot``, units checked at or after
     ``since`` (UTC) and spec name ``spec``. ``series`` also returns the per-unit worst values for
-    a trend plot. Raises InputError when a store cannot be opened."""
+    a trend plot. Raises InputError when a store cannot be opened, or when ``lot`` is given and no
+    store holds that lot (the message lists the lots present)."""
     from .store import Store
 
     if not stores:
@@ -398,6 +402,8 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
         for u in stores:
             opened.append(Store(u, create=False))
         try:
+            if lot is not None:
+                _require_lot(opened, lot)
             return _history(opened, lot, since_t, spec, n_worst, series)
         except SQLAlchemyError as exc:
             raise InputError(f"cannot read the results store ({_db_reason(exc)})",
@@ -405,6 +411,43 @@ def history(stores: Sequence[str], lot: str | None = None, since: str | datetime
     finally:
         for st in opened:
             st.close()
+
+
+LOTS_LISTED = 20
+"""An unknown lot's error names at most this many of the lots present."""
+
+
+def lot_names(opened) -> list[str]:
+    """Every lot in the opened stores, in natural order (``lot2`` before ``lot10``)."""
+    from sqlalchemy import select
+
+    from .batch import _natural
+
+    _, _, U, _ = _tables()
+    names: set[str] = set()
+    for st in opened:
+        with st.engine.connect() as conn:
+            names |= {r[0] for r in conn.execute(select(U.c.lot).distinct())}
+    return sorted(names, key=_natural)
+
+
+def _require_lot(opened, lot: str) -> None:
+    """Raise InputError (parameter ``lot``) when no store holds lot ``lot`` at all, naming the lots
+    present (or saying the stores are empty). A lot that exists but has no unit within the other
+    filters is not an error (the result is then empty)."""
+    from .errors import InputError
+
+    present = lot_names(opened)
+    if lot in present:
+        return
+    where = ", ".join(st.shown for st in opened)
+    if not present:
+        raise InputError(f"no such lot: {where} is empty (no lot stored yet)", parameter="lot", value=lot,
+                         expected="a store written by 'matchtool check --store ... --lot NAME'")
+    shown = ", ".join(present[:LOTS_LISTED]) + (f" and {len(present) - LOTS_LISTED} more"
+                                                if len(present) > LOTS_LISTED else "")
+    raise InputError(f"no such lot in {where}", parameter="lot", value=lot,
+                     expected=f"one of the lots present: {shown}")
 
 
 def _history(opened, lot, since_t, spec, n_worst, series) -> HistoryResult:
@@ -482,12 +525,10 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
                 k = (row[1] is None, row[1] if row[1] is not None else 0.0, info[0] if info else "")
                 if best is None or k < best[0]:
                     best = (k, row, info)
-        if best is not None and best[2] is not None:
-            ident = (best[2][0], best[2][1])
-            if ident not in taken:
-                taken.add(ident)
-                row = best[1]
-                chosen.append(StoredWorst(best[2][0], best[2][1], name, row[2], row[3], row[4]))
+        if best is not None and best[2] is not None:  # a unit may be the worst of several requirements
+            taken.add((best[2][0], best[2][1]))
+            row = best[1]
+            chosen.append(StoredWorst(best[2][0], best[2][1], name, row[2], row[3], row[4], ranked_by="requirement"))
     fill = []
     for c in cands:
         _, rows = c.get(lt, ({}, []))
@@ -497,7 +538,7 @@ def _merge_worst(lt, names, cands, n_worst) -> tuple[StoredWorst, ...]:
             fill.append(((rel is None, rel if rel is not None else 0.0, negcount, info[0]), det, info))
     fill.sort(key=lambda t: t[0])
     for _, det, info in fill:
-        if len(chosen) >= n_worst:
+        if len(taken) >= n_worst:
             break
         if (info[0], info[1]) in taken:
             continue

@@ -200,3 +200,22 @@ def test_dask_cluster_gives_the_local_results(tmp_path, spec):
         remote = batch.check_lot(inputs, spec, scheduler=cl.scheduler_address, hashes=True, batch_size=5)
     assert remote.results == local.results and remote.summary == local.summary
     assert [c.sha256 for c in remote.units] == [c.sha256 for c in local.units]
+
+
+def test_a_unit_is_listed_under_every_requirement_it_misses_most():
+    # "big" misses both requirements by most (ism 6 dB against 10: margin -4 dB, derived; best
+    # match 947.75 MHz, 22.75 MHz above the 905-925 MHz window, derived); "mid" misses the window
+    # by 7.75 MHz and ism by 1.27 dB. Listing each unit once used to hide big's resonance miss.
+    lot = [_unit("big.s1p", _rl("ism", 6.0, 10.0), _res(947.75e6)),
+           _unit("mid.s1p", _rl("ism", 8.73, 10.0), _res(897.25e6)),
+           _unit("ok.s1p", _rl("ism", 15.0, 10.0), _res(915e6))]
+    w = batch.worst_units(lot, 5)
+    per = [(x.requirement, x.file) for x in w if x.ranked_by == batch.BY_REQUIREMENT]
+    assert per == [("ism", "big.s1p"), ("resonance", "big.s1p")]
+    assert w[0].margin_db == pytest.approx(-4.0) and w[1].margin_hz == pytest.approx(-22.75e6)
+    rest = [x for x in w if x.ranked_by == batch.BY_RELATIVE]
+    assert [x.file for x in rest] == ["mid.s1p"] and rest[0].requirement == "resonance"  # -7.75/10 < -1.27/10
+    s = batch.summarize_lot(lot)
+    assert batch.worst_of_requirement(s, "resonance").file == "big.s1p"
+    assert batch.worst_of_requirement(s, "resonance").margin_hz == pytest.approx(-22.75e6)
+    assert batch.worst_of_requirement(s, "nothing") is None

@@ -282,7 +282,8 @@ def test_limit_has_its_unit_and_the_footer_names_every_margin_unit(cli, tmp_path
     r = cli("check", good, "--spec", spec)
     assert r.code == 0, r.err
     assert ">= 10.00 dB" in r.out  # the limit with its direction and unit, not a bare 10.00
-    assert "<= 0.50 dB" in r.out and "<= 3.000 VSWR" in r.out
+    # VSWR in "ratio", the unit every other view and the JSON give it
+    assert "<= 0.50 dB" in r.out and "<= 3.000 ratio" in r.out and "VSWR " not in r.out.split("Margins")[0]
     footer = " ".join(r.out[r.out.index("Margins are"):r.out.index("Verdict")].split())
     assert "dB of return loss" in footer and "(a VSWR limit converted to it)" in footer
     assert "dB of mismatch loss" in footer and "resonance margin in MHz" in footer
@@ -295,15 +296,130 @@ def test_worst_units_lists_only_failing_units(cli, lot):
     r = cli("check", good, bad, other, "--spec", spec)
     assert r.code == 1
     lines = r.out.splitlines()
-    k = next(i for i, x in enumerate(lines) if x.startswith("Worst failing units"))
+    k = next(i for i, x in enumerate(lines) if x.startswith("Worst unit of each failing requirement"))
     listed = [x.strip() for x in lines[k + 1:] if x.startswith("  ")]
-    assert listed and all(x.startswith("detuned.s1p:") for x in listed)
+    assert listed and all("detuned.s1p" in x for x in listed)
     r = cli("check", good, other, "--spec", spec)
     assert r.code == 0
-    assert "Worst failing units" not in r.out and "Worst units" not in r.out
+    assert "Worst unit" not in r.out and "failing units" not in r.out
     lines = r.out.splitlines()
     k = next(i for i, x in enumerate(lines) if x.startswith("Closest to failing"))
-    assert lines[k + 1].strip().startswith("good")
+    assert "relative to the limit" in lines[k]
+    assert next(x for x in lines[k + 1:] if x.startswith("  ")).strip().startswith("good")
+
+
+SPEC_RES = SPEC + '[resonance]\nf_low = "905 MHz"\nf_high = "925 MHz"\n'
+
+
+@pytest.fixture
+def spread_lot(tmp_path):
+    """u7 misses every requirement by most (far above the window), u4 and u8 miss the window by
+    less and the dB limits a little: the reviewer's generated lot in miniature."""
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC_RES)
+    d = tmp_path / "lot"
+    d.mkdir()
+    write_rlc(d / "u1.s1p", r_ohm=50.0, f0_hz=915e6, l_h=150e-9, n=921)
+    write_rlc(d / "u4.s1p", r_ohm=50.0, f0_hz=897.25e6, l_h=150e-9, n=921)
+    write_rlc(d / "u7.s1p", r_ohm=50.0, f0_hz=947.75e6, l_h=150e-9, n=921)
+    write_rlc(d / "u8.s1p", r_ohm=50.0, f0_hz=932.25e6, l_h=150e-9, n=921)
+    return tmp_path, spec, d
+
+
+def _own_worst(doc):
+    """Per requirement, (most negative margin in its own unit, file), computed from the per-unit
+    JSON rows (independent of the summary)."""
+    worst = {}
+    for f in doc["files"]:
+        for q in f["requirements"]:
+            if not q["pass"]:
+                m = q["margin_hz"] if q["key"] == "resonance" else q["margin_db"]
+                worst[q["name"]] = min(worst.get(q["name"], (m, f["file"])), (m, f["file"]))
+    return worst
+
+
+def test_each_failing_requirement_shows_its_own_worst_unit_and_margin(cli, spread_lot):
+    tmp, spec, d = spread_lot
+    doc = cli("check", d, "--spec", spec, "--json").json()
+    own = _own_worst(doc)
+    assert set(own) == {"ism", "ism mismatch loss", "guard", "resonance"}
+    assert own["resonance"][1].endswith("u7.s1p") and own["resonance"][0] == pytest.approx(-22.75e6)  # 947.75 - 925
+    # JSON: one "requirement" entry per failing requirement, with that requirement's own margin
+    per = {w["requirement"]: w for w in doc["summary"]["worst_units"] if w["ranked_by"] == "requirement"}
+    assert set(per) == set(own)
+    for name, (m, f) in own.items():
+        got = per[name]["margin_hz"] if name == "resonance" else per[name]["margin_db"]
+        assert per[name]["file"] == f and got == pytest.approx(m)
+    rest = [w for w in doc["summary"]["worst_units"] if w["ranked_by"] == "relative_margin"]
+    assert {w["file"] for w in rest} == {str(d / "u4.s1p"), str(d / "u8.s1p")}
+    # text: the resonance line names u7 with its MHz margin, not u4's 7.75 MHz
+    r = cli("check", d, "--spec", spec)
+    text = " ".join(r.out.split())
+    assert "resonance: u7.s1p, margin -22.750 MHz from the window" in text
+    assert f"ism: u7.s1p, margin {own['ism'][0]:.2f} dB" in text
+    assert "ranked by" in text or "worst first by margin relative to the limit" in text
+    # JUnit per lot: each case quotes its own worst unit and its own margin, in its own unit
+    junit = tmp / "l.xml"
+    cli("check", d, "--spec", spec, "--junit-level", "lot", "--junit", junit)
+    for case in ET.parse(junit).getroot().iter("testcase"):
+        fail = case.find("failure")
+        m, f = own[case.get("name")]
+        want = f"{m / 1e6:.3f} MHz" if case.get("name") == "resonance" else f"{m:.2f} dB"
+        assert f"worst unit {f} (margin {want}" in fail.get("message"), fail.get("message")
+
+
+def test_resonance_window_and_tiny_margins_keep_their_digits(cli, tmp_path):
+    # grid of 0.25 MHz steps (800 to 1030 MHz, 921 points): the best match lies exactly at 914.75 MHz
+    unit = write_rlc(tmp_path / "u.s1p", r_ohm=50.0, f0_hz=914.75e6, n=921)
+    spec = tmp_path / "tight.toml"
+    spec.write_text('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 10\n'
+                    '[resonance]\nf_low = "914.75 MHz"\nf_high = "925 MHz"\n')
+    doc = cli("check", unit, "--spec", spec, "--json").json()
+    res = doc["files"][0]["requirements"][1]
+    assert res["worst"] == 914.75e6 and res["margin_hz"] == 0.0  # precondition: on the edge exactly
+    r = cli("check", unit, "--spec", spec)
+    row = " ".join(next(ln for ln in r.out.splitlines() if ln.strip().startswith("resonance")).split())
+    assert "914.75 to 925 MHz" in row and "914.8" not in row and "+0.000 MHz" in row  # exactly zero
+    worst = doc["files"][0]["requirements"][0]["worst"]
+    # a limit 1e-10 dB above the worst (10 decimals): worst and limit never print the same
+    spec.write_text(f'[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\n'
+                    f'min_return_loss_db = {worst + 1e-10:.10f}\n')
+    r = cli("check", unit, "--spec", spec)
+    cells = next(ln for ln in r.out.splitlines() if ln.strip().startswith("ism")).split()
+    assert r.code == 1 and cells[2] != cells[6].lstrip(">= "), cells
+    assert "0.000 dB" not in " ".join(cells) and "e-" not in " ".join(cells)
+    junit = tmp_path / "j.xml"
+    cli("check", unit, "--spec", spec, "--junit", junit)
+    msg = ET.parse(junit).getroot().find(".//failure").get("message")
+    w = msg.split("worst ")[1].split(" ")[0]
+    lim = msg.split("limit ")[1].split(" ")[0]
+    assert w != lim and float(w) < float(lim), msg
+    # a passing margin of 1e-7 dB does not read "+0.00": only an exact zero does
+    spec.write_text(f'[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\n'
+                    f'min_return_loss_db = {worst - 1e-7!r}\n')
+    r = cli("check", unit, "--spec", spec)
+    row = next(ln for ln in r.out.splitlines() if ln.strip().startswith("ism"))
+    assert r.code == 0 and "+0.00" not in row and "above" in row, row
+
+
+def test_check_and_compare_print_a_tiny_margin_alike(cli, tmp_path):
+    unit = write_rlc(tmp_path / "u.s1p", r_ohm=50.0)
+    spec = tmp_path / "s.toml"
+    spec.write_text('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 10\n')
+    worst = cli("check", unit, "--spec", spec, "--json").json()["files"][0]["requirements"][0]["worst"]
+    spec.write_text(f'[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\n'
+                    f'min_return_loss_db = {worst + 4.8e-5!r}\n')
+    check = cli("check", unit, "--spec", spec).out
+    compare = cli("compare", unit, unit, "--spec", spec).out
+    assert "-0.00005 dB" in check and "-0.00005 dB" in compare and "e-05" not in check
+
+
+def test_a_limit_keeps_its_unit_on_its_line_at_80_columns(cli, lot, monkeypatch):
+    d, spec, good, bad, broken = lot
+    monkeypatch.setenv("COLUMNS", "80")
+    r = cli("check", bad, "--spec", spec)
+    row = next(ln for ln in r.out.splitlines() if ln.strip().startswith("guard"))
+    assert "<= 3.000 ratio" in row, r.out
 
 
 # ----------------------------------------------------------------- layout, margins, errors, JUnit
@@ -332,7 +448,7 @@ def test_tables_fit_and_no_word_is_broken(cli, lot, monkeypatch, width):
             for cell in (q["name"], *requirement_cells(rr)):
                 for word in cell.split():
                     assert word in words, (width, word)  # every word of every cell shown whole
-    for word in ("requirement", "verdict", "margin", "905.0", "925.0"):
+    for word in ("requirement", "verdict", "margin", "905", "925"):
         assert word in words
 
 
@@ -361,8 +477,11 @@ def test_margins_carry_their_sign():
 
     assert signed(1.234) == "+1.23" and signed(-1.234) == "-1.23" and signed(0.0) == "+0.00"
     assert signed(-0.004) == "-0.004" and signed(-0.0004) == "-0.0004"
-    assert signed(-0.00004) == "-4.0e-05" and signed(-4e-9) == "-4.0e-09"
+    # the rule of render/words.margin (compare, report): digits, never scientific notation
+    assert signed(-0.000048, 2, "dB") == "-0.00005 dB" and signed(-4e-9) == "< 0.000001 below"
     assert signed(-0.0) == "+0.00"  # a zero margin passes (margin >= 0)
+    # a tiny positive margin is never "+0.00": only an exact zero reads so
+    assert signed(0.0004) == "+0.0004" and signed(4e-9, 3, "MHz") == "< 0.0000001 MHz above"
 
 
 def test_a_missing_file_is_an_error_not_a_fail(cli, lot):

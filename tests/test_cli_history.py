@@ -173,7 +173,7 @@ def test_history_views_and_errors(cli, lot):
     assert [x["lot"] for x in only["lots"]] == ["lot12"]
     for out in ("trend.png", "trend.svg"):
         r = cli("history", "--store", db, "--out", d / out)
-        assert r.code == 0
+        assert r.code == 0 and f"wrote {d / out}" in r.out.splitlines()  # as plot says it
         head = (d / out).read_bytes()[:200]
         assert head.startswith(b"\x89PNG") if out.endswith("png") else b"<svg" in (d / out).read_bytes()[:2000]
     r = cli("history", "--store", db, "--out", d / "trend.png")
@@ -187,6 +187,59 @@ def test_history_views_and_errors(cli, lot):
     r = cli("history", "--store", db)
     assert r.code == 2 and len(r.err_lines) == 1 and "newer than this matchtool" in r.err
     json.loads(cli("history", "--store", d / "r.db", "--json").out or "{}")  # nothing half-printed on stdout
+
+
+def test_an_unknown_lot_is_exit_2_naming_the_lots_present(cli, lot):
+    d, spec, folder = lot
+    db = d / "r.db"
+    empty = d / "empty.db"
+    from matchtool import store
+
+    store.Store(str(empty)).close()  # a store with the tables and no unit
+    r = cli("history", "--store", empty, "--lot", "nope")
+    assert r.code == 2 and len(r.err_lines) == 1 and "nope" in r.err and "empty" in r.err, r.err
+    cli("check", *sorted(folder.glob("u1*.s1p")), "--spec", spec, "--store", db, "--lot", "lot2")
+    cli("check", *sorted(folder.glob("u2*.s1p")), "--spec", spec, "--store", db, "--lot", "lot10")
+    r = cli("history", "--store", db, "--lot", "nope")
+    assert r.code == 2 and len(r.err_lines) == 1 and r.out == ""
+    assert "--lot nope" in r.err and "lot2, lot10" in r.err, r.err
+    # a lot that exists but has no unit in the other filters is not an error
+    r = cli("history", "--store", db, "--lot", "lot2", "--since", "2999-01-01")
+    assert r.code == 0 and "No units" in r.out
+
+
+def test_trend_figure_style(cli, lot):
+    from matplotlib.colors import to_hex
+
+    from matchtool.history import history
+    from matchtool.render import plots
+    from matchtool.render.plot_history import trend_figure
+
+    d, spec, folder = lot
+    db = d / "r.db"
+    cli("check", *sorted(folder.glob("u1*.s1p")), "--spec", spec, "--store", db, "--lot", "a")
+    cli("check", *sorted(folder.glob("u2*.s1p")), "--spec", spec, "--store", db, "--lot", "b")
+    fig = trend_figure(history([str(db)], series=True))
+    fig.canvas.draw()
+    palette = {c for _, c in plots.PALETTE}
+    trends = [ln for ax in fig.axes for ln in ax.get_lines() if (ln.get_gid() or "").startswith("trend:")
+              and ":lot:" in ln.get_gid()]
+    assert trends
+    for ln in trends:
+        assert to_hex(ln.get_markeredgecolor()) in palette and to_hex(ln.get_markerfacecolor()) == "#ffffff"
+        assert ln.get_marker() in plots.MARKERS and ln.get_marker() != "v" and ln.get_markersize() >= 5
+    assert len({ln.get_marker() for ln in trends if ln.get_gid().startswith("trend:ism:")}) == 2  # one per lot
+    hists = [ax for ax in fig.axes if ax.get_xlabel() == "number of units"]
+    assert len(hists) == 3  # one per requirement of the spec
+    for ax in fig.axes:
+        for t in ax.get_xticks():
+            lo, hi = ax.get_xlim()
+            if lo <= t <= hi:
+                assert float(t).is_integer(), (ax.get_xlabel(), t)  # unit counts and numbers are whole
+        for p in ax.patches:
+            assert not p.get_hatch()
+            if hasattr(p, "get_edgecolor") and p.get_gid():
+                assert to_hex(p.get_edgecolor()) in palette
 
 
 def test_report_section_and_trend_of_the_store(cli, lot):
@@ -209,7 +262,7 @@ def test_history_text_fits_the_width(cli, lot, monkeypatch, width):
     monkeypatch.setenv("COLUMNS", str(width))
     r = cli("history", "--store", db)
     assert r.code == 0
-    assert all(len(ln) <= width for ln in r.out.splitlines()), width
+    assert all(len(ln) <= width for ln in r.out.splitlines()), [ln for ln in r.out.splitlines() if len(ln) > width]
     words = set(r.out.split())
     doc = cli("history", "--store", db, "--json").json()["lots"][0]
     for q in doc["requirements"]:
@@ -229,3 +282,14 @@ def test_station_defaults_to_the_host_name_and_url_forms(cli, lot):
     assert h["lots"][0]["stations"] == [socket.gethostname()] and h["lots"][0]["units"] == 2
     r = cli("check", folder / "u1.s1p", "--spec", spec, "--store", "mysql://u@h/db", "--lot", "L")
     assert r.code == 2 and "--store" in r.err and "unknown kind of store" in r.err
+
+
+def test_history_limits_keep_the_digits_the_spec_gave(cli, lot):
+    d, spec, folder = lot
+    tight = d / "tight.toml"
+    tight.write_text('[[band]]\nname = "ism"\nf_low = "902 MHz"\nf_high = "928 MHz"\nmin_return_loss_db = 15.7531\n'
+                     '[resonance]\nf_low = "914.75 MHz"\nf_high = "925 MHz"\n')
+    db = d / "r.db"
+    cli("check", *sorted(folder.glob("u1*.s1p")), "--spec", tight, "--store", db, "--lot", "t")
+    text = " ".join(cli("history", "--store", db).out.split())
+    assert ">= 15.7531 dB" in text and "914.75 to 925 MHz" in text and "914.8" not in text

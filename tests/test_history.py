@@ -154,6 +154,21 @@ def test_worst_units_equal_the_check_summary(tmp_path, spec):
     assert lt.worst[0].file == "open.s1p"
 
 
+def test_a_unit_worst_at_two_requirements_is_listed_under_both(tmp_path, spec):
+    # "big": ism 6 dB against 10 (margin -4 dB, derived) and best match 947.75 MHz, 22.75 MHz above
+    # the 905-925 MHz window (derived); "mid" misses the window by 7.75 MHz and ism by 1.27 dB
+    units = [unit("big.s1p", rl_req(6.0), res_req(947.75e6)), unit("mid.s1p", rl_req(8.73), res_req(897.25e6)),
+             unit("ok.s1p", rl_req(15.0), res_req(915e6))]
+    put(tmp_path / "r.db", units, spec)
+    (lt,) = history.history([str(tmp_path / "r.db")]).lots
+    per = [(w.requirement, w.file, w.margin_db, w.margin_hz) for w in lt.worst if w.ranked_by == "requirement"]
+    assert per == [("ism", "big.s1p", pytest.approx(-4.0), None), ("resonance", "big.s1p", None, pytest.approx(-22.75e6))]
+    assert [(w.file, w.ranked_by) for w in lt.worst[2:]] == [("mid.s1p", "relative_margin")]
+    expect = batch.worst_units([u.result for u in units])
+    assert [(w.file, w.requirement, w.ranked_by) for w in lt.worst] == [(w.file, w.requirement, w.ranked_by)
+                                                                        for w in expect]
+
+
 def test_unreadable_units_count_as_in_check(tmp_path, spec):
     units = [unit("a.s1p", rl_req(12)), unit("b.s1p", rl_req(8)), unit("gone.s1p", error="gone.s1p: no such file")]
     put(tmp_path / "r.db", units, spec)

@@ -74,5 +74,7 @@ def register(app: typer.Typer) -> None:
             from ..render.text.history import render
 
             render(result)
+            if out:
+                print(f"wrote {out}")
             warn(result.warnings)
         return 0

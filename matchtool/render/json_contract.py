@@ -123,8 +123,14 @@ def unit_doc(u, sha256: str | None = None, time_s: float | None = None) -> dict[
 
 
 def worst_doc(w) -> dict[str, Any]:
-    return {"file": w.file, "requirement": w.requirement, "margin_db": w.margin_db, "margin_hz": w.margin_hz,
-            "relative_margin": w.relative_margin, "pass": w.passed}
+    """One ``worst_units`` entry (a ``batch.WorstUnit`` or ``history.StoredWorst``): ``ranked_by``
+    is ``"requirement"`` for the worst unit of that requirement (margin in its own unit) and
+    ``"relative_margin"`` for the other units, ranked across requirements by ``relative_margin``."""
+    doc = {"file": w.file, "requirement": w.requirement, "margin_db": w.margin_db, "margin_hz": w.margin_hz,
+           "relative_margin": w.relative_margin, "pass": w.passed, "ranked_by": w.ranked_by}
+    if getattr(w, "margin_ecc", None) is not None:
+        doc["margin_ecc"] = w.margin_ecc
+    return doc
 
 
 def summary_doc(s) -> dict[str, Any]:
@@ -178,9 +184,7 @@ def history_doc(h) -> dict[str, Any]:
                               "cpk_reason": r.cpk_reason or None} for r in lt.requirements],
             "resonance_f_hz": {"n": lt.resonance_n, "mean": lt.resonance_mean_hz, "std": lt.resonance_std_hz,
                                "min": lt.resonance_min_hz, "max": lt.resonance_max_hz},
-            "worst_units": [{"file": w.file, "station": w.station, "requirement": w.requirement,
-                             "margin_db": w.margin_db, "margin_hz": w.margin_hz, "relative_margin": w.relative_margin,
-                             "pass": w.passed} for w in lt.worst],
+            "worst_units": [{"file": w.file, "station": w.station, **worst_doc(w)} for w in lt.worst],
         })
     return {"stores": list(h.stores), "filters": {"lot": h.lot, "since": _time(h.since), "spec": h.spec},
             "lots": lots, "warnings": list(h.warnings)}

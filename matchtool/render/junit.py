@@ -43,26 +43,25 @@ def _secs(t: float) -> str:
 
 
 def requirement_message(r: RequirementResult) -> str:
-    """One line describing a requirement's verdict: worst value, frequency, limit, margin."""
-    from .text.check import signed
+    """One line describing a requirement's verdict: worst value, frequency, limit, margin (the
+    digits by the rules of the terminal view: a worst value never reads as its limit, a margin
+    never as zero unless it is)."""
+    from .text.check import GLUE, distinct, signed, window_text
 
     if r.worst is None:
         return f"{r.name}: not evaluated: {r.reason}"
     if r.key == "resonance":
-        return (f"{r.name}: best match at {r.worst / 1e6:.4f} MHz, window {r.f_low_hz / 1e6:.4f} to "
-                f"{r.f_high_hz / 1e6:.4f} MHz, margin {signed(r.margin_hz / 1e6, 4)} MHz")
+        worst, window = window_text(r.f_low_hz, r.f_high_hz, r.worst)
+        return (f"{r.name}: best match at {worst}, window {window}, margin "
+                f"{signed(r.margin_hz / 1e6, 4, 'MHz', r.passed)}").replace(GLUE, " ")
     info = r.info
-    digits = info.digits
-    w, lim = f"{r.worst:.{digits}f}", f"{r.limit:.{digits}f}"
-    while w == lim and r.worst != r.limit and digits < 8:  # a worst value never reads as its limit
-        digits += 1
-        w, lim = f"{r.worst:.{digits}f}", f"{r.limit:.{digits}f}"
+    w, lim = distinct(r.worst, r.limit, info.digits)
     where = f" (port {r.port})" if r.port is not None and r.ports is None else ""
     where = f" (ports {r.ports[0]},{r.ports[1]})" if r.ports is not None else where
     if r.margin_ecc is not None:
-        margin = f"margin {signed(r.margin_ecc, 3)}"
+        margin = f"margin {signed(r.margin_ecc, 3, '', r.passed)}"
     elif r.margin_db is not None:
-        margin = f"margin {signed(r.margin_db, 2)} {info.margin_unit}"
+        margin = f"margin {signed(r.margin_db, 2, info.margin_unit, r.passed)}"
     else:
         margin = "margin n/a"
     return (f"{r.name}{where}: worst {w} {r.unit} at {r.worst_f_hz / 1e6:.4f} MHz, limit "
@@ -133,24 +132,19 @@ def junit_xml(lot, suite_name: str = "matchtool check", level: str = "unit", tim
 
 
 def _lot_suite(results, times, suite_name, lot_name, stamp):
-    from ..batch import summarize_lot, worst_units
+    from ..batch import summarize_lot, worst_of_requirement
+    from .text.check import worst_margin
 
     s = summarize_lot(results)
     cls = _text(lot_name or suite_name)
     total = sum(times)
-    ok = [u for u in results if u.error is None]
     per_case = total / max(1, len(s.yields) + (s.errors > 0))
     cases, fails, errs = [], 0, 0
     for y in s.yields:
         tc = ET.Element("testcase", classname=cls, name=_text(y.name), time=_secs(per_case))
         if y.passed < y.evaluated:
-            failing = [u for u in ok if any(r.name == y.name and not r.passed for r in u.requirements)]
-            w = worst_units(failing, 1)
-            worst = ""
-            if w:
-                from .text.check import worst_margin
-
-                worst = f"; worst unit {w[0].file} ({w[0].requirement}, margin {worst_margin(w[0])})"
+            w = worst_of_requirement(s, y.name)  # this requirement's own worst unit and margin
+            worst = f"; worst unit {w.file} (margin {worst_margin(w)})" if w is not None else ""
             msg = _text(f"{y.name}: yield {100 * y.yield_fraction:.2f} % ({y.passed} of {y.evaluated} units passed, "
                         f"{y.evaluated - y.passed} failed){worst}")
             ET.SubElement(tc, "failure", message=msg, type="RequirementFailed").text = msg

@@ -25,62 +25,116 @@ GAP = "  "
 
 # ------------------------------------------------------------------------------------------ numbers
 
-def signed(x: float | None, digits: int = 2, unit: str = "") -> str:
-    """A margin with its sign always shown; a negative (failing) margin never reads as 0.00 or
-    -0.00: more digits are shown until it does not, then scientific notation."""
+GLUE = "\u00a0"
+"""Joins a number to its unit inside a table cell, so a cell never wraps between them (printed as a
+plain space)."""
+MAX_DIGITS = 17
+"""Significant digits at which two different doubles always print differently."""
+
+
+def signed(x: float | None, digits: int = 2, unit: str = "", passed: bool | None = None) -> str:
+    """A margin with its sign always shown, by the one rule of :func:`matchtool.render.words.margin`
+    (which compare and the report use): a failing margin never reads as 0.00 or -0.00 (digits are
+    added until it reads negative, ``-0.00005 dB``; beyond that ``< 0.000001 dB below``). A positive
+    margin too small for ``digits`` gets digits the same way (``+0.0004``, else ``< 0.000001 above``),
+    so ``+0.000`` means exactly zero."""
+    from ..words import MAX_EXTRA_DIGITS, margin
+
     if x is None or (isinstance(x, float) and math.isnan(x)):
         return "n/a"
-    if math.isinf(x):
-        return ("+inf" if x > 0 else "-inf") + (f" {unit}" if unit else "")
-    x = x + 0.0
-    text = f"{x:+.{digits}f}"
-    if x < 0:
-        for d in range(digits, digits + 3):
-            text = f"{x:+.{d}f}"
-            if float(text) != 0:
-                break
-        else:
-            text = f"{x:+.1e}"
-    return text + (f" {unit}" if unit else "")
+    if x > 0 and math.isfinite(x) and passed is not False and round(x, digits) == 0:
+        for d in range(digits + 1, digits + MAX_EXTRA_DIGITS + 1):
+            if round(x, d) > 0:
+                return margin(x, d, unit, passed)
+        d = digits + MAX_EXTRA_DIGITS
+        return f"< {10 ** -d:.{d}f}" + (f" {unit}" if unit else "") + " above"
+    return margin(x, digits, unit, passed)
 
 
-def _pair(worst: float, limit: float, digits: int) -> tuple[str, str]:
-    """Worst value and limit with enough digits that two different numbers never look the same."""
+def distinct(worst: float, limit: float | None, digits: int) -> tuple[str, str]:
+    """Worst value and limit with enough digits that two different numbers never print the same
+    (:func:`matchtool.render.words.distinct`, and beyond its cap as many digits as it takes)."""
+    from ..words import distinct as words_distinct
+    from ..words import fixed
+
+    if limit is None:
+        return fixed(worst, digits), "n/a"
+    w, lim = words_distinct(worst, limit, digits)
     d = digits
-    while d < digits + 4 and worst != limit and f"{worst:.{d}f}" == f"{limit:.{d}f}":
+    while w == lim and worst != limit and math.isfinite(worst) and math.isfinite(limit) and d < MAX_DIGITS:
         d += 1
-    return f"{worst:.{d}f}", f"{limit:.{d}f}"
+        w, lim = fixed(worst, d), fixed(limit, d)
+    if w == lim and worst != limit:  # not reached for finite doubles; say which side it lies
+        w = ("< " if worst < limit else "> ") + lim
+    return w, lim
+
+
+def frequency_pair(a_hz: float, b_hz: float, digits: int = 3) -> tuple[str, str, int]:
+    """Two frequencies (:func:`matchtool.units.format_frequency`, at least ``digits`` decimals)
+    with more digits when two different values would otherwise read the same; and the decimals
+    that took."""
+    d = digits
+    while True:
+        a, b = ff(a_hz, d), ff(b_hz, d)
+        if a != b or a_hz == b_hz or d >= 12:
+            return a, b, d
+        d += 1
+
+
+def window_text(f_low_hz: float, f_high_hz: float, worst_hz: float | None = None) -> tuple[str, str]:
+    """(worst, window) of a resonance requirement: the window edges with the digits the spec gave
+    them (``914.75 to 925 MHz``), the worst (three decimals or more) with enough digits to tell it
+    from the nearer edge; then that edge is shown with as many."""
+    lo, hi = ff(f_low_hz, 0, 9), ff(f_high_hz, 0, 9)
+    worst = ""
+    if worst_hz is not None:
+        edge = f_low_hz if abs(worst_hz - f_low_hz) <= abs(worst_hz - f_high_hz) else f_high_hz
+        worst, e, d = frequency_pair(worst_hz, edge)
+        if d > 3:
+            lo, hi = (e, hi) if edge == f_low_hz else (lo, e)
+    (nl, ul), (nh, uh) = lo.split(" "), hi.split(" ")
+    window = f"{nl} to {nh}{GLUE}{uh}" if ul == uh else f"{nl}{GLUE}{ul} to {nh}{GLUE}{uh}"
+    return worst.replace(" ", GLUE), window
 
 
 _LIMIT_WORD = {"min_return_loss_db": ">=", "max_vswr": "<=", "max_s11_db": "<=", "max_mismatch_loss_db": "<=",
                "max_deviation_db": "<=", "min_isolation_db": ">=", "max_ecc": "<="}
-_SHORT_UNIT = {"min_return_loss_db": "dB", "max_vswr": "VSWR", "max_s11_db": "dB S11", "max_mismatch_loss_db": "dB",
+_SHORT_UNIT = {"min_return_loss_db": "dB", "max_s11_db": "dB S11", "max_mismatch_loss_db": "dB",
                "max_deviation_db": "dB", "min_isolation_db": "dB", "max_ecc": ""}
+"""Units in the table (the footer says what each dB is of); the others use the requirement's unit
+(``ratio`` for VSWR, as every other view and the JSON name it)."""
+
+
+def margin_text(r) -> str:
+    """A requirement's signed margin in its own unit: dB, MHz for the resonance window, ECC."""
+    if r.key == "resonance":
+        return signed(r.margin_hz / 1e6, 3, "MHz", r.passed) if r.margin_hz is not None else "n/a"
+    if r.margin_ecc is not None:
+        return signed(r.margin_ecc, 3, "", r.passed)
+    return signed(r.margin_db, 2, "dB", r.passed)
 
 
 def requirement_cells(r) -> tuple[str, str, str, str]:
-    """(worst, at, limit, margin) of one requirement as text."""
+    """(worst, at, limit, margin) of one requirement as text (a number and its unit joined by
+    :data:`GLUE`, so they stay on one line)."""
     if r.worst is None:
         return "", "", "", "n/a"
+    margin = margin_text(r).replace(" ", GLUE)
     if r.key == "resonance":
-        return (ff(r.worst), "", f"{r.f_low_hz / 1e6:.1f} to {r.f_high_hz / 1e6:.1f} MHz",
-                signed(r.margin_hz / 1e6, 3, "MHz") if r.margin_hz is not None else "n/a")
+        worst, window = window_text(r.f_low_hz, r.f_high_hz, r.worst)
+        return worst, "", window, margin
     d = r.info.digits
     unit = _SHORT_UNIT.get(r.key, r.unit)
-    if r.limit is not None:
-        w, lim = _pair(r.worst, r.limit, d)
-    else:
-        w, lim = f"{r.worst:.{d}f}", "n/a"
-    u = f" {unit}" if unit else ""
-    margin = signed(r.margin_ecc, 3) if r.margin_ecc is not None else signed(r.margin_db, 2, "dB")
-    return f"{w}{u}", ff(r.worst_f_hz) if r.worst_f_hz is not None else "", f"{_LIMIT_WORD.get(r.key, '')} {lim}{u}".strip(), \
-        margin
+    w, lim = distinct(r.worst, r.limit, d)
+    u = f"{GLUE}{unit}".replace(" ", GLUE) if unit else ""
+    at = ff(r.worst_f_hz).replace(" ", GLUE) if r.worst_f_hz is not None else ""
+    return f"{w}{u}", at, f"{_LIMIT_WORD.get(r.key, '')} {lim}{u}".strip(), margin
 
 
 # -------------------------------------------------------------------------------------------- grids
 
 def _words(s: str) -> int:
-    return max((len(w) for w in s.split()), default=0)
+    return max((len(w) for w in s.split(" ")), default=0)
 
 
 def grid(headers: Sequence[str], rows: Sequence[Sequence[str]], width: int, right: Sequence[bool] = (),
@@ -110,7 +164,7 @@ def grid(headers: Sequence[str], rows: Sequence[Sequence[str]], width: int, righ
             for i in range(n):
                 t = wrapped[i][k] if k < len(wrapped[i]) else ""
                 parts.append(t.rjust(w[i]) if right[i] else t.ljust(w[i]))
-            out.append((indent + GAP.join(parts)).rstrip())
+            out.append((indent + GAP.join(parts)).rstrip().replace(GLUE, " "))
 
     emit(headers)
     for r in rows:
@@ -130,10 +184,13 @@ def stacked(headers: Sequence[str], rows: Sequence[Sequence[str]], width: int) -
             continue
         out += textwrap.wrap(f"{r[0]}: {r[1]}", width, initial_indent="  ", subsequent_indent="    ",
                              break_long_words=False, break_on_hyphens=False)
-        rest = ", ".join(f"{h} {c}" for h, c in zip(headers[2:], r[2:], strict=True) if c)
+        # each "header value" pair kept on one line where it fits
+        rest = ", ".join(f"{h} {c}" if len(h) + len(c) + 6 > width else f"{h} {c}".replace(" ", GLUE)
+                         for h, c in zip(headers[2:], r[2:], strict=True) if c)
         if rest:
-            out += textwrap.wrap(rest, width, initial_indent="    ", subsequent_indent="    ",
-                                 break_long_words=False, break_on_hyphens=False)
+            out += [ln.replace(GLUE, " ") for ln in textwrap.wrap(rest, width, initial_indent="    ",
+                                                                  subsequent_indent="    ", break_long_words=False,
+                                                                  break_on_hyphens=False)]
     return out
 
 
@@ -202,11 +259,52 @@ def _short(file: str, folder: str) -> str:
 
 
 def worst_margin(w) -> str:
+    """The margin of a worst-unit entry (``batch.WorstUnit`` or ``history.StoredWorst``) in its
+    requirement's own unit, by the rule of :func:`signed`."""
     if w.margin_db is not None:
-        return signed(w.margin_db, 2, "dB")
+        return signed(w.margin_db, 2, "dB", w.passed)
+    if getattr(w, "margin_ecc", None) is not None:
+        return signed(w.margin_ecc, 3, "ECC", w.passed)
     if w.margin_hz is not None:
-        return signed(w.margin_hz / 1e6, 3, "MHz") + " from the window"
+        return signed(w.margin_hz / 1e6, 3, "MHz", w.passed) + " from the window"
     return "not evaluated"
+
+
+def _relative(w) -> str:
+    if w.relative_margin is None or not math.isfinite(w.relative_margin):
+        return ""
+    return f" ({signed(100 * w.relative_margin, 0, '%')} of the limit)"
+
+
+RELATIVE_WORDS = ("margin relative to the limit: the margin over the limit in dB of return loss, mismatch loss "
+                  "or deviation, or over half the resonance window's width")
+
+
+def worst_lines(worst, short=lambda f: f, station: bool = False) -> list[str]:
+    """The worst-units section as (unwrapped) lines: per failing requirement its worst unit with
+    that unit's margin for it, then the other failing units ranked across requirements by relative
+    margin (saying so); in a lot where every unit passed, the units closest to failing."""
+    from ...batch import BY_REQUIREMENT
+
+    def who(w) -> str:
+        return short(w.file) + (f" ({w.station})" if station else "")
+
+    failing = [w for w in worst if not w.passed]
+    if not worst:
+        return []
+    if not failing:
+        out = [f"Closest to failing (ranked by {RELATIVE_WORDS}):"]
+        return out + [f"  {who(w)}: {w.requirement}, margin {worst_margin(w)}{_relative(w)}" for w in worst]
+    per = [w for w in failing if getattr(w, "ranked_by", "") == BY_REQUIREMENT]
+    rest = [w for w in failing if getattr(w, "ranked_by", "") != BY_REQUIREMENT]
+    out = []
+    if per:
+        out.append("Worst unit of each failing requirement (its margin in that requirement's unit):")
+        out += [f"  {w.requirement}: {who(w)}, margin {worst_margin(w)}" for w in per]
+    if rest:
+        out.append(f"{'Other failing' if per else 'Failing'} units, worst first by {RELATIVE_WORDS}:")
+        out += [f"  {who(w)}: {w.requirement}, margin {worst_margin(w)}{_relative(w)}" for w in rest]
+    return out
 
 
 def lot_lines(lot, width: int) -> list[str]:
@@ -255,14 +353,12 @@ def lot_lines(lot, width: int) -> list[str]:
         if s.resonance_min_hz is not None:
             lines += textwrap.wrap(f"Best-match frequency: min {ff(s.resonance_min_hz)}, median "
                                    f"{ff(s.resonance_median_hz)}, max {ff(s.resonance_max_hz)}", width)
-        failing = [w for w in s.worst if not w.passed]
-        listed, label = (failing, "Worst failing units") if failing else (list(s.worst), "Closest to failing")
-        if listed:
-            lines.append(f"{label}:")
-            for w in listed:
-                lines += textwrap.wrap(f"{_short(w.file, folder)}: {w.requirement}, margin {worst_margin(w)}", width,
-                                       initial_indent="  ", subsequent_indent="    ", break_long_words=False,
-                                       break_on_hyphens=False)
+        for ln in worst_lines(s.worst, lambda f: _short(f, folder)):
+            if ln.startswith("  "):
+                lines += textwrap.wrap(ln.strip(), width, initial_indent="  ", subsequent_indent="    ",
+                                       break_long_words=False, break_on_hyphens=False)
+            else:
+                lines += textwrap.wrap(ln, width, break_long_words=False, break_on_hyphens=False)
     return lines
 
 

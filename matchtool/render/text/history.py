@@ -8,9 +8,9 @@ import sys
 import textwrap
 
 from ...units import format_frequency as ff
-from .check import signed, table, text_width
+from .check import GLUE, _short, common_folder, table, text_width, window_text, worst_lines
 
-_UNIT = {"min_return_loss_db": "dB", "max_vswr": "", "max_s11_db": "dB", "max_mismatch_loss_db": "dB",
+_UNIT = {"min_return_loss_db": "dB", "max_vswr": "ratio", "max_s11_db": "dB", "max_mismatch_loss_db": "dB",
          "max_deviation_db": "dB"}
 
 
@@ -19,19 +19,22 @@ def _val(key: str, x: float | None, digits: int = 2) -> str:
         return "n/a"
     if key == "resonance":
         return ff(x)
-    d = 3 if key == "max_vswr" else digits
+    d = max(3, digits) if key == "max_vswr" else digits
     u = _UNIT.get(key, "")
-    return f"{x:.{d}f}" + (f" {u}" if u else "")
+    return f"{x:.{d}f}" + (f"{GLUE}{u}" if u else "")
 
 
 def _limit(r) -> str:
     if r.key == "resonance":
         if r.f_low_hz is None or r.f_high_hz is None:
             return "n/a"
-        return f"{r.f_low_hz / 1e6:.1f} to {r.f_high_hz / 1e6:.1f} MHz"
+        return window_text(r.f_low_hz, r.f_high_hz)[1]  # the edges with the digits the spec gave
     if r.limit is None:
         return "changed"
-    return (">= " if r.cpk_side == "lower" else "<= ") + _val(r.key, r.limit)
+    d = 3 if r.key == "max_vswr" else 2
+    while d < 10 and abs(round(r.limit, d) - r.limit) > 1e-12 * max(1.0, abs(r.limit)):
+        d += 1  # the limit with the digits the spec gave it (15.7531, not 15.75)
+    return (">= " if r.cpk_side == "lower" else "<= ") + _val(r.key, r.limit, d)
 
 
 def _std(key: str, x: float | None) -> str:
@@ -76,13 +79,14 @@ def history_lines(h, width: int) -> list[str]:
             lines += _wrap(f"Best-match frequency: mean {ff(lt.resonance_mean_hz)}{spread}, min "
                            f"{ff(lt.resonance_min_hz)}, max {ff(lt.resonance_max_hz)} ({lt.resonance_n} units)",
                            width, "  ", "    ")
-        if lt.worst:
-            lines.append("  Closest to failing:" if all(w.passed for w in lt.worst) else "  Worst failing units:")
-            for w in lt.worst:
-                m = (signed(w.margin_db, 2, "dB") if w.margin_db is not None else
-                     signed(w.margin_hz / 1e6, 3, "MHz") + " from the window" if w.margin_hz is not None else
-                     "not evaluated")
-                lines += _wrap(f"{w.file} ({w.station}): {w.requirement}, margin {m}", width, "    ", "      ")
+        folder = common_folder([w.file for w in lt.worst])
+        if folder and lt.worst:
+            lines += _wrap(f"Worst units (files in {folder}/):", width, "  ", "    ")
+        for ln in worst_lines(lt.worst, lambda f, folder=folder: _short(f, folder), station=True):
+            if ln.startswith("  "):
+                lines += _wrap(ln.strip(), width, "    ", "      ")
+            else:
+                lines += _wrap(ln, width, "  ", "    ")
     lines += _wrap("mean and std dev: of each unit's worst value in the band (the best-match frequency for the "
                    "resonance). Cpk: (mean - LSL) / (3 s) against a lower limit, (USL - mean) / (3 s) against an "
                    "upper limit, the "
