@@ -502,6 +502,8 @@ def budget_doc(res) -> dict[str, Any]:
     """The ``budget --json`` document (a ``budget.BudgetResult``): the worst frequency's values at
     the top (``max_range_m`` is the free-space range, as the contract says; ``max_range_model_m``
     the range in the model in use), every frequency listed."""
+    from ..budget import TX_CAUTION_GAMMA
+
     w = res.worst
     doc: dict[str, Any] = {"file": res.path}
     doc.update(budget_point_doc(w))
@@ -513,8 +515,11 @@ def budget_doc(res) -> dict[str, Any]:
         "path_loss_model": {"kind": res.path_loss_model, "exponent": res.path_loss_exponent,
                             "reference_distance_m": res.reference_distance_m},
         "eirp_limit_dbm": res.eirp_limit_dbm, "eirp_over_limit": res.eirp_over_limit,
+        "max_eirp_dbm": res.max_eirp_dbm, "max_eirp_f_hz": res.max_eirp_f_hz,
+        "tx_vswr_caution": any(p.tx.source != "none" and p.tx.gamma_mag > TX_CAUTION_GAMMA for p in res.points),
         "band": None if res.band is None else {"f_low_hz": res.band[0], "f_high_hz": res.band[1]},
-        "pass": res.closes,
+        "link_closes": res.closes,
+        "pass": res.passed,  # the exit status: the link closes and no frequency exceeds the EIRP limit
         "frequencies": [budget_point_doc(p) for p in res.points],
         "warnings": list(res.warnings),
     })
