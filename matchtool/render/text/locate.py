@@ -64,8 +64,13 @@ def compensation_text(r: LocateResult) -> str:
 
 
 def listing_text(r: LocateResult) -> str:
-    floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
-    return (f"reflections above return loss {fmt(floor_rl, 1)} dB at the analyzer (the noise, and at most "
+    if r.floor_mag >= 1.0:
+        # a floor at or above total reflection is no return loss at all (it would read as negative dB)
+        above = f"|Gamma| {r.floor_mag:.3g} (above total reflection: the trace is not physical; check the calibration)"
+    else:
+        floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
+        above = f"return loss {fmt(floor_rl, 1)} dB"
+    return (f"reflections above {above} at the analyzer (the noise, and at most "
             f"{DYNAMIC_RANGE_DB:g} dB below the strongest unless --floor is given), standing out of their "
             f"surroundings and clear of stronger ones' window sidelobes, at least {r.min_separation_m:.3g} m apart; "
             "strongest first")
