@@ -311,6 +311,8 @@ def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
     """The ``feedline --json`` document of a ``feedline.FeedlineResult``; ``out`` names the file written.
 
     ``band`` is the first band asked for (or the whole sweep); ``bands`` holds every one."""
+    from .text.feedline import LIVE_FEED_CAUTION
+
     bands = [feed_band_doc(b, r.whole_sweep) for b in r.bands]
     return {
         "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points, "toward": r.toward,
@@ -318,6 +320,7 @@ def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
         "at": feed_point_docs(r.feed_at) if r.feed_at is not None else [],
         "band": bands[0], "bands": bands,
         "nonphysical_points": r.nonphysical_points,
+        "caution": LIVE_FEED_CAUTION,
         "warnings": list(r.warnings),
     }
 
@@ -348,7 +351,8 @@ def locate_gate_doc(g) -> dict[str, Any]:
                      "worst_return_loss_after_db": g.worst_return_loss_after_db,
                      "worst_return_loss_after_f_hz": g.worst_return_loss_after_f_hz,
                      "worst_return_loss_after_compensated_db": g.worst_return_loss_after_compensated_db,
-                     "compensated_at_m": g.compensated_at_m, "in_edge_region": g.band_in_edge}}
+                     "compensated_at_m": g.compensated_at_m, "in_edge_region": g.band_in_edge},
+            "max_gamma_mag": g.max_gamma_mag, "nonphysical_points": g.nonphysical_points}
 
 
 def locate_doc(r, out: str | None = None, uncompensated: bool = False) -> dict[str, Any]:
