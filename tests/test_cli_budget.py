@@ -286,3 +286,22 @@ def test_bare_frequency_says_exactly_what_to_write(cli, link):
     r = cli("budget", link, "--json")
     assert r.code in (0, 1), r.err
     assert any('write f_hz = "915 MHz"' in w for w in r.json()["warnings"]), r.json()["warnings"]
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_band_budget_never_cuts_a_cell(link, width):
+    """rich Console(width=...): the per-frequency table and the EIRP / caution lines stay whole."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool.budget import evaluate
+    from matchtool.render.text.budget import render
+
+    write_rlc(link.parent / "tx.s1p", f0_hz=900e6, r_ohm=200.0)  # VSWR 4 at resonance: the caution
+    link.write_text(BAND + "eirp_limit_dbm = 10\n")
+    buf = io.StringIO()
+    render(evaluate(link), con=Console(file=buf, width=width, color_system=None))
+    text = buf.getvalue()
+    assert "\u2026" not in text and all(len(x) <= width for x in text.splitlines())
+    assert "EXCEEDED" in text and "CAUTION: transmit VSWR" in text and "960.000 MHz" in text

@@ -308,3 +308,24 @@ def test_listing_floor_is_never_a_negative_return_loss(tmp_path):
     odd = dataclasses.replace(res, floor_mag=19.3)  # a floor above total reflection
     text = listing_text(odd)
     assert "return loss -" not in text and "|Gamma| 19.3" in text and "not physical" in text
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_reflection_table_never_cuts_a_cell(width):
+    """rich Console(width=...): the widest table (loss compensated, low-pass step kinds) stays whole."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool.render.text.locate import render
+
+    f = np.arange(1, 601) * 5e6
+    m = _media(f, 0.1)
+    net = m.line(1.2, "m") ** m.resistor(15.0) ** m.line(2.8, "m") ** m.load(1 / 3)
+    res = lc.analyze(net, cable=lc.CableModel(length_m=0, velocity_factor=VF, loss_db_per_m=0.1),
+                     mode="lowpass-step")
+    buf = io.StringIO()
+    render(res, uncompensated=True, con=Console(file=buf, width=width, color_system=None))
+    text = buf.getvalue()
+    assert "\u2026" not in text and all(len(x) <= width for x in text.splitlines())
+    assert "higher Z (step up)" in text and f"{res.peaks[0].distance_m:.3f}" in text

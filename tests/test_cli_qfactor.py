@@ -169,3 +169,21 @@ def test_point_far_from_resonance_is_not_called_a_resonance(cli):
     assert "series resonance" not in text and "series-type" in text and "+j36.54" in text, t.out
     t = cli("qfactor", a)  # at its own X = 0 crossing it is a resonance
     assert "resonance" in t.out and "-type" not in t.out
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_table_never_cuts_a_cell(width):
+    """rich Console(width=...): no ellipsis, no line wider than the console, the values whole."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool.antenna import qfactor
+    from matchtool.render.text.qfactor import render
+
+    res = qfactor(str(ROOT / "sample_sweeps" / "ant_r3.s1p"), capped=str(ROOT / "sample_sweeps" / "ant_r1.s1p"))
+    buf = io.StringIO()
+    render(res, con=Console(file=buf, width=width, color_system=None))
+    text = buf.getvalue()
+    assert "\u2026" not in text and all(len(x) <= width for x in text.splitlines())
+    assert "UNRELIABLE" in text and "915.036 MHz" in text and "871.463 MHz" in text

@@ -76,11 +76,11 @@ def rows(r: QFactorResult) -> list[tuple[str, str, str]]:
     return out
 
 
-def render(r: QFactorResult) -> None:
+def render(r: QFactorResult, con=None) -> None:
     """Terminal view of a QFactorResult."""
     from rich.table import Table
 
-    c = console()
+    c = con or console()
     c.print(f"[bold]{r.path}[/bold]  port {r.port}, Z0 {r.z0_ohm:g} ohm, {r.points} points")
     t = Table(show_edge=False)
     for col in ("quantity", "value", "note"):
