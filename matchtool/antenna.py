@@ -56,6 +56,7 @@ FIT_HALF_WIDTH_BANDWIDTHS = 0.5  # the fit spans f0 +- f0/(2Q): the half-power b
 MAX_FIT_HALF_WIDTH = 0.1  # fraction of f0 either side (low-Q antennas)
 NOISY_Q_REL_STD = 0.05  # warn when the fit's standard error of Q exceeds 5 %
 BELOW_CHU_RATIO = 0.9  # Q_Z of an ideal antenna at the bound reads 4 % low at ka = 0.5 (derived in the tests)
+RESONANCE_X_FRACTION = 0.1  # f0 is called a resonance only where |X| <= 0.1 R (common practice, no source)
 CLOSE_RESONANCE_BANDWIDTHS = 2.0  # warn when another resonance lies within 2 f0/Q of f0
 SPHERE_CAVITY_KA = 2.7437  # lowest (TM) mode of a closed conducting sphere: first root of d/dr [r j1(r)]
 
@@ -150,7 +151,9 @@ class QFactorResult:
     - Cap method (None without a capped sweep): ``efficiency``; ``efficiency_model`` "series" (R)
       or "parallel" (G); ``efficiency_in_range`` whether it lies in [0, 1]; ``f_cap_hz`` where the
       capped sweep was read; ``free_value`` and ``capped_value`` R in ohms (series) or G in
-      siemens (parallel), named by ``efficiency_unit`` ("ohm" or "S").
+      siemens (parallel), named by ``efficiency_unit`` ("ohm" or "S"); ``efficiency_reliable`` False
+      when the result lies outside 0..1 or the capped resonance lies outside the free antenna's
+      half-power band ``f0 +- f0 / (2 Q)`` (a different antenna, or a cap disturbing the near field).
     - Cap sizing at f0 (common practice): ``radiansphere_radius_m`` = lambda / (2 pi), the radius a
       cap should exceed (Wheeler 1959); ``sphere_cap_resonance_radius_m`` = 2.7437 lambda / (2 pi),
       the radius at which a closed spherical cap resonates in its lowest mode (stay well below).
@@ -192,9 +195,20 @@ class QFactorResult:
     free_value: float | None = None
     capped_value: float | None = None
     efficiency_unit: str | None = None
+    efficiency_reliable: bool | None = None
     radiansphere_radius_m: float = math.nan
     sphere_cap_resonance_radius_m: float = math.nan
     warnings: tuple[str, ...] = ()
+
+    @property
+    def at_resonance(self) -> bool:
+        """True when f0 is (close to) a resonance: ``|X| <= RESONANCE_X_FRACTION * R`` at f0."""
+        return abs(self.x_ohm) <= RESONANCE_X_FRACTION * abs(self.r_ohm)
+
+    @property
+    def tuning_reactance_ohm(self) -> float:
+        """The series reactance (ohm) that cancels X at f0: ``-X`` (positive: an inductor)."""
+        return -self.x_ohm + 0.0
 
 
 # ----------------------------------------------------------------------------------------------
@@ -399,9 +413,12 @@ def _cap_efficiency(free_f: np.ndarray, z_free: np.ndarray, f0: float, half: flo
                     half_cap = max(f_cap - cfit.f_low_hz, cfit.f_high_hz - f_cap)
             except NoSolutionError:
                 pass
-            if abs(f_cap - f0) > f0 / q:
-                warnings.append(f"{capped.path}: the cap moves the resonance from {_ff(f0)} to {_ff(f_cap)}, more than "
-                                f"the half-power bandwidth: the cap disturbs the near field (too small or too close?)")
+            if abs(f_cap - f0) > f0 / (2 * q):  # outside the free antenna's half-power band f0 +- f0/(2Q)
+                out["efficiency_reliable"] = False
+                warnings.append(f"{capped.path}: the capped resonance {_ff(f_cap)} lies outside the free antenna's "
+                                f"half-power band {_ff(f0 - f0 / (2 * q))} to {_ff(f0 + f0 / (2 * q))} (f0 +- f0/(2Q)): "
+                                "the efficiency is UNRELIABLE (a different antenna, or a cap that disturbs the near "
+                                "field: too small or too close?)")
         else:
             warnings.append(f"{capped.path}: no {resonance} resonance in the capped sweep; the capped sweep is read "
                             f"at f0 = {_ff(f0)}")
@@ -441,7 +458,8 @@ def _cap_efficiency(free_f: np.ndarray, z_free: np.ndarray, f0: float, half: flo
                         f"free sweep near f0 (e.g. {_ff(extra)}): the cap itself may resonate; do not trust the "
                         f"efficiency near a cap resonance")
     out.update(efficiency=float(eff), efficiency_in_range=in_range, f_cap_hz=float(f_cap),
-               free_value=float(v_free), capped_value=float(v_cap))
+               free_value=float(v_free), capped_value=float(v_cap),
+               efficiency_reliable=bool(in_range and out.get("efficiency_reliable", True)))
     return out
 
 

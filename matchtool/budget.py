@@ -44,6 +44,10 @@ C0_M_PER_S = 299_792_458.0  # exact, SI definition of the metre
 MAX_POINTS = 10_001
 DEFAULT_BAND_POINTS = 11
 MAX_FILE_BYTES = 1_000_000
+TX_CAUTION_VSWR = 3.0
+"""Above this transmit VSWR (|Gamma| 0.5, mismatch loss 1.25 dB) ``budget`` cautions about the
+amplifier: many transmitters fold back or are rated only to VSWR 3 (common practice, no source)."""
+TX_CAUTION_GAMMA = (TX_CAUTION_VSWR - 1.0) / (TX_CAUTION_VSWR + 1.0)
 
 
 # ----------------------------------------------------------------------------------------------
@@ -236,9 +240,30 @@ class BudgetResult:
         return all(p.margin_db >= self.required_margin_db for p in self.points)
 
     @property
+    def max_eirp_index(self) -> int:
+        """Index of the point with the highest EIRP (the first one on ties; NaN ignored)."""
+        e = np.array([p.eirp_dbm for p in self.points], dtype=float)
+        return int(np.argmax(np.where(np.isnan(e), -np.inf, e)))
+
+    @property
+    def max_eirp_dbm(self) -> float:
+        """The highest EIRP over the frequencies (dBm)."""
+        return self.points[self.max_eirp_index].eirp_dbm
+
+    @property
+    def max_eirp_f_hz(self) -> float:
+        """The frequency of the highest EIRP (Hz)."""
+        return self.points[self.max_eirp_index].f_hz
+
+    @property
     def eirp_over_limit(self) -> bool:
         """True when an EIRP limit is given and some frequency exceeds it."""
         return self.eirp_limit_dbm is not None and any(p.eirp_dbm > self.eirp_limit_dbm for p in self.points)
+
+    @property
+    def passed(self) -> bool:
+        """Every stated requirement met: the link closes and no frequency exceeds the EIRP limit."""
+        return self.closes and not self.eirp_over_limit
 
 
 # ----------------------------------------------------------------------------------------------
@@ -508,6 +533,9 @@ def read_budget_file(path: str | Path) -> BudgetInput:
         if m:
             line = int(m.group(1))
             msg = msg[: m.start()].strip()
+        elif "(at end of document)" in msg:  # a file cut off: the error is on its last line
+            line = max(1, text.count("\n") + (0 if text.endswith("\n") else 1))
+            msg = msg.replace("(at end of document)", "").strip() + ", the file ends early"
         raise BudgetError(f"is not valid TOML ({msg})", path=str(path), line=line) from None
     return parse_budget(data, str(path))
 
@@ -516,8 +544,8 @@ def read_budget_file(path: str | Path) -> BudgetInput:
 # Computation
 
 
-def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: list[str]
-         ) -> tuple[np.ndarray, np.ndarray, str]:
+def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: list[str],
+         freq_key: str = "f_hz") -> tuple[np.ndarray, np.ndarray, str]:
     """Return (|Gamma| array, mismatch loss dB array, source) for one end."""
     if side.sweep_path is not None:
         from .sweep import gamma_at_many, load
@@ -540,9 +568,10 @@ def _end(r_path: str, base: Path, s: str, side: Side, f: np.ndarray, warnings: l
         except OutOfRangeError as exc:
             bare = f[(f > 0) & (f < 1e5)]
             if bare.size:
-                raise BudgetError(f"the frequency {bare[0]:g} Hz (a bare number is Hz) is outside the sweep {full} "
+                # the key at fault is the frequency, not the sweep
+                raise BudgetError(f"{bare[0]:g} Hz (a bare number is Hz) is outside the {s}_sweep {full} "
                                   f"({sw.f_hz[0] / 1e6:.6g} to {sw.f_hz[-1] / 1e6:.6g} MHz)", path=r_path,
-                                  key=f"{s}_sweep", expected=f"the unit written out: f_hz = \"{bare[0]:g} MHz\" "
+                                  key=freq_key, expected=f"the unit written out: f_hz = \"{bare[0]:g} MHz\" "
                                   "(likewise f_low, f_high)") from None
             raise BudgetError(exc.what, path=r_path, key=f"{s}_sweep",
                               expected=f"an operating frequency inside the sweep {full}") from None
@@ -593,8 +622,14 @@ def _compute_budget(inp: BudgetInput) -> BudgetResult:
 
     g_t, g_r = gain(inp.tx), gain(inp.rx)
     c_t, c_r = cable(inp.tx), cable(inp.rx)
-    mag_t, mm_t, src_t = _end(inp.path, base, "tx", inp.tx, f, warnings)
-    mag_r, mm_r, src_r = _end(inp.path, base, "rx", inp.rx, f, warnings)
+    fkey = "f_hz" if inp.band is None else "f_low"
+    mag_t, mm_t, src_t = _end(inp.path, base, "tx", inp.tx, f, warnings, fkey)
+    mag_r, mm_r, src_r = _end(inp.path, base, "rx", inp.rx, f, warnings, fkey)
+    if src_t != "none" and np.any(mag_t > TX_CAUTION_GAMMA):
+        k = int(np.argmax(mag_t))
+        warnings.append(f"{inp.path}: CAUTION: the transmit antenna's VSWR is {float(vswr_of_gamma(mag_t[k])):.3g} at "
+                        f"{f[k] / 1e6:.6g} MHz (above {TX_CAUTION_VSWR:g}, mismatch loss {mm_t[k]:.2f} dB); a high VSWR "
+                        "can damage the transmitter's amplifier - check the radio's rating before transmitting")
     if inp.polarization_loss_db is not None:
         pol = np.full(f.shape, inp.polarization_loss_db)
     else:
@@ -638,7 +673,7 @@ def _compute_budget(inp: BudgetInput) -> BudgetResult:
         warnings.append(f"{inp.path}: the distance {d:g} m is under 10 wavelengths; Friis assumes the far field "
                         "and is unreliable this close")
     if inp.eirp_limit_dbm is not None and np.any(eirp > inp.eirp_limit_dbm):
-        k = int(np.argmax(eirp))
+        k = int(np.argmax(np.where(np.isnan(eirp), -np.inf, eirp)))
         warnings.append(f"{inp.path}: EIRP {eirp[k]:.2f} dBm exceeds the eirp_limit_dbm {inp.eirp_limit_dbm:g} dBm "
                         f"at {f[k] / 1e6:.6g} MHz; the permitted EIRP is set by local regulation")
 

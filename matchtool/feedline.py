@@ -354,15 +354,16 @@ class MeasuredCable:
         return float(np.degrees(np.max(np.abs(np.diff(np.unwrap(np.angle(self.s[:, 1, 0])))))))
 
 
-def load_cable(path: str, z_ref_ohm: float, flip_ports: bool = False) -> tuple[MeasuredCable, list[str]]:
-    """Load a measured cable from a 2-port Touchstone file (through :func:`matchtool.sweep.load`),
-    renormalised to ``z_ref_ohm``. Port 1 faces the radio; ``flip_ports`` swaps the ports.
-    Returns the cable and the loader's warnings."""
-    from .sweep import load
+def load_cable(path, z_ref_ohm: float, flip_ports: bool = False) -> tuple[MeasuredCable, list[str]]:
+    """Load a measured cable from a 2-port Touchstone file (through :func:`matchtool.sweep.load`)
+    or take it from a 2-port ``skrf.Network`` or Sweep, renormalised to ``z_ref_ohm``. Port 1 faces
+    the radio; ``flip_ports`` swaps the ports. Returns the cable and the loader's warnings."""
+    from .sweep import as_sweep
 
-    cab = load(path, port=1, z0_ohm=z_ref_ohm)
+    cab = as_sweep(path, port=1, z0_ohm=z_ref_ohm)
+    path = cab.path
     if cab.nports != 2:
-        raise InputError(f"a cable must be a 2-port; this file has {cab.nports} port(s)", path=path,
+        raise InputError(f"a cable must be a 2-port; this one has {cab.nports} port(s)", path=path,
                          expected="a .s2p file (port 1 toward the radio / analyzer)")
     s = np.asarray(cab.network.s, dtype=complex)
     if flip_ports:
@@ -782,8 +783,9 @@ def analyze(sweep_or_network, cable, toward: Toward, z0_ohm: float | None = None
     """Move the reference plane of one port of a sweep along a cable, and report both ends.
 
     ``sweep_or_network``: a :class:`matchtool.sweep.Sweep`, an ``skrf.Network`` or a Touchstone
-    path. ``cable``: a :class:`CableModel`, a :class:`Delay`, a :class:`MeasuredCable`, or the path
-    of a measured 2-port (port 1 toward the radio; ``flip_cable`` swaps its ports).
+    path. ``cable``: a :class:`CableModel`, a :class:`Delay`, a :class:`MeasuredCable`, or a
+    measured 2-port as a Touchstone path, an ``skrf.Network`` or a Sweep (port 1 toward the radio;
+    ``flip_cable`` swaps its ports).
     ``toward="radio"`` adds the cable in front of the antenna; ``"antenna"`` removes it.
     ``z0_ohm``: system impedance in ohms (default: the port's own reference). ``bands``:
     (f_low_hz, f_high_hz) pairs inside the sweep; ``at_hz``: frequencies inside the sweep (Hz),
@@ -791,7 +793,9 @@ def analyze(sweep_or_network, cable, toward: Toward, z0_ohm: float | None = None
     """
     from pathlib import Path
 
-    from .sweep import as_sweep, gamma_at_many
+    import skrf
+
+    from .sweep import Sweep, as_sweep, gamma_at_many
 
     if toward not in ("radio", "antenna"):
         raise UsageError("is neither 'radio' nor 'antenna'", parameter="toward", value=toward,
@@ -807,8 +811,8 @@ def analyze(sweep_or_network, cable, toward: Toward, z0_ohm: float | None = None
     for lo, hi in bands:
         _check_band(f, lo, hi, sw.path)
     warnings = list(sw.warnings)
-    if isinstance(cable, str | Path):
-        cable, cw = load_cable(str(cable), z_sys, flip_cable)
+    if isinstance(cable, str | Path | skrf.Network | Sweep):  # a measured 2-port: file, Network or Sweep
+        cable, cw = load_cable(str(cable) if isinstance(cable, Path) else cable, z_sys, flip_cable)
         warnings += cw
     elif flip_cable:
         raise UsageError("applies only to a measured cable file", parameter="flip_cable")

@@ -49,6 +49,11 @@ from .feedline import C0_M_PER_S, CableModel
 MODES = ("auto", "bandpass", "lowpass-impulse", "lowpass-step")
 """``auto`` picks low-pass on a harmonic sweep from near 0 Hz, band-pass otherwise."""
 
+MAX_EXTRAPOLATED_FRACTION = 0.10
+"""Low-pass modes are refused when the points extrapolated down to 0 Hz would be more than this
+fraction of the transform's points (sweep plus extrapolation): beyond it the view is mostly a guess
+(our choice; common practice, no source)."""
+
 AUTO_LOWPASS_MAX_START = 0.05
 """``auto`` uses low-pass when the sweep is harmonic and starts below this fraction of its stop."""
 
@@ -208,6 +213,16 @@ class GateResult:
     f_hz: np.ndarray
     return_loss_before_db: np.ndarray
     return_loss_after_db: np.ndarray
+
+    @property
+    def max_gamma_mag(self) -> float:
+        """The largest |Gamma| of the gated sweep over all its frequencies."""
+        return float(np.max(np.abs(self.network.s[:, 0, 0])))
+
+    @property
+    def nonphysical_points(self) -> int:
+        """How many frequencies of the gated sweep have |Gamma| > 1 (beyond NONPHYSICAL_TOL)."""
+        return int(np.sum(np.abs(self.network.s[:, 0, 0]) > 1.0 + NONPHYSICAL_TOL))
 
 
 @dataclass(frozen=True, eq=False)
@@ -465,6 +480,13 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
 
     extrapolated = 0
     work = net
+    if lowpass and k0 > MAX_EXTRAPOLATED_FRACTION * (f.size + k0):
+        # the transform would be mostly guessed: refused, not warned (a view built on a guess misleads)
+        f_ok = math.floor(MAX_EXTRAPOLATED_FRACTION * f.size / (1 - MAX_EXTRAPOLATED_FRACTION)) * step
+        raise UsageError(f"would extrapolate {k0} of {f.size + k0} points ({100 * k0 / (f.size + k0):.0f} %) down to "
+                         f"0 Hz, more than {100 * MAX_EXTRAPOLATED_FRACTION:g} %", parameter="mode", value=the_mode,
+                         path=sw.path, expected=f"--mode bandpass for this sweep, or a sweep starting at or below "
+                         f"{f_ok / 1e6:.6g} MHz in steps of {step / 1e6:.6g} MHz")
     if lowpass and f[0] > 0:
         # the DC value of a passive 1-port is real: the real part of the straight line through the
         # first two points, kept within the unit circle
@@ -601,9 +623,13 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
         listed.append(i)
     listed.sort(key=lambda i: -mag_full[i])
     if dropped_nonphysical:
-        warnings.append(f"{sw.name}: {dropped_nonphysical} reflection(s) above |Gamma| = 1 after loss compensation "
-                        "were not listed (non-physical): the loss given is more than the cable has, the sweep is "
-                        "not calibrated, or they are noise lifted by the compensation")
+        if cab.lossless:  # no loss given: nothing was compensated, so the loss cannot be blamed
+            warnings.append(f"{sw.name}: {dropped_nonphysical} reflection(s) above |Gamma| = 1 were not listed "
+                            "(non-physical): the sweep is not calibrated, or the trace is distorted")
+        else:
+            warnings.append(f"{sw.name}: {dropped_nonphysical} reflection(s) above |Gamma| = 1 after loss "
+                            "compensation were not listed (non-physical): the loss given is more than the cable "
+                            "has, the sweep is not calibrated, or they are noise lifted by the compensation")
     for i in listed:
         # parabolic interpolation through the three samples around the maximum (hand-written:
         # three lines; it places the peak between samples)

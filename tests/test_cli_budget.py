@@ -110,8 +110,72 @@ def test_bad_sweep_text_does_not_leak(cli, link):
 def test_eirp_limit_warning(cli, link):
     link.write_text(LINK + "eirp_limit_dbm = 10\n")
     r = cli("budget", link, "--json")
-    assert r.code == 0 and r.json()["eirp_over_limit"] is True
+    # an exceeded EIRP limit is a failed requirement: exit 1, though the link itself closes
+    assert r.code == 1 and r.json()["eirp_over_limit"] is True and r.json()["pass"] is False
+    assert r.json()["link_closes"] is True
     assert any("EIRP" in w for w in r.json()["warnings"]) and "warning:" in r.err
+
+
+BAND = LINK.replace('f_hz = "915 MHz"\n', 'f_low = "900 MHz"\nf_high = "960 MHz"\nstep = "10 MHz"\n')
+
+
+def test_eirp_line_is_the_highest_over_the_band(cli, link):
+    # Both antennas resonate at 900 MHz: the transmit end is a series RLC with R = 50 ohm = Z0, so
+    # Gamma = 0 there and EIRP(900 MHz) = 14 - 0.5 - 0 + 2 = 15.5 dBm (derived). Away from 900 MHz the
+    # mismatch grows and the path loss rises, so the worst margin is at 960 MHz, where the EIRP is
+    # lower: X(960 MHz) = 2 pi 960e6 40e-9 (1 - (900/960)^2) = 29.2 ohm, |Gamma|^2 = 29.2^2 /
+    # (100^2 + 29.2^2) = 0.079, mismatch 0.355 dB, EIRP 15.14 dBm (derived). A limit of 15.3 dBm is met
+    # at the worst-margin frequency and exceeded at 900 MHz.
+    write_rlc(link.parent / "tx.s1p", f0_hz=900e6, r_ohm=50.0)
+    write_rlc(link.parent / "rx.s1p", f0_hz=900e6, r_ohm=30.0)
+    link.write_text(BAND + "eirp_limit_dbm = 15.3\n")
+    r = cli("budget", link, "--json")
+    d = r.json()
+    assert d["worst_f_hz"] == pytest.approx(960e6)
+    assert d["eirp_dbm"] == pytest.approx(15.14, abs=0.01)  # the worst-margin point's own EIRP
+    assert d["max_eirp_f_hz"] == pytest.approx(900e6) and d["max_eirp_dbm"] == pytest.approx(15.5, abs=1e-3)
+    assert d["eirp_over_limit"] is True and d["pass"] is False and r.code == 1
+    t = cli("budget", link)
+    assert t.code == 1
+    line = next(x for x in t.out.splitlines() if x.startswith("EIRP"))
+    assert "15.50 dBm" in line and "900.000 MHz" in line and "EXCEEDED" in line, line
+    link.write_text(BAND + "eirp_limit_dbm = 15.6\n")  # above the highest EIRP: met, exit 0
+    t = cli("budget", link)
+    line = next(x for x in t.out.splitlines() if x.startswith("EIRP"))
+    assert t.code == 0 and "met" in line and "EXCEEDED" not in line
+
+
+@pytest.mark.parametrize("vswr, caution", [(3.5, True), (2.9, False)])
+def test_amplifier_caution_above_vswr_3(cli, link, vswr, caution):
+    # caution threshold VSWR 3, i.e. |Gamma| = 0.5, mismatch loss -10 log10(1 - 0.25) = 1.25 dB
+    # (derived; the threshold itself is common practice, no source)
+    link.write_text(LINK.replace('tx_sweep = "tx.s1p"\n', f"tx_vswr = {vswr}\n"))
+    r = cli("budget", link, "--json")
+    assert r.json()["tx_vswr_caution"] is caution
+    assert any("damage the transmitter's amplifier" in w for w in r.json()["warnings"]) is caution
+    t = cli("budget", link)
+    assert ("CAUTION: transmit VSWR" in t.out) is caution
+
+
+def test_amplifier_caution_from_a_sweep(cli, link):
+    # a 200 ohm resistive antenna at resonance: VSWR 200/50 = 4 (Pozar, Microwave Engineering, 4th ed., eq. 2.41)
+    write_rlc(link.parent / "tx.s1p", r_ohm=200.0)
+    t = cli("budget", link)
+    assert "CAUTION: transmit VSWR 4" in t.out and "amplifier" in t.err
+
+
+def test_bare_f_hz_outside_the_sweep_names_f_hz(cli, link):
+    link.write_text(LINK.replace('f_hz = "915 MHz"', "f_hz = 915"))
+    r = cli("budget", link)
+    assert r.code == 2 and len(r.err_lines) == 1
+    assert "key 'f_hz'" in r.err and "key 'tx_sweep'" not in r.err, r.err
+
+
+def test_toml_cut_off_at_the_end_gives_a_line(cli, link):
+    link.write_text('f_hz = "915 MHz"\ndistance_m = 500\ntx_power_dbm = ')
+    r = cli("budget", link)
+    assert r.code == 2 and len(r.err_lines) == 1
+    assert f"{link} line 3" in r.err and "ends early" in r.err, r.err
 
 
 def test_help_has_cautions(cli):
@@ -222,3 +286,22 @@ def test_bare_frequency_says_exactly_what_to_write(cli, link):
     r = cli("budget", link, "--json")
     assert r.code in (0, 1), r.err
     assert any('write f_hz = "915 MHz"' in w for w in r.json()["warnings"]), r.json()["warnings"]
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_band_budget_never_cuts_a_cell(link, width):
+    """rich Console(width=...): the per-frequency table and the EIRP / caution lines stay whole."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool.budget import evaluate
+    from matchtool.render.text.budget import render
+
+    write_rlc(link.parent / "tx.s1p", f0_hz=900e6, r_ohm=200.0)  # VSWR 4 at resonance: the caution
+    link.write_text(BAND + "eirp_limit_dbm = 10\n")
+    buf = io.StringIO()
+    render(evaluate(link), con=Console(file=buf, width=width, color_system=None))
+    text = buf.getvalue()
+    assert "\u2026" not in text and all(len(x) <= width for x in text.splitlines())
+    assert "EXCEEDED" in text and "CAUTION: transmit VSWR" in text and "960.000 MHz" in text

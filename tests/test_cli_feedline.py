@@ -244,7 +244,8 @@ def test_refuses_overwrite_and_leaves_the_file(cli, tmp_path):
     (["--length", "1 furlong", "--velocity-factor", "0.7", "--loss-db-per-m", "0", "--toward", "radio"], "unit"),
     (["--length", "1m", "--velocity-factor", "1.5", "--loss-db-per-m", "0", "--toward", "radio"],
      "--velocity-factor 1.5"),
-    (["--length", "-1m", "--velocity-factor", "0.7", "--loss-db-per-m", "0", "--toward", "radio"], "--length -1"),
+    (["--length", "-1m", "--velocity-factor", "0.7", "--loss-db-per-m", "0", "--toward", "radio"], "--length -1m:"),
+    (["--length", "-3 ft", "--velocity-factor", "0.7", "--loss-db-per-m", "0", "--toward", "radio"], "--length -3 ft:"),
     ([*MODEL, "--dielectric-loss-db-per-m", "-1", "--toward", "radio"], "--dielectric-loss-db-per-m -1"),
     ([*MODEL, "--cable-z0", "0", "--toward", "radio"], "--cable-z0 0"),
     ([*MODEL, "--toward", "radio", "--at", "5GHz"], "outside the sweep"),
@@ -254,7 +255,7 @@ def test_refuses_overwrite_and_leaves_the_file(cli, tmp_path):
     ([*MODEL, "--toward", "radio", "--out", "x.txt"], "x.txt"),
     ([*MODEL, "--toward", "radio", "--out", "x.ts"], ".sNp"),
     ([*MODEL, "--toward", "radio", "--out", "/nonexistent-dir/x.s1p"], "does not exist"),
-    (["--delay", "-5ps", "--toward", "radio"], "--delay"),
+    (["--delay=-5ps", "--toward", "radio"], "--delay -5ps: must be zero or more"),
     ([*MODEL, "--loss-ref", "0Hz", "--toward", "radio"], "--loss-ref"),
 ])
 def test_bad_arguments_one_line(cli, tmp_path, args, words):
@@ -427,3 +428,37 @@ def test_plausible_delay_and_loss_reference_are_accepted(cli, tmp_path):
     a = write_rlc(tmp_path / "ant.s1p", r_ohm=40.0)
     assert cli("feedline", a, "--delay", "1us", "--toward", "radio").code == 0
     assert cli("feedline", a, *MODEL, "--loss-ref", "1MHz", "--toward", "radio").code == 0
+
+
+def test_live_feed_caution_in_text_and_json(cli, tmp_path):
+    a = write_rlc(tmp_path / "ant.s1p")
+    r = cli("feedline", a, *MODEL, "--toward", "radio")
+    assert r.code == 0 and "live transmitter feeds" in " ".join(r.out.split())
+    j = cli("feedline", a, *MODEL, "--toward", "radio", "--json")
+    assert "live transmitter feeds" in j.json()["caution"]
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_at_table_is_never_truncated(tmp_path, width):
+    """Every cell of the --at table appears whole at 80, 100 and 120 columns (rich Console(width=))."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool import feedline as fl
+    from matchtool.render.text.feedline import render
+
+    a = write_rlc(tmp_path / "ant.s1p")
+    cab = fl.CableModel(length_m=2.0, velocity_factor=0.66, loss_db_per_m=0.4)
+    res = fl.analyze(str(a), cab, "radio", at_hz=[902e6, 915e6, 928e6])
+    buf = io.StringIO()
+    render(res, con=Console(file=buf, width=width, color_system=None, force_terminal=False))
+    text = buf.getvalue()
+    assert "\u2026" not in text  # rich's ellipsis: a cut cell
+    assert all(len(line) <= width for line in text.splitlines()), text
+    for f in ("902.000 MHz", "915.000 MHz", "928.000 MHz"):
+        assert f in text
+    for word in ("S21 loss", "RL antenna", "VSWR", "total loss"):
+        assert word in text
+    # every number of the table, whole: the total feed loss at 902 MHz, 3 decimals
+    assert f"{res.feed_at.total_feed_loss_db[0]:.3f}" in text

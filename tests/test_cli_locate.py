@@ -9,6 +9,7 @@ import math
 import numpy as np
 import pytest
 import skrf
+from helpers import ROOT
 
 from matchtool import locate as lc
 from matchtool.sweep import touchstone_text
@@ -251,3 +252,80 @@ def test_gated_sweep_is_ready_for_inspect_and_feedline(cli, tmp_path):
     assert r.code == 0, r.err
     want = -20 * math.log10(1 / 3 * (100 / 115) ** 2)
     assert r.json()["band"]["worst_return_loss_antenna_db"] == pytest.approx(want, abs=1.0)
+
+
+def _uncalibrated(path):
+    """A lossless 50-ohm line (VF 0.7) into a 'load' reflecting 1.5: |S11| = 1.5 everywhere (derived:
+    a lossless matched line only turns the phase), as an uncalibrated analyzer might record."""
+    f = np.arange(1, 601) * 5e6
+    m = _media(f)
+    net = m.line(4.0, "m") ** m.load(1.5)
+    path.write_text(touchstone_text(f, net.s, 50.0))
+    return path
+
+
+def test_nonphysical_gated_sweep_is_not_written(cli, tmp_path):
+    p = _uncalibrated(tmp_path / "raw.s1p")
+    out = tmp_path / "g.s1p"
+    r = cli("locate", p, "--velocity-factor", "0.7", "--gate", "3.5m:4.6m", "--out", out)
+    _one_error(r, "non-physical", "|Gamma| up to 1.5", "--force-nonphysical", str(out))
+    assert not out.exists()
+    r = cli("locate", p, "--velocity-factor", "0.7", "--gate", "3.5m:4.6m", "--out", out, "--force-nonphysical")
+    assert r.code == 0 and out.exists()
+    # the reviewer's case: a VF 0.66 / 0.66 dB/m gate on the sample sweep (|Gamma| up to 3.08)
+    s = ROOT / "sample_sweeps" / "ant_r3_via_cable.s1p"
+    out2 = tmp_path / "g2.s1p"
+    r = cli("locate", s, "--velocity-factor", "0.66", "--loss-db-per-m", "0.66", "--gate", "2.5m:4m", "--out", out2)
+    _one_error(r, "non-physical", "widen the gate")
+    assert not out2.exists()
+
+
+def test_no_loss_blamed_when_no_loss_was_given(cli, tmp_path):
+    p = _uncalibrated(tmp_path / "raw.s1p")
+    r = cli("locate", p, "--velocity-factor", "0.7", "--json")
+    ws = [w for w in r.json()["warnings"] if "|Gamma| = 1" in w]
+    assert ws and not any("loss given" in w for w in ws), ws
+    r = cli("locate", p, "--velocity-factor", "0.7", "--loss-db-per-m", "0.1", "--json")
+    assert any("loss given" in w for w in r.json()["warnings"])
+
+
+def test_lowpass_far_from_dc_is_refused(cli):
+    # ant_r3 starts at 700 MHz in 0.25 MHz steps: 2800 of 4401 points (64 %) would be guessed
+    s = ROOT / "sample_sweeps" / "ant_r3.s1p"
+    r = cli("locate", s, "--velocity-factor", "0.66", "--mode", "lowpass-step")
+    _one_error(r, "--mode lowpass-step", "2800 of 4401", "10 %", "--mode bandpass")
+
+
+def test_listing_floor_is_never_a_negative_return_loss(tmp_path):
+    import dataclasses
+
+    from matchtool.render.text.locate import listing_text
+
+    f = np.arange(1, 601) * 5e6
+    m = _media(f)
+    res = lc.analyze(m.line(4.0, "m") ** m.load(0.3), velocity_factor=VF)
+    assert "return loss" in listing_text(res)
+    odd = dataclasses.replace(res, floor_mag=19.3)  # a floor above total reflection
+    text = listing_text(odd)
+    assert "return loss -" not in text and "|Gamma| 19.3" in text and "not physical" in text
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_reflection_table_never_cuts_a_cell(width):
+    """rich Console(width=...): the widest table (loss compensated, low-pass step kinds) stays whole."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool.render.text.locate import render
+
+    f = np.arange(1, 601) * 5e6
+    m = _media(f, 0.1)
+    net = m.line(1.2, "m") ** m.resistor(15.0) ** m.line(2.8, "m") ** m.load(1 / 3)
+    res = lc.analyze(net, cable=lc.CableModel(length_m=0, velocity_factor=VF, loss_db_per_m=0.1),
+                     mode="lowpass-step")
+    buf = io.StringIO()
+    render(res, uncompensated=True, con=Console(file=buf, width=width, color_system=None))
+    text = buf.getvalue()
+    assert "\u2026" not in text and all(len(x) <= width for x in text.splitlines())
+    assert "higher Z (step up)" in text and f"{res.peaks[0].distance_m:.3f}" in text

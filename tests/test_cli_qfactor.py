@@ -7,7 +7,7 @@ import sys
 
 import numpy as np
 import pytest
-from helpers import gamma_of, s1p_text, series_rlc_z, write_rlc
+from helpers import ROOT, gamma_of, s1p_text, series_rlc_z, write_rlc
 
 C0 = 299_792_458.0
 CONTRACT = ("f0_hz", "q", "fractional_bandwidth_potential", "vswr", "measured_fractional_bandwidth", "ka",
@@ -143,3 +143,47 @@ def test_report_section_is_self_contained(tmp_path):
     assert html.startswith("<div") and html.rstrip().endswith("</div>")
     assert "free&lt;1&gt;.s1p" in html and "<script" not in html and "http" not in html
     assert "Chu-McLean minimum Q" in html and "radiation efficiency" in html and "RF exposure" in html
+
+
+def test_unrelated_capped_sample_sweep_is_unreliable(cli):
+    # the reviewer's case: ant_r1 is not ant_r3 in a cap; its resonance (871.5 MHz) lies outside
+    # ant_r3's half-power band f0 +- f0/(2Q) = 915.0 +- 39.1 MHz (Q 11.7; rule derived from f0/Q)
+    a, b = ROOT / "sample_sweeps" / "ant_r3.s1p", ROOT / "sample_sweeps" / "ant_r1.s1p"
+    r = cli("qfactor", a, "--capped", b, "--json")
+    assert r.code == 0 and r.json()["efficiency_reliable"] is False
+    assert any("UNRELIABLE" in w and "half-power band" in w for w in r.json()["warnings"])
+    t = cli("qfactor", a, "--capped", b)
+    line = next(x for x in t.out.splitlines() if "radiation efficiency" in x)
+    assert "UNRELIABLE" in line and "UNRELIABLE" in t.err
+
+
+def test_point_far_from_resonance_is_not_called_a_resonance(cli):
+    # ant_r1 at 915 MHz: Z = 21.95 - j36.54 ohm (the sample's own reading); |X| > 0.1 R, so not a
+    # resonance: series-type, tuned by +j36.54 ohm (an inductor; -X, derived)
+    a = ROOT / "sample_sweeps" / "ant_r1.s1p"
+    r = cli("qfactor", a, "--at", "915MHz", "--json")
+    assert r.json()["at_resonance"] is False
+    assert r.json()["tuning_reactance_ohm"] == pytest.approx(-r.json()["x_ohm"])
+    t = cli("qfactor", a, "--at", "915MHz")
+    text = " ".join(t.out.split())
+    assert "series resonance" not in text and "series-type" in text and "+j36.54" in text, t.out
+    t = cli("qfactor", a)  # at its own X = 0 crossing it is a resonance
+    assert "resonance" in t.out and "-type" not in t.out
+
+
+@pytest.mark.parametrize("width", [80, 100, 120])
+def test_table_never_cuts_a_cell(width):
+    """rich Console(width=...): no ellipsis, no line wider than the console, the values whole."""
+    import io
+
+    from rich.console import Console
+
+    from matchtool.antenna import qfactor
+    from matchtool.render.text.qfactor import render
+
+    res = qfactor(str(ROOT / "sample_sweeps" / "ant_r3.s1p"), capped=str(ROOT / "sample_sweeps" / "ant_r1.s1p"))
+    buf = io.StringIO()
+    render(res, con=Console(file=buf, width=width, color_system=None))
+    text = buf.getvalue()
+    assert "\u2026" not in text and all(len(x) <= width for x in text.splitlines())
+    assert "UNRELIABLE" in text and "915.036 MHz" in text and "871.463 MHz" in text

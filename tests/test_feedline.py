@@ -426,3 +426,28 @@ def test_analyze_is_the_one_entry_point_for_a_network():
     with pytest.raises(UsageError) as info:
         fl.analyze(ant, cab, "sideways")
     assert info.value.parameter == "toward"
+
+
+def test_measured_cable_as_a_scikit_rf_network_equals_the_file(tmp_path):
+    """A 2-port skrf.Network is a measured cable like its Touchstone file (same MeasuredCable path)."""
+    from matchtool.sweep import touchstone_text
+
+    f = np.linspace(800e6, 1e9, 201)
+    m = skrf.media.DefinedGammaZ0(skrf.Frequency.from_f(f, unit="Hz"), z0=50.0,
+                                  gamma=0.01 + 2j * np.pi * f / (0.66 * 299_792_458.0))
+    cable = m.line(3.0, "m")
+    ant = m.load(0.3 + 0.2j)
+    path = tmp_path / "cable.s2p"
+    path.write_text(touchstone_text(f, cable.s, 50.0))
+    by_net = fl.analyze(ant, cable, toward="radio")
+    by_file = fl.analyze(ant, str(path), toward="radio")
+    assert isinstance(by_net.cable, fl.MeasuredCable)
+    np.testing.assert_allclose(by_net.network.s, by_file.network.s, atol=1e-9)
+    # and the result is scikit-rf's own cascade of the cable into the load
+    np.testing.assert_allclose(by_net.network.s[:, 0, 0], (cable ** ant).s[:, 0, 0], atol=1e-9)
+    flipped = fl.analyze(ant, cable, toward="radio", flip_cable=True)
+    assert flipped.cable.flipped
+    from matchtool.errors import InputError
+
+    with pytest.raises(InputError, match="2-port"):  # a 1-port is not a cable: one line, not an AttributeError
+        fl.analyze(ant, ant, toward="radio")

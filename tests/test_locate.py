@@ -285,12 +285,25 @@ def test_sweep_grids_and_modes():
     with pytest.raises(UsageError) as info:
         lc.analyze(net, velocity_factor=1.5)
     assert info.value.parameter == "velocity_factor"
-    # a harmonic sweep far from 0 Hz: low-pass on request, with a warning about the extrapolation
+    # a harmonic sweep far from 0 Hz: low-pass refused when the extrapolation would be more than
+    # 10 % of the transform's points (100 of 301 here), suggesting band-pass
     fh = np.arange(100, 301) * 5e6
     neth = media(fh, vf).line(2, "m") ** media(fh, vf).load(0.4)
     assert lc.analyze(neth, velocity_factor=vf).mode == "bandpass"
-    lp = lc.analyze(neth, velocity_factor=vf, mode="lowpass-impulse")
-    assert lp.extrapolated_points == 100 and any("extrapolates" in w for w in lp.warnings)
+    for mode in ("lowpass-impulse", "lowpass-step"):
+        with pytest.raises(UsageError) as info:
+            lc.analyze(neth, velocity_factor=vf, mode=mode)
+        assert info.value.parameter == "mode" and "--mode bandpass" in str(info.value.expected)
+    # the boundary (derived): 201 points from k0 steps: k0 <= 0.1 (201 + k0) holds up to k0 = 22
+    for k0, allowed in ((22, True), (23, False)):
+        fk = np.arange(k0, k0 + 201) * 5e6
+        netk = media(fk, vf).line(2, "m") ** media(fk, vf).load(0.4)
+        if allowed:
+            lp = lc.analyze(netk, velocity_factor=vf, mode="lowpass-impulse")
+            assert lp.extrapolated_points == k0 and any("extrapolates" in w for w in lp.warnings)
+        else:
+            with pytest.raises(UsageError):
+                lc.analyze(netk, velocity_factor=vf, mode="lowpass-impulse")
 
 
 def test_result_is_frozen_and_trace_is_sampled_keeping_peaks():

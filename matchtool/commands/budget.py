@@ -20,8 +20,11 @@ power, the margin over the receiver sensitivity, the EIRP, and the range at whic
 the required fade margin (zero when none is set), with what the mismatch alone costs in range. Every
 range names its path-loss model (free space, or log-distance when path_loss_exponent is set).
 
-Exit status: 0 when the margin meets the required margin at every frequency, 1 when it does not,
-2 when the file cannot be used.
+Exit status: 0 when the margin meets the required margin at every frequency and no frequency
+exceeds eirp_limit_dbm (when given), 1 when either requirement fails, 2 when the file cannot be
+used. The EIRP line gives the highest EIRP over the band and its frequency.
+
+A transmit VSWR above 3 (mismatch loss above 1.25 dB) at any frequency prints a CAUTION line.
 
 CAUTION: this is a path-loss model estimate (free space, or log-distance when path_loss_exponent is
 set), not a coverage prediction (ground, walls, bodies and fading
@@ -57,4 +60,4 @@ def register(app: typer.Typer) -> None:
 
             render(res)
             warn(list(res.warnings))
-        return ExitStatus.OK if res.closes else ExitStatus.FAIL
+        return ExitStatus.OK if res.passed else ExitStatus.FAIL

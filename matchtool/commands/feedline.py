@@ -61,6 +61,17 @@ MAX_DELAY_S = 1e-6
 _MODEL_OPTS = ("--velocity-factor", "--loss-db-per-m", "--loss-ref", "--dielectric-loss-db-per-m", "--cable-z0")
 
 
+def _non_negative(x: float, parameter: str, typed: str, expected: str) -> float:
+    """``x`` when finite and >= 0; else a UsageError that echoes the option as the user typed it
+    (``--length -3m``, not the parsed ``-3``)."""
+    import math
+
+    if not (math.isfinite(x) and x >= 0):
+        raise UsageError("must be zero or more", parameter=parameter, value=str(typed).strip(),
+                         expected=expected)
+    return x
+
+
 def _cable_from_options(length: str | None, velocity_factor: float | None, loss_db_per_m: float | None,
                         loss_ref: str | None, dielectric: float | None, cable_z0: float | None, cable: str | None,
                         flip_cable: bool, delay: str | None):
@@ -79,7 +90,7 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
         if model_given:
             raise UsageError(f"{model_given[0]} applies only to a cable model", expected="--length L")
         if delay is not None:
-            delay_s = parse_time(delay)
+            delay_s = _non_negative(parse_time(delay), "delay_s", delay, "a delay of zero or more, e.g. 250ps")
             if delay_s > MAX_DELAY_S:
                 hint = "a delay of at most 1us" + (f" (a bare number is seconds: did you mean {delay.strip()}ps?)"
                                                    if is_bare_number(delay) else ", e.g. 250ps or 1.2ns")
@@ -93,7 +104,8 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
         raise UsageError("a cable model needs --loss-db-per-m (at --loss-ref, default 1 GHz)",
                          expected="the cable's attenuation in dB per metre; 0 for a lossless line")
     ref_hz = loss_ref_hz(loss_ref)
-    return "model", fl.CableModel(length_m=parse_length(length), velocity_factor=velocity_factor,
+    length_m = _non_negative(parse_length(length), "length_m", length, "a length of zero or more, e.g. 3m")
+    return "model", fl.CableModel(length_m=length_m, velocity_factor=velocity_factor,
                                   loss_db_per_m=loss_db_per_m, loss_ref_hz=ref_hz,
                                   dielectric_loss_db_per_m=dielectric or 0.0, z0_ohm=cable_z0)
 

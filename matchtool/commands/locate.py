@@ -46,7 +46,9 @@ EPILOG = """Examples:
   # capacitive or inductive? the sign of the low-pass step (sweep from k x step)
   matchtool locate bench.s1p --velocity-factor 0.7 --mode lowpass-step
 
-Distances are only as accurate as the velocity factor. Climbing masts and working on live
+A gated sweep with |Gamma| > 1 anywhere is not written (exit 2) unless --force-nonphysical.
+Low-pass modes are refused when more than 10 % of the transform's points would be extrapolated
+down to 0 Hz (use --mode bandpass). Distances are only as accurate as the velocity factor. Climbing masts and working on live
 transmitter feeds is dangerous: follow your site's safety rules; this tool only computes.
 """
 
@@ -117,6 +119,8 @@ def register(app: typer.Typer) -> None:
         out: Annotated[str | None, typer.Option(
             "--out", metavar="FILE.s1p", help="Write the gated sweep (needs --gate).")] = None,
         force: ForceOpt = False,
+        force_nonphysical: Annotated[bool, typer.Option(
+            "--force-nonphysical", help="Write the gated sweep even where |Gamma| > 1 (refused otherwise).")] = False,
         json_out: JsonOpt = False,
     ) -> int:
         """Reflection versus distance along the feed from a frequency sweep (distance to fault), and
@@ -151,6 +155,12 @@ def register(app: typer.Typer) -> None:
                             min_separation_m=sep, max_peaks=peaks)
         from ..render.text.locate import render, touchstone_comments
 
+        if out is not None and result.gate is not None and result.gate.nonphysical_points and not force_nonphysical:
+            # a passive 1-port cannot reflect more than it receives: such a file would mislead later steps
+            raise UsageError(f"not written: the gated sweep is non-physical, |Gamma| up to "
+                             f"{result.gate.max_gamma_mag:.3g} at {result.gate.nonphysical_points} point(s); widen "
+                             "the gate or check the velocity factor / loss", path=out,
+                             expected="--force-nonphysical to write it anyway")
         if out is not None and result.gate is not None:
             write_touchstone(out, result.gate.network, force=force, comments=touchstone_comments(result))
         if json_out:

@@ -315,6 +315,8 @@ def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
     """The ``feedline --json`` document of a ``feedline.FeedlineResult``; ``out`` names the file written.
 
     ``band`` is the first band asked for (or the whole sweep); ``bands`` holds every one."""
+    from .text.feedline import LIVE_FEED_CAUTION
+
     bands = [feed_band_doc(b, r.whole_sweep) for b in r.bands]
     return {
         "file": r.path, "port": r.port, "z0_ohm": r.z0_ohm, "points": r.points, "toward": r.toward,
@@ -322,6 +324,7 @@ def feedline_doc(r, out: str | None = None) -> dict[str, Any]:
         "at": feed_point_docs(r.feed_at) if r.feed_at is not None else [],
         "band": bands[0], "bands": bands,
         "nonphysical_points": r.nonphysical_points,
+        "caution": LIVE_FEED_CAUTION,
         "warnings": list(r.warnings),
     }
 
@@ -352,7 +355,8 @@ def locate_gate_doc(g) -> dict[str, Any]:
                      "worst_return_loss_after_db": g.worst_return_loss_after_db,
                      "worst_return_loss_after_f_hz": g.worst_return_loss_after_f_hz,
                      "worst_return_loss_after_compensated_db": g.worst_return_loss_after_compensated_db,
-                     "compensated_at_m": g.compensated_at_m, "in_edge_region": g.band_in_edge}}
+                     "compensated_at_m": g.compensated_at_m, "in_edge_region": g.band_in_edge},
+            "max_gamma_mag": g.max_gamma_mag, "nonphysical_points": g.nonphysical_points}
 
 
 def locate_doc(r, out: str | None = None, uncompensated: bool = False) -> dict[str, Any]:
@@ -420,7 +424,8 @@ def qfactor_doc(r) -> dict[str, Any]:
         "capped_file": r.capped_path, "efficiency": r.efficiency, "efficiency_model": r.efficiency_model,
         "efficiency_in_range": r.efficiency_in_range, "f_cap_hz": r.f_cap_hz,
         "efficiency_free_value": r.free_value, "efficiency_capped_value": r.capped_value,
-        "efficiency_unit": r.efficiency_unit,
+        "efficiency_unit": r.efficiency_unit, "efficiency_reliable": r.efficiency_reliable,
+        "at_resonance": r.at_resonance, "tuning_reactance_ohm": r.tuning_reactance_ohm,
         "radiansphere_radius_m": r.radiansphere_radius_m,
         "sphere_cap_resonance_radius_m": r.sphere_cap_resonance_radius_m,
         "warnings": list(r.warnings),
@@ -506,6 +511,8 @@ def budget_doc(res) -> dict[str, Any]:
     """The ``budget --json`` document (a ``budget.BudgetResult``): the worst frequency's values at
     the top (``max_range_m`` is the free-space range, as the contract says; ``max_range_model_m``
     the range in the model in use), every frequency listed."""
+    from ..budget import TX_CAUTION_GAMMA
+
     w = res.worst
     doc: dict[str, Any] = {"file": res.path}
     doc.update(budget_point_doc(w))
@@ -517,8 +524,11 @@ def budget_doc(res) -> dict[str, Any]:
         "path_loss_model": {"kind": res.path_loss_model, "exponent": res.path_loss_exponent,
                             "reference_distance_m": res.reference_distance_m},
         "eirp_limit_dbm": res.eirp_limit_dbm, "eirp_over_limit": res.eirp_over_limit,
+        "max_eirp_dbm": res.max_eirp_dbm, "max_eirp_f_hz": res.max_eirp_f_hz,
+        "tx_vswr_caution": any(p.tx.source != "none" and p.tx.gamma_mag > TX_CAUTION_GAMMA for p in res.points),
         "band": None if res.band is None else {"f_low_hz": res.band[0], "f_high_hz": res.band[1]},
-        "pass": res.closes,
+        "link_closes": res.closes,
+        "pass": res.passed,  # the exit status: the link closes and no frequency exceeds the EIRP limit
         "frequencies": [budget_point_doc(p) for p in res.points],
         "warnings": list(res.warnings),
     })

@@ -18,6 +18,19 @@ def _range_line(label: str, required_margin_db: float, range_m: float, zero_marg
             f"at zero margin: {range_text(zero_margin_range_m)}")
 
 
+def tx_vswr_caution(res: BudgetResult) -> str | None:
+    """The amplifier caution line when the transmit VSWR exceeds TX_CAUTION_VSWR somewhere, else None."""
+    from ...budget import TX_CAUTION_GAMMA, TX_CAUTION_VSWR
+
+    worst = max(res.points, key=lambda p: p.tx.gamma_mag)
+    if worst.tx.source == "none" or not worst.tx.gamma_mag > TX_CAUTION_GAMMA:
+        return None
+    g = worst.tx.gamma_mag
+    v = (1 + g) / (1 - g) if g < 1 else float("inf")
+    return (f"CAUTION: transmit VSWR {v:.3g} at {ff(worst.f_hz)} (above {TX_CAUTION_VSWR:g}): a high VSWR can "
+            "damage the transmitter's amplifier; check the radio's rating before transmitting.")
+
+
 def render(res: BudgetResult, con=None) -> None:
     """Terminal view of a BudgetResult (worst frequency first, then every frequency of a band)."""
     import math
@@ -29,9 +42,12 @@ def render(res: BudgetResult, con=None) -> None:
              f"path loss model: {model_words(res)}")
     show_table(con, "Budget (signed contributions to the received power)", ["item", "dB", "running total dBm"],
                [[r.name, fixed(r.value_db, 3), fixed(r.total_dbm, 2)] for r in w.rows])
-    eirp = f"{fixed(w.eirp_dbm)} dBm"
+    # the EIRP line is the highest EIRP over the frequencies (not the worst-margin one's)
+    eirp = f"{fixed(res.max_eirp_dbm)} dBm"
+    if res.band is not None or len(res.points) > 1:
+        eirp += f", the highest, at {ff(res.max_eirp_f_hz)}"
     if res.eirp_limit_dbm is not None:
-        eirp += f"  (your limit {res.eirp_limit_dbm:g} dBm: {'EXCEEDED' if w.eirp_dbm > res.eirp_limit_dbm else 'met'})"
+        eirp += f"  (your limit {res.eirp_limit_dbm:g} dBm: {'EXCEEDED' if res.eirp_over_limit else 'met'})"
     lines = [("EIRP", eirp), ("received power", f"{fixed(w.received_power_dbm)} dBm"),
              ("sensitivity", f"{fixed(res.rx_sensitivity_dbm)} dBm"),
              ("margin", f"{margin(w.margin_db, 2, 'dB', w.margin_db >= res.required_margin_db)} (required "
@@ -56,5 +72,8 @@ def render(res: BudgetResult, con=None) -> None:
                    [[ff(p.f_hz), fixed(p.tx.mismatch_loss_db, 3), fixed(p.rx.mismatch_loss_db, 3), fixed(p.eirp_dbm),
                      fixed(p.received_power_dbm), margin(p.margin_db, 2, "", p.margin_db >= res.required_margin_db),
                      range_text(p.max_range_model_m)] for p in res.points])
+    caution = tx_vswr_caution(res)
+    if caution is not None:
+        say(con, caution)
     say(con, f"{estimate_words(res)}, not a coverage prediction; EIRP and RF exposure limits are set by "
              "local regulation.")

@@ -8,6 +8,10 @@ import math
 from ... import feedline as fl
 from ...units import format_frequency as ff
 from . import console, fmt
+from .tables import say, show_table
+
+LIVE_FEED_CAUTION = ("Caution: working on live transmitter feeds and masts is dangerous; switch the transmitter "
+                     "off and follow your site's safety rules.")
 
 
 def describe_cable(cable) -> str:
@@ -75,44 +79,44 @@ def _fmt(x: float, digits: int = 2) -> str:
     return fmt(round(float(x), digits) + 0.0, digits)
 
 
-def render(r: fl.FeedlineResult, out: str | None = None) -> None:
+def render(r: fl.FeedlineResult, out: str | None = None, con=None) -> None:
     """Terminal view of a FeedlineResult; ``out`` names the file written, if any."""
-    from rich.table import Table
-
-    c = console()
+    c = con or console()
     way = "added toward the radio" if r.toward == "radio" else "removed toward the antenna (de-embedded)"
     c.print(f"[bold]{r.path}[/bold]  port {r.port}, Z0 {r.z0_ohm:g} ohm, {r.points} points")
     c.print(f"{describe_cable(r.cable)}: {way}")
     fa = r.feed_at
     if fa is not None and fa.f_hz.size:
-        t = Table(title="At chosen frequencies (all in dB except VSWR; RL = return loss, positive; S21 loss = "
-                        "insertion loss; 2 x loss = twice the cable's own matched loss; total = matched radio "
-                        "to antenna)",
-                  title_justify="left", show_edge=False)
-        for col in ("frequency", "S21 loss", "RL radio", "VSWR radio", "RL antenna", "VSWR ant.",
-                    "RL gained", "2 x loss", "line loss", "total loss"):
-            t.add_column(col, justify="right")
+        # the shared layout helper: a table where it fits the console, else the same cells stacked
+        headers = ["frequency", "S21 loss\ndB", "RL radio\ndB", "VSWR\nradio", "RL antenna\ndB", "VSWR\nantenna",
+                   "RL gained\ndB", "2 x loss\ndB", "line loss\ndB", "total loss\ndB"]
+        rows = [[ff(f), _fmt(fa.one_way_loss_db[k]), _fmt(fa.return_loss_radio_db[k]), _fmt(fa.vswr_radio[k]),
+                 _fmt(fa.return_loss_antenna_db[k]), _fmt(fa.vswr_antenna[k]), _fmt(fa.return_loss_improvement_db[k]),
+                 _fmt(fa.cable_share_db[k]), _fmt(fa.line_loss_db[k], 3), _fmt(fa.total_feed_loss_db[k], 3)]
+                for k, f in enumerate(fa.f_hz)]
+        # narrower: one row per quantity, one column per frequency (fits 80 columns for a few --at)
+        flat = [" ".join(h.split()) for h in headers[1:]]
+        narrow = (["quantity"] + [row[0] for row in rows], [[flat[j]] + [row[j + 1] for row in rows]
+                                                            for j in range(len(flat))], None)
+        show_table(c, "At chosen frequencies (RL = return loss, positive; S21 loss = insertion loss; 2 x loss = "
+                      "twice the cable's own matched loss; total = matched radio to antenna)", headers, rows,
+                   narrow=narrow)
         for k, f in enumerate(fa.f_hz):
-            t.add_row(ff(f), _fmt(fa.one_way_loss_db[k]), _fmt(fa.return_loss_radio_db[k]),
-                      _fmt(fa.vswr_radio[k]), _fmt(fa.return_loss_antenna_db[k]), _fmt(fa.vswr_antenna[k]),
-                      _fmt(fa.return_loss_improvement_db[k]), _fmt(fa.cable_share_db[k]),
-                      _fmt(fa.line_loss_db[k], 3), _fmt(fa.total_feed_loss_db[k], 3))
-        c.print(t)
-        for k, f in enumerate(fa.f_hz):
-            c.print(f"{ff(f)}: " + point_masking(fa, k))
+            say(c, f"{ff(f)}: " + point_masking(fa, k))
     for w in r.bands:
         span = "whole sweep" if r.whole_sweep else "band"
-        c.print(f"Over the {span} {ff(w.f_low_hz)} to {ff(w.f_high_hz)}:")
-        c.print(f"  one-way insertion loss (S21) {_fmt(w.one_way_loss_min_db)} to {_fmt(w.one_way_loss_max_db)} dB")
-        c.print(f"  worst return loss at the radio end {_fmt(w.worst_return_loss_radio_db)} dB "
+        say(c, f"Over the {span} {ff(w.f_low_hz)} to {ff(w.f_high_hz)}:")
+        say(c, f"  one-way insertion loss (S21) {_fmt(w.one_way_loss_min_db)} to {_fmt(w.one_way_loss_max_db)} dB")
+        say(c, f"  worst return loss at the radio end {_fmt(w.worst_return_loss_radio_db)} dB "
                 f"(at {ff(w.worst_return_loss_radio_f_hz)}), VSWR up to {_fmt(w.worst_vswr_radio)}")
-        c.print(f"  worst return loss at the antenna   {_fmt(w.worst_return_loss_antenna_db)} dB "
+        say(c, f"  worst return loss at the antenna   {_fmt(w.worst_return_loss_antenna_db)} dB "
                 f"(at {ff(w.worst_return_loss_antenna_f_hz)}), VSWR up to {_fmt(w.worst_vswr_antenna)}")
-        c.print(f"  total feed loss, matched radio into the antenna (1/G_T: cable loss and every mismatch) up to "
+        say(c, f"  total feed loss, matched radio into the antenna (1/G_T: cable loss and every mismatch) up to "
                 f"{_fmt(w.max_total_feed_loss_db, 3)} dB "
                 f"(at {ff(w.max_total_feed_loss_f_hz)})")
-        c.print(f"  at {ff(w.worst_return_loss_radio_f_hz)}: {band_masking(w)}")
+        say(c, f"  at {ff(w.worst_return_loss_radio_f_hz)}: {band_masking(w)}")
         if w.nonphysical_points:
             c.print(f"  [bold]{w.nonphysical_points} point(s) with |Gamma| > 1: non-physical[/bold]")
     if out:
         c.print(f"Wrote {out}")
+    say(c, LIVE_FEED_CAUTION)

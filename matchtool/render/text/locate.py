@@ -8,6 +8,7 @@ import math
 from ...locate import DYNAMIC_RANGE_DB, LocateResult, Peak
 from ...units import format_frequency as ff
 from . import console, fmt
+from .tables import show_table
 
 CAUTIONS = (
     "Distances are only as accurate as the velocity factor: 5 % off in VF is 5 % off in distance.",
@@ -64,8 +65,13 @@ def compensation_text(r: LocateResult) -> str:
 
 
 def listing_text(r: LocateResult) -> str:
-    floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
-    return (f"reflections above return loss {fmt(floor_rl, 1)} dB at the analyzer (the noise, and at most "
+    if r.floor_mag >= 1.0:
+        # a floor at or above total reflection is no return loss at all (it would read as negative dB)
+        above = f"|Gamma| {r.floor_mag:.3g} (above total reflection: the trace is not physical; check the calibration)"
+    else:
+        floor_rl = -20 * math.log10(r.floor_mag) if r.floor_mag > 0 else math.inf
+        above = f"return loss {fmt(floor_rl, 1)} dB"
+    return (f"reflections above {above} at the analyzer (the noise, and at most "
             f"{DYNAMIC_RANGE_DB:g} dB below the strongest unless --floor is given), standing out of their "
             f"surroundings and clear of stronger ones' window sidelobes, at least {r.min_separation_m:.3g} m apart; "
             "strongest first")
@@ -124,11 +130,9 @@ def touchstone_comments(r: LocateResult) -> list[str]:
     return out
 
 
-def render(r: LocateResult, out: str | None = None, uncompensated: bool = False) -> None:
+def render(r: LocateResult, out: str | None = None, uncompensated: bool = False, con=None) -> None:
     """Terminal view of a LocateResult."""
-    from rich.table import Table
-
-    c = console()
+    c = con or console()
     c.print(f"[bold]{r.path}[/bold]  port {r.port}, {r.points} points, {ff(r.f_start_hz)} to {ff(r.f_stop_hz)}, "
             f"step {ff(r.f_step_hz)}")
     c.print(f"Mode: {mode_text(r)}")
@@ -137,23 +141,22 @@ def render(r: LocateResult, out: str | None = None, uncompensated: bool = False)
     c.print(f"Range: {resolution_text(r)}; view 0 to {r.view_max_m:.4g} m")
     c.print(f"Listed: {listing_text(r)}")
     if r.peaks:
-        c.print("Reflections, strongest first (RL = return loss of that reflection alone, positive dB):")
-        t = Table(show_edge=False)
-        cols = ["#", "distance m", "RL dB", "|Gamma|"]
+        # the shared layout helper: a table where it fits, else the same cells stacked (never cut)
+        cols = ["#", "distance\nm", "RL\ndB", "|Gamma|"]
         if uncompensated or r.loss_compensated:
-            cols += ["RL analyzer", "2-way loss"]
+            cols += ["RL analyzer\ndB", "2-way loss\ndB"]
         if r.mode == "lowpass-step":
             cols.append("kind")
-        for col in cols:
-            t.add_column(col, justify="left" if col == "kind" else "right")
+        rows = []
         for k, p in enumerate(r.peaks, 1):
             row = [str(k), f"{p.distance_m:.3f}", fmt(p.return_loss_db), f"{p.reflection_mag:.4f}"]
             if uncompensated or r.loss_compensated:
                 row += [fmt(p.raw_return_loss_db), fmt(p.two_way_loss_db)]
             if r.mode == "lowpass-step":
                 row.append(KIND_TEXT.get(p.kind or "", "-"))
-            t.add_row(*row)
-        c.print(t)
+            rows.append(row)
+        show_table(c, "Reflections, strongest first (RL = return loss of that reflection alone, positive dB):",
+                   cols, rows, right=[c_ != "kind" for c_ in cols])
     c.print(f"Reading: {reading(r)}")
     for line in gate_text(r):
         c.print(line)

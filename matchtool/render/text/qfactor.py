@@ -29,12 +29,21 @@ def _z(r: float, x: float) -> str:
     return f"{r:.2f} {'+' if x >= 0 else '-'} j{abs(x):.2f} ohm"
 
 
+def _kind(r: QFactorResult) -> str:
+    """What f0 is: a resonance only where |X| is small against R; else the type and the tuning reactance."""
+    if r.at_resonance:
+        return f"{r.resonance} resonance"
+    slope = "rising" if r.resonance == "series" else "falling"
+    xt = r.tuning_reactance_ohm
+    return f"{r.resonance}-type (X {slope} with f); tuned by series {'+' if xt >= 0 else '-'}j{abs(xt):.2f} ohm"
+
+
 def rows(r: QFactorResult) -> list[tuple[str, str, str]]:
     """(quantity, value, note) rows of the table (shared with the HTML section)."""
     fit = r.fit
     out = [
         ("frequency f0", ff(r.f0_hz), CHOICE.get(r.f0_choice, r.f0_choice)),
-        ("impedance at f0", _z(r.r_ohm, r.x_ohm), f"{r.resonance} resonance"),
+        ("impedance at f0", _z(r.r_ohm, r.x_ohm), _kind(r)),
         ("Q (Yaghjian-Best Q_Z)", fmt(r.q, 2 if r.q < 100 else 1), f"+-{fmt(100 * r.q_rel_std, 1)} % fit error"),
         ("slope fit (cubic in omega)", f"{fit.points} points", f"{ff(fit.f_low_hz)} to {ff(fit.f_high_hz)}"),
         (f"potential band, VSWR {r.vswr:.3g}", _pct(r.fractional_bandwidth_potential),
@@ -58,7 +67,8 @@ def rows(r: QFactorResult) -> list[tuple[str, str, str]]:
         else:
             series = r.efficiency_model == "series"
             k, unit, what = (1.0, "ohm", "R") if series else (1e3, "mS", "G")
-            flag = "" if r.efficiency_in_range else " INVALID"
+            flag = "" if r.efficiency_reliable is not False else " UNRELIABLE"
+            flag = flag if r.efficiency_in_range else " INVALID"
             out.append(("radiation efficiency (cap)", _pct(r.efficiency, 1) + flag,
                         f"{what} {r.free_value * k:.4g} -> {r.capped_value * k:.4g} {unit}"))
             why = "X rises with f at f0" if series else "X falls with f at f0"
@@ -66,11 +76,11 @@ def rows(r: QFactorResult) -> list[tuple[str, str, str]]:
     return out
 
 
-def render(r: QFactorResult) -> None:
+def render(r: QFactorResult, con=None) -> None:
     """Terminal view of a QFactorResult."""
     from rich.table import Table
 
-    c = console()
+    c = con or console()
     c.print(f"[bold]{r.path}[/bold]  port {r.port}, Z0 {r.z0_ohm:g} ohm, {r.points} points")
     t = Table(show_edge=False)
     for col in ("quantity", "value", "note"):
