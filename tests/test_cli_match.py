@@ -208,6 +208,39 @@ def test_no_network_needed_json_and_terminal(cli, tmp_path):
     assert "solder" not in text  # no schematic to solder from
 
 
+def test_no_network_needed_whatever_the_candidates(cli, tmp_path):
+    # R = Z0, L = 40 nH at 915 MHz: |X| <= 6.6 ohm over 902-928 MHz, |Gamma| <= 0.066 (23.6 dB), at most
+    # 0.019 dB left to gain (derived: 10 log10(1 / (1 - 0.066^2)), Pozar 4th ed. eq. 2.53), below
+    # 0.2 dB: the verdict is "no network needed" however few networks are listed
+    p = write_rlc(tmp_path / "good.s1p", f0_hz=915e6, r_ohm=50.0, l_h=40e-9, lo_hz=800e6, hi_hz=1030e6, n=801)
+    for n in ("1", "2", "6"):
+        doc = cli("match", p, "--band", "902MHz:928MHz", "--candidates", n, "--json").json()
+        assert doc["no_network_needed"] is True, n
+        assert doc["candidates"][0]["topology"] == "direct" and doc["candidates"][0]["elements"] == []
+        assert len(doc["candidates"]) <= int(n)
+    t = cli("match", p, "--band", "902MHz:928MHz", "--candidates", "1")
+    assert t.code == 0, t.err
+    text = " ".join(t.out.split())
+    assert "no network needed" in text and "connect the antenna directly" in text
+    assert "listed above 'direct'" not in text and "solder" not in text
+
+
+def test_meaningful_networks_cut_before_direct_say_so(cli, tmp_path):
+    # a flat 95 ohm load: |Gamma| = 45/145, 10.16 dB, meets 10 dB; an L-section gains 0.44 dB
+    # (derived: 10 log10(1 / (1 - (45/145)^2)), Pozar 4th ed. eq. 2.53) > 0.2 dB, so networks come
+    # first; with --candidates 1 the direct connection is not listed and the text must not say it is
+    f = np.linspace(700e6, 1100e6, 801)
+    p = tmp_path / "r95.s1p"
+    p.write_text(s1p_text(f, np.full(f.size, 45 / 145, dtype=complex)))
+    doc = cli("match", p, "--band", "910MHz:920MHz", "--candidates", "1", "--json").json()
+    assert doc["before"]["meets_threshold"] is True and doc["no_network_needed"] is False
+    assert doc["candidates"][0]["elements"]
+    t = cli("match", p, "--band", "910MHz:920MHz", "--candidates", "1")
+    text = " ".join(t.out.split())
+    assert "listed above 'direct'" not in text
+    assert "every network listed gains more than 0.2 dB of delivered power over a direct connection" in text
+
+
 def test_missing_antenna_is_not_told_it_needs_nothing(cli, tmp_path):
     p = _ant(tmp_path)
     doc = cli("match", p, "--band", "902MHz:928MHz", "--json").json()

@@ -138,6 +138,19 @@ def no_network_text(r) -> str:
             f"{MEANINGFUL_GAIN_DB:g} dB of delivered power over a direct connection")
 
 
+def already_meets_text(r) -> str:
+    """The line for an antenna that meets the limit but gains from a network: which listed networks
+    beat the direct connection (it may lie beyond the listed ones, with a short ``--candidates``)."""
+    from ...matching import MEANINGFUL_GAIN_DB
+
+    head = f"The antenna already meets the limit {_target_text(r)}"
+    if any(not c.elements for c in r.candidates):
+        return (f"{head}; the networks listed above 'direct' gain more than {MEANINGFUL_GAIN_DB:g} dB of delivered "
+                "power over it.")
+    return (f"{head}; every network listed gains more than {MEANINGFUL_GAIN_DB:g} dB of delivered power over a "
+            "direct connection (not listed here: list more networks with --candidates to see it).")
+
+
 def short_of_threshold_text(r) -> str | None:
     """A warning when no listed network meets the limits over the target (None otherwise)."""
     with_parts = [c for c in r.candidates if c.elements]
@@ -323,10 +336,7 @@ def lines_of(r, width: int = 80) -> list[str]:
     if r.no_network_needed:
         out += _wrap(no_network_text(r), width)
     elif r.before_meets_threshold:
-        from ...matching import MEANINGFUL_GAIN_DB
-
-        out += _wrap(f"The antenna already meets the limit {_target_text(r)}; the networks listed above 'direct' "
-                     f"gain more than {MEANINGFUL_GAIN_DB:g} dB of delivered power over it.", width)
+        out += _wrap(already_meets_text(r), width)
     out.append("")
     out += _wrap(f"Networks, best first, ranked by {r.rank_by}; parts from the radio side (1) to the antenna side:",
                  width)
