@@ -651,3 +651,27 @@ def test_parts_measured_over_less_than_the_sweep_write_only_what_they_span(cli, 
         assert written.f[-1] <= 3.0e9 and written.f[0] == 2.5e9
     else:
         assert written.f[-1] == 3.5e9
+
+
+# ---------------------------------------------------------------- help texts
+
+@pytest.mark.parametrize(("command", "wanted"), [
+    ("match", "Which ranked network (1 = best) the --write-network and --write-matched files hold."),
+    ("plot", "Which ranked network to draw (1 = best)."),
+    ("report", "Which ranked network to draw (1 = best)."),
+])
+def test_pick_help_says_what_each_command_does_with_it(cli, command, wanted):
+    # plot and report have no --write-* options: their --pick help must not send the user there
+    import typer
+
+    from matchtool.cli import build_app
+
+    group = typer.main.get_command(build_app())
+    cmd = group.commands[command]
+    pick = next(p for p in cmd.params if "--pick" in getattr(p, "opts", ()))
+    assert pick.help == wanted
+    names = {o for p in cmd.params for o in getattr(p, "opts", ())}
+    assert any(o.startswith("--write-") for o in names) == (command == "match")
+    r = cli(command, "--help")  # and the help screen shows it
+    assert r.code == 0, r.err
+    assert " ".join(wanted.split()[:4]) in " ".join(r.out.split())

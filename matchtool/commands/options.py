@@ -297,7 +297,9 @@ LRangeOpt = Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
     help="Allowed inductor values [default: 0.5nH:10uH].")]
 CandidatesOpt = Annotated[int, typer.Option("--candidates", metavar="N", help="How many networks to list.")]
 PickOpt = Annotated[int, typer.Option("--pick", metavar="N",
-    help="Which ranked network the --write-* files hold.")]
+    help="Which ranked network to draw (1 = best).")]
+MatchPickOpt = Annotated[int, typer.Option("--pick", metavar="N",
+    help="Which ranked network (1 = best) the --write-network and --write-matched files hold.")]
 WriteNetworkOpt = Annotated[str | None, typer.Option("--write-network", metavar="FILE.s2p",
     help="Write the network as a 2-port (port 1 radio).")]
 WriteMatchedOpt = Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
