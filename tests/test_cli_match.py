@@ -452,6 +452,32 @@ def test_absolute_and_small_capacitor_tolerances(cli, tmp_path):
     assert n["yield"]["tolerance_inductor_h"] == pytest.approx(0.1e-9)
 
 
+DEVELOPER_NOTES = ("no source", "common practice", "from memory", "a choice", "derived")
+
+
+@pytest.mark.parametrize("extra", [
+    ("--tolerance", "5%"),
+    ("--tolerance", "5%", "--network", "pi", "--q-inductor", "40"),
+    ("--tolerance-capacitor", "0.05pF", "--series", "exact"),
+    ("--parts", "sample_sweeps/parts_0402_kit.toml", "--network", "pi"),
+])
+def test_match_output_carries_no_developer_notes(cli, tmp_path, extra):
+    # how a number is sourced belongs in code comments and docs; the user reads what it means
+    p = _ant(tmp_path)
+    base = ("match", p, "--band", "902MHz:928MHz", "--trials", "200", *extra)
+    t = cli(*base)
+    j = cli(*base, "--json")
+    assert t.code == 0 and j.code == 0, t.err + j.err
+    for text in (t.out, t.err, j.out, j.err):
+        flat = " ".join(text.split())
+        for note in DEVELOPER_NOTES:
+            assert note not in flat, (note, extra)
+    if extra[:2] == ("--tolerance", "5%"):
+        want = "(capacitors below 10 pF: +-0.1 pF, the usual tolerance of small chip capacitors)"
+        assert want in " ".join(t.out.split())
+        assert want in j.json()["yield"]["description"]
+
+
 def test_core_error_names_the_parameter_and_cli_the_flag(cli, tmp_path):
     from matchtool import matching as mt
     from matchtool.errors import UsageError

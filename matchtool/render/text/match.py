@@ -191,7 +191,9 @@ def bode_fano_text(report, proposal_rl_db: float | None) -> str | None:
 
 
 def tolerance_text(ys) -> str:
-    """``L +-5 %, C +-5 % (below 10 pF: +-0.1 pF)`` (or absolute values as given)."""
+    """``L +-5 %, C +-5 % (capacitors below 10 pF: +-0.1 pF, the usual tolerance of small chip
+    capacitors)`` (or absolute values as given). The +-0.1 pF is common practice, no source (see
+    :mod:`matchtool.matching.yield_`); that note stays here, out of the user's text."""
     from ...matching import SMALL_C_LIMIT_F
 
     lt = (f"+-{ys.tolerance_l_h / 1e-9:g} nH" if ys.tolerance_l_h is not None else f"+-{100 * ys.tolerance_l:g} %")
@@ -200,8 +202,8 @@ def tolerance_text(ys) -> str:
     else:
         ct = f"+-{100 * ys.tolerance_c:g} %"
         if ys.small_c_tolerance_f is not None:
-            ct += (f" (below {SMALL_C_LIMIT_F / 1e-12:g} pF: +-{ys.small_c_tolerance_f / 1e-12:g} pF, "
-                   "common practice, no source)")
+            ct += (f" (capacitors below {SMALL_C_LIMIT_F / 1e-12:g} pF: +-{ys.small_c_tolerance_f / 1e-12:g} pF, "
+                   "the usual tolerance of small chip capacitors)")
     return f"L {lt}, C {ct}"
 
 
@@ -367,7 +369,7 @@ def lines_of(r, width: int = 80) -> list[str]:
     if r.yield_settings is not None and r.candidates:
         ys = r.yield_settings
         tol = "each part within its own tolerance from the library" if lib is not None else tolerance_text(ys)
-        out += _wrap(f"Tolerance yield: {ys.trials} builds, {tol} (uniform, seed {ys.seed}): "
+        out += _wrap(f"Tolerance yield: {ys.trials} builds, {tol}; values drawn uniformly, seed {ys.seed}: "
                      f"{100 * (r.candidates[0].yield_fraction or 0):.1f} % of builds of #1 meet the limit "
                      f"{_target_text(r)}.", width)
     out.append("")
