@@ -478,6 +478,43 @@ def test_match_output_carries_no_developer_notes(cli, tmp_path, extra):
         assert want in j.json()["yield"]["description"]
 
 
+@pytest.mark.parametrize(("args", "line"), [
+    (("--tolerance", "150"), "error: --tolerance 150: must lie from 0 to below 100 %; expected a percentage"),
+    (("--tolerance", "abc"), "error: --tolerance abc: cannot read it as a tolerance; expected a percentage"),
+    (("--tolerance-capacitor", "150%"), "error: --tolerance-capacitor 150%: must lie from 0 to below 100 %"),
+    (("--tolerance-inductor", "0nH"), "error: --tolerance-inductor 0nH: must be a positive value; expected"),
+    (("--c-range", "1pF"), "error: --c-range 1pF: cannot read it as a range; expected LOW:HIGH"),
+    (("--c-range", "5pF:1pF"), "error: --c-range 5pF:1pF: the high end must lie above the low end; expected"),
+    (("--l-range", "x:1uH"), "error: --l-range x:1uH: the low end 'x' is not a positive part value; expected"),
+    (("--write-network", "net.s1p"), "error: --write-network net.s1p: needs a .s2p file name"),
+    (("--write-matched", "m.s2p"), "error: --write-matched m.s2p: needs a .s1p file name"),
+    (("--pick", "99", "--write-network", "net.s2p"), "error: --pick 99: no network of that rank"),
+])
+def test_option_errors_name_the_flag_with_what_was_expected(cli, tmp_path, monkeypatch, args, line):
+    # an option is a flag, not a file key; every error says what was expected
+    monkeypatch.chdir(tmp_path)
+    p = _ant(tmp_path)
+    r = cli("match", p, "--band", "902MHz:928MHz", *args)
+    assert r.code == 2
+    assert len(r.err_lines) == 1 and r.err_lines[0].startswith(line), r.err
+    assert "key '" not in r.err and "; expected " in r.err
+    assert not (tmp_path / "net.s2p").exists() and not (tmp_path / "net.s1p").exists()
+
+
+def test_option_parsers_raise_in_core_terms():
+    from matchtool.commands import options as opt
+    from matchtool.errors import UsageError
+
+    for call, name in ((lambda: opt.parse_percent("150", "tolerance"), "tolerance"),
+                       (lambda: opt.parse_tolerance("1x", "F", "tolerance_capacitor"), "tolerance_capacitor"),
+                       (lambda: opt.parse_part_value("-1pF", "F", "c_range_f"), "c_range_f"),
+                       (lambda: opt.parse_range("2nH:1nH", "H", "l_range_h", (0, 1)), "l_range_h")):
+        with pytest.raises(UsageError) as e:
+            call()
+        assert e.value.parameter == name and e.value.key is None
+        assert name in opt.PARAMETER_FLAGS
+
+
 def test_core_error_names_the_parameter_and_cli_the_flag(cli, tmp_path):
     from matchtool import matching as mt
     from matchtool.errors import UsageError
