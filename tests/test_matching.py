@@ -426,6 +426,20 @@ def test_errors_outside_sweep_and_narrow_band():
         m.design_for_band(sw, 902e6, 905e6)
 
 
+def test_band_sample_minimum_is_the_one_of_bands():
+    # one definition of the minimum (matchtool.bands); 4 MHz steps (derived: 400 MHz / 100)
+    from matchtool import bands
+
+    assert m.MIN_BAND_SAMPLES is bands.MIN_BAND_SAMPLES
+    assert "MIN_BAND_SAMPLES =" not in (Path(m.__file__).parent / "propose.py").read_text()
+    sw = _sweep(lambda f: series_rlc_z(f, 20.0, 30e-9, 880e6), n=101)
+    n = bands.MIN_BAND_SAMPLES
+    lo = 900e6 - 1e6  # samples at 900, 904, ... MHz: a band from 899 MHz holds n of them up to 899 + 4 n
+    with pytest.raises(UsageError, match=f"holds only {n - 1} measured sample"):
+        m.design_for_band(sw, lo, lo + 4e6 * (n - 1))
+    assert m.design_for_band(sw, lo, lo + 4e6 * n).candidates
+
+
 def test_reactive_load_has_no_solution():
     sw = _sweep(lambda f: 1j * W * f * 10e-9)
     with pytest.raises(NoSolutionError):
@@ -532,6 +546,33 @@ def test_meaningful_gain_puts_networks_above_direct():
     assert floor == pytest.approx(1 - (45 / 145) ** 2, rel=1e-9)
     assert all(c.worst_delivered_fraction > floor * gain for c in r.candidates[:k])
     assert all(floor < c.worst_delivered_fraction <= floor * gain for c in r.candidates[k + 1:])
+
+
+def test_verdict_does_not_depend_on_how_many_networks_are_listed():
+    # series RLC, R = Z0, L = 40 nH at 915 MHz: over 902-928 MHz X = w L - 1/(w C) stays within
+    # +-6.6 ohm (derived: 2 L dw = 2 x 40 nH x 2 pi x 13 MHz = 6.5 ohm), |Gamma| <= 0.066, 23.6 dB: it
+    # meets 10 dB and at most 10 log10(1 / (1 - 0.066^2)) = 0.019 dB is left to gain (Pozar 4th ed.
+    # eq. 2.53: delivered = 1 - |Gamma|^2), below MEANINGFUL_GAIN_DB. Many small L-sections gain a
+    # trace over the wire, which once filled the few networks kept for --candidates 1.
+    sw = _sweep(lambda f: series_rlc_z(f, 50.0, 40e-9, 915e6))
+    f = np.linspace(902e6, 928e6, 2001)
+    g_max = float(np.abs(gamma_of(series_rlc_z(f, 50.0, 40e-9, 915e6))).max())
+    assert -10 * math.log10(1 - g_max ** 2) < m.MEANINGFUL_GAIN_DB
+    full = m.design_for_band(sw, 902e6, 928e6, max_candidates=6)
+    assert full.no_network_needed and sum(bool(c.elements) for c in full.candidates) >= 2
+    for n in (1, 2, 3, 6, 9):
+        r = m.design_for_band(sw, 902e6, 928e6, max_candidates=n)
+        assert r.no_network_needed, n
+        assert r.candidates[0].topology == "direct" and r.candidates[0].elements == ()
+        assert r.candidates[0].worst_return_loss_db == pytest.approx(-20 * math.log10(g_max), abs=0.01)
+        assert len(r.candidates) <= n
+        # the list for n is the first n of the same ranking
+        short = [(c.topology, tuple(e.value for e in c.elements)) for c in r.candidates]
+        ref = [(c.topology, tuple(e.value for e in c.elements)) for c in full.candidates][:len(short)]
+        if n <= 6:
+            assert short == ref, n
+    spot = m.design_at(sw, 902e6, max_candidates=1)  # |Gamma| 0.066 at the band edge: meets too
+    assert spot.no_network_needed and spot.candidates[0].elements == ()
 
 
 def test_antenna_missing_threshold_gets_no_direct_option():

@@ -385,3 +385,30 @@ def test_a_75_ohm_system_uses_the_measured_parts_at_75_ohm(kit):
     assert c.worst_return_loss_db == pytest.approx(float((-20 * np.log10(np.abs(gin[IN_BAND]))).min()), abs=1e-6)
     assert c.worst_delivered_fraction == pytest.approx(float(gt[IN_BAND].min()), rel=1e-6)
     np.testing.assert_allclose(c.network_2port().s, two75.s, atol=1e-9)
+
+
+def test_proposal_for_plot_and_report_picks_from_the_library(kit):
+    # proposal.propose (plot --match, the report's match section) with a parts library: the same
+    # ranking as matching.propose, and the sweep through network #pick is the scikit-rf cascade of
+    # the part files with the antenna (independent of matchtool, see _skrf_figures)
+    from matchtool.proposal import MatchRequest
+    from matchtool.proposal import propose as proposal_propose
+
+    lib, folder = kit
+    ant = _antenna(7)
+    r = mt.propose(ant, bands=[BAND], parts=lib, max_candidates=6)
+    with_parts = [k for k, c in enumerate(r.candidates, start=1) if c.elements]
+    assert with_parts
+    pick = with_parts[0]
+    pm = proposal_propose(ant, MatchRequest(band_hz=BAND, parts=lib, pick=pick))
+    assert pm.result.parts_library is lib and pm.result.series == "library"
+    assert pm.candidate.parts and [p.label for p in pm.candidate.parts] == [p.label for p in r.candidates[pick - 1].parts]
+    assert pm.candidate.worst_return_loss_db == pytest.approx(r.candidates[pick - 1].worst_return_loss_db, abs=1e-12)
+    rl, _, gin, _ = _skrf_figures(pm.candidate, folder, ant)
+    assert pm.candidate.worst_return_loss_db == pytest.approx(rl, abs=1e-6)
+    np.testing.assert_allclose(pm.f_after_hz, ant.f)
+    np.testing.assert_allclose(pm.gamma_after, gin, atol=1e-9)
+    # without a library: standard values, as before, on the sweep's frequencies
+    std = proposal_propose(ant, MatchRequest(band_hz=BAND))
+    assert std.result.parts_library is None and not std.candidate.parts
+    np.testing.assert_allclose(std.f_after_hz, ant.f)

@@ -31,6 +31,7 @@ from .options import (  # noqa: F401  (re-exported: the option types of match, s
     CandidatesOpt,
     CRangeOpt,
     LRangeOpt,
+    MatchPickOpt,
     MatchSpecOpt,
     NetworkOpt,
     PartsOpt,
@@ -96,9 +97,9 @@ def yield_settings(tolerance: str | None, tolerance_l: str | None, tolerance_c: 
                    seed: int) -> mt.YieldSettings | None:
     """The yield settings of ``--tolerance`` / ``--tolerance-inductor`` / ``--tolerance-capacitor``
     (percentages or absolute values), or None when no tolerance is given."""
-    tol = parse_percent(tolerance, "--tolerance")
-    tl_rel, tl_abs = parse_tolerance(tolerance_l, "H", "--tolerance-inductor")
-    tc_rel, tc_abs = parse_tolerance(tolerance_c, "F", "--tolerance-capacitor")
+    tol = parse_percent(tolerance, "tolerance")
+    tl_rel, tl_abs = parse_tolerance(tolerance_l, "H", "tolerance_inductor")
+    tc_rel, tc_abs = parse_tolerance(tolerance_c, "F", "tolerance_capacitor")
     if tol is None and tolerance_l is None and tolerance_c is None:
         return None
     small_c = mt.SMALL_C_TOLERANCE_F if tolerance_c is None else None
@@ -116,7 +117,7 @@ def _check_parts_options(parts: str | None, given: dict[str, object], series: st
     if series.strip().upper() != "E24":
         clash.insert(0, "--series")
     if clash:
-        raise UsageError(f"{', '.join(clash)} cannot be used with --parts", key="--parts",
+        raise UsageError(f"{', '.join(clash)} cannot be used with --parts",
                          expected="the library's parts with their own values, Q, self-resonance and tolerance")
 
 
@@ -139,7 +140,8 @@ def _targets(at: str | None, band: list[str] | None, spec: str | None, port: int
 
 def _check_outputs(o: MatchOptions, sweep: str, force: bool) -> None:
     if o.write_network and o.write_matched and Path(o.write_network).resolve() == Path(o.write_matched).resolve():
-        raise UsageError("--write-network and --write-matched name the same file", path=o.write_network)
+        raise UsageError("--write-network and --write-matched name the same file", path=o.write_network,
+                         expected="two different file names")
     for path in (o.write_network, o.write_matched):
         if path is not None:
             check_output(path, force)
@@ -147,14 +149,17 @@ def _check_outputs(o: MatchOptions, sweep: str, force: bool) -> None:
                 raise UsageError("the output would overwrite the input sweep", path=path,
                                  expected="an output file name that is not the input")
     if o.write_network is not None and not o.write_network.lower().endswith(".s2p"):
-        raise UsageError("--write-network needs a .s2p file name", path=o.write_network)
+        raise UsageError("needs a .s2p file name (the network is a 2-port)", parameter="write_network",
+                         value=o.write_network, expected="a file name ending in .s2p, e.g. net.s2p")
     if o.write_matched is not None and not o.write_matched.lower().endswith(".s1p"):
-        raise UsageError("--write-matched needs a .s1p file name", path=o.write_matched)
+        raise UsageError("needs a .s1p file name (the matched antenna is a 1-port)", parameter="write_matched",
+                         value=o.write_matched, expected="a file name ending in .s1p, e.g. ant_matched.s1p")
 
 
 def _write(r: mt.MatchResult, o: MatchOptions, sw, force: bool) -> None:
     if not 1 <= o.pick <= len(r.candidates):
-        raise UsageError(f"--pick {o.pick}", expected=f"a rank from 1 to {len(r.candidates)}")
+        raise UsageError(f"no network of that rank ({len(r.candidates)} listed)", parameter="pick", value=o.pick,
+                         expected=f"a rank from 1 to {len(r.candidates)}")
     chosen = r.candidates[o.pick - 1]
     desc = "; ".join(f"{e.connection} {e.kind} {part_value_text(e, 6)}" + (f" ({e.label})" if e.label else "")
                      for e in chosen.elements) or "no parts"
@@ -198,7 +203,7 @@ def register(app: typer.Typer) -> None:
         c_range: CRangeOpt = None,
         l_range: LRangeOpt = None,
         count: CandidatesOpt = 6,
-        pick: PickOpt = 1,
+        pick: MatchPickOpt = 1,
         write_network: WriteNetworkOpt = None,
         write_matched: WriteMatchedOpt = None,
         parts: PartsOpt = None,
@@ -218,11 +223,11 @@ def register(app: typer.Typer) -> None:
                                      "--tolerance-capacitor": tolerance_c, "--c-range": c_range,
                                      "--l-range": l_range}, series)
         f0, bands, port_used = _targets(at, band, spec, port, thr)
-        c_lo, c_hi = parse_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
-        l_lo, l_hi = parse_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
+        c_lo, c_hi = parse_range(c_range, "F", "c_range_f", (0.1e-12, 100e-9))
+        l_lo, l_hi = parse_range(l_range, "H", "l_range_h", (0.5e-9, 10e-6))
         o = MatchOptions(
             f0, bands, tuple(parse_band(b) for b in show_band or ()), network.strip().lower(), series,
-            mt.PartQ(part_q(q_inductor, "--q-inductor"), part_q(q_capacitor, "--q-capacitor")),
+            mt.PartQ(part_q(q_inductor, "q_inductor"), part_q(q_capacitor, "q_capacitor")),
             mt.ValueBounds(c_lo, c_hi, l_lo, l_hi), thr, yield_settings(tolerance, tolerance_l, tolerance_c, trials, seed),
             count, pick, port_used, write_network, write_matched, parts)
         _check_outputs(o, sweep, force)

@@ -73,12 +73,15 @@ PARAMETER_FLAGS: dict[str, str] = {
     "network": "--network",
     "bands": "--band",
     "target": "--at or --band",
+    "tolerance": "--tolerance",
     "tolerance_inductor": "--tolerance-inductor",
     "tolerance_capacitor": "--tolerance-capacitor",
     "trials": "--trials",
     "seed": "--seed",
     "max_candidates": "--candidates",
     "parts": "--parts",
+    "write_network": "--write-network",
+    "write_matched": "--write-matched",
 }
 
 
@@ -257,9 +260,9 @@ def match_request(at: str | float | None, band: str | tuple[float, float] | None
 
     if (at is None) == (band is None):
         raise UsageError(f"give exactly one of {option_names[0]} FREQ or {option_names[1]} LOW:HIGH for the match")
-    q = PartQ(part_q(q_inductor, "--q-inductor"), part_q(q_capacitor, "--q-capacitor"))
-    c_lo, c_hi = parse_range(c_range, "F", "--c-range", (0.1e-12, 100e-9))
-    l_lo, l_hi = parse_range(l_range, "H", "--l-range", (0.5e-9, 10e-6))
+    q = PartQ(part_q(q_inductor, "q_inductor"), part_q(q_capacitor, "q_capacitor"))
+    c_lo, c_hi = parse_range(c_range, "F", "c_range_f", (0.1e-12, 100e-9))
+    l_lo, l_hi = parse_range(l_range, "H", "l_range_h", (0.5e-9, 10e-6))
     f0 = None if at is None else (parse_frequency(at) if isinstance(at, str) else float(at))
     target = None if band is None else (parse_band(band) if isinstance(band, str) else (float(band[0]), float(band[1])))
     return MatchRequest(f0_hz=f0, band_hz=target, series=series, q=q, bounds=ValueBounds(c_lo, c_hi, l_lo, l_hi),
@@ -297,7 +300,9 @@ LRangeOpt = Annotated[str | None, typer.Option("--l-range", metavar="LOW:HIGH",
     help="Allowed inductor values [default: 0.5nH:10uH].")]
 CandidatesOpt = Annotated[int, typer.Option("--candidates", metavar="N", help="How many networks to list.")]
 PickOpt = Annotated[int, typer.Option("--pick", metavar="N",
-    help="Which ranked network the --write-* files hold.")]
+    help="Which ranked network to draw (1 = best).")]
+MatchPickOpt = Annotated[int, typer.Option("--pick", metavar="N",
+    help="Which ranked network (1 = best) the --write-network and --write-matched files hold.")]
 WriteNetworkOpt = Annotated[str | None, typer.Option("--write-network", metavar="FILE.s2p",
     help="Write the network as a 2-port (port 1 radio).")]
 WriteMatchedOpt = Annotated[str | None, typer.Option("--write-matched", metavar="FILE.s1p",
@@ -309,59 +314,89 @@ PartsOpt = Annotated[str | None, typer.Option("--parts", metavar="LIB.toml",
 _PREFIX = {"": 1.0, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3}
 
 
-def parse_part_value(text: str, unit: str, option: str) -> float:
-    """``'0.1pF'``, ``'10 uH'``, ``'2.2e-12'`` -> value in SI (F or H)."""
+def _part_value(text: str, unit: str) -> float | None:
+    """``'0.1pF'`` -> 1e-13 (SI), or None when the text is not a part value."""
     m = re.fullmatch(rf"\s*([0-9.]+(?:[eE][-+]?\d+)?)\s*([fpnuµm]?)\s*(?:{unit})?\s*", str(text))
     if not m:
-        raise UsageError(f"cannot read part value {text!r}", key=option, expected=f"a value such as 2.2p{unit} or 2.2e-12")
+        return None
     try:
-        v = float(m.group(1)) * _PREFIX[m.group(2)]
-    except ValueError as exc:
-        raise UsageError(f"cannot read part value {text!r}", key=option) from exc
+        return float(m.group(1)) * _PREFIX[m.group(2)]
+    except ValueError:
+        return None
+
+
+def _value_hint(unit: str) -> str:
+    return f"a positive value such as 2.2p{unit}, 10n{unit} or 2.2e-12" if unit == "F" else \
+        f"a positive value such as 2.2n{unit}, 1u{unit} or 2.2e-9"
+
+
+def parse_part_value(text: str, unit: str, parameter: str) -> float:
+    """``'0.1pF'``, ``'10 uH'``, ``'2.2e-12'`` -> value in SI (F or H). Errors name ``parameter``
+    (a core name, shown as its flag through PARAMETER_FLAGS)."""
+    v = _part_value(text, unit)
+    if v is None:
+        raise UsageError("cannot read it as a part value", parameter=parameter, value=str(text).strip(),
+                         expected=_value_hint(unit))
     if not (v > 0 and math.isfinite(v)):
-        raise UsageError(f"part value {text!r}", key=option, expected="a positive value")
+        raise UsageError("must be a positive value", parameter=parameter, value=str(text).strip(),
+                         expected=_value_hint(unit))
     return v
 
 
-def parse_range(text: str | None, unit: str, option: str, default: tuple[float, float]) -> tuple[float, float]:
-    """``'0.1pF:100nF'`` -> (low, high) in SI."""
+def parse_range(text: str | None, unit: str, parameter: str, default: tuple[float, float]) -> tuple[float, float]:
+    """``'0.1pF:100nF'`` -> (low, high) in SI; ``default`` without a text."""
     if text is None:
         return default
-    parts = str(text).split(":")
+    shown = str(text).strip()
+    example = "0.5pF:100nF" if unit == "F" else "0.5nH:10uH"
+    parts = shown.split(":")
     if len(parts) != 2:
-        raise UsageError(f"cannot read range {text!r}", key=option, expected=f"LOW:HIGH, e.g. 0.5n{unit}:10u{unit}")
-    lo, hi = (parse_part_value(p, unit, option) for p in parts)
+        raise UsageError("cannot read it as a range", parameter=parameter, value=shown,
+                         expected=f"LOW:HIGH, e.g. {example}")
+    ends = []
+    for side, p in zip(("low", "high"), parts, strict=True):
+        v = _part_value(p, unit)
+        if v is None or not (v > 0 and math.isfinite(v)):
+            raise UsageError(f"the {side} end {p.strip()!r} is not a positive part value", parameter=parameter,
+                             value=shown, expected=f"LOW:HIGH, e.g. {example}")
+        ends.append(v)
+    lo, hi = ends
     if not hi > lo:
-        raise UsageError(f"range {text!r} has its high end at or below its low end", key=option)
+        raise UsageError("the high end must lie above the low end", parameter=parameter, value=shown,
+                         expected=f"LOW:HIGH with LOW < HIGH, e.g. {example}")
     return lo, hi
 
 
-def parse_percent(text: str | None, option: str) -> float | None:
-    """``'5%'`` or ``'5'`` -> 0.05 (a fraction); None stays None."""
+def parse_percent(text: str | None, parameter: str, absolute_example: str | None = None) -> float | None:
+    """``'5%'`` or ``'5'`` -> 0.05 (a fraction); None stays None. ``absolute_example`` (e.g.
+    ``'0.05pF'``): the option also takes an absolute value, and the error says so."""
     if text is None:
         return None
-    t = str(text).strip().rstrip("%").strip()
+    shown = str(text).strip()
+    t = shown.rstrip("%").strip()
+    hint = "a percentage such as 5%" + (f" or an absolute value such as {absolute_example}"
+                                         if absolute_example else "")
     try:
         v = float(t)
     except ValueError:
-        raise UsageError(f"cannot read tolerance {text!r}", key=option,
-                         expected="a percentage such as 5% or an absolute value such as 0.05pF") from None
+        raise UsageError("cannot read it as a tolerance", parameter=parameter, value=shown, expected=hint) from None
     if not (0 <= v < 100 and math.isfinite(v)):
-        raise UsageError(f"tolerance {text!r}", key=option, expected="a percentage from 0 to below 100")
+        raise UsageError("must lie from 0 to below 100 %", parameter=parameter, value=shown, expected=hint)
     return v / 100.0
 
 
-def parse_tolerance(text: str | None, unit: str, option: str) -> tuple[float | None, float | None]:
+def parse_tolerance(text: str | None, unit: str, parameter: str) -> tuple[float | None, float | None]:
     """A tolerance as (fraction, None) for ``'5%'`` / ``'5'``, or (None, absolute SI) for ``'0.05pF'``."""
     if text is None:
         return None, None
     t = str(text).strip()
     if re.search(rf"[fpnuµm]?{unit}\s*$", t) or re.search(r"[fpnuµ]\s*$", t):
-        return None, parse_part_value(t, unit, option)
-    return parse_percent(t, option), None
+        return None, parse_part_value(t, unit, parameter)
+    return parse_percent(t, parameter, "0.05pF" if unit == "F" else "0.1nH"), None
 
 
-def part_q(value: float | None, option: str) -> float:
-    """A --q-inductor / --q-capacitor value: None means an ideal part (infinite Q). ``matching.PartQ``
-    checks that Q is positive (and names the parameter, which the CLI maps to ``option``)."""
+def part_q(value: float | None, parameter: str) -> float:
+    """A --q-inductor / --q-capacitor value (``parameter`` "q_inductor" / "q_capacitor"): None means
+    an ideal part (infinite Q). ``matching.PartQ`` checks that Q is positive and names the parameter,
+    which the CLI maps to the flag."""
     return math.inf if value is None else float(value)

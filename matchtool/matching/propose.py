@@ -32,7 +32,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .. import eseries
-from ..bands import Band, band_samples, find_bands
+from ..bands import MIN_BAND_SAMPLES, Band, band_samples, find_bands
 from ..errors import NoSolutionError, UsageError
 from ..parts import Part, PartsLibrary
 from ..reflection import impedance_ohm, return_loss_db
@@ -60,11 +60,12 @@ from .network import (
 from .optimise import nelder_mead
 from .yield_ import YieldSettings, build_yield
 
-MIN_BAND_SAMPLES = 3
 ROUGH_FIT = 0.1  # relative rms misfit of the resonator model above which the bound is flagged
 LOSSLESS_TOL = 1e-9  # |Gamma| within this of 1 counts as a lossless (unmatchable) load
 NETWORKS = ("l", "pi", "tee")
 SIMPLER_GAIN_DB = 0.01  # a network with more parts is listed only when it beats every simpler one by more
+RANKED_POOL = 6  # the search ranks at least this many networks (plus a margin), however few are listed, so
+# that the ranking and the verdict (direct connection first or not) never depend on ``max_candidates``
 # Parts whose value is comparable to the parasitics of the pads they sit on (an 0402 pad pair is
 # about 0.1-0.3 pF to ground and a few tenths of a nH; common practice, no source)
 PAD_SCALE_C_F = 0.5e-12
@@ -437,7 +438,7 @@ def _step_search(run: _Run) -> None:
                 opts.append(o)
                 run.option_parts[(fp, j)] = behind
             options[fp] = opts
-        run.found = srch.search(p, fps, options, run.max_candidates + 3, 10 ** (SIMPLER_GAIN_DB / 10))
+        run.found = srch.search(p, fps, options, _pool(run), 10 ** (SIMPLER_GAIN_DB / 10))
         return
     exact = run.series == "exact"
     options = {}
@@ -458,7 +459,7 @@ def _step_search(run: _Run) -> None:
                 per_kind[kind] = vals
             opts.append(srch.options_for(conn, per_kind["inductor"], per_kind["capacitor"], p))
         options[fp] = opts
-    keep = run.max_candidates + 3
+    keep = _pool(run)
     found = srch.search(p, fps, options, keep, 10 ** (SIMPLER_GAIN_DB / 10))
     if exact:
         seeds = _closed_form_seeds(run, fps)
@@ -470,6 +471,20 @@ def _step_search(run: _Run) -> None:
                 seeds += _placements(_elements(fd)[0], fps)
         found = _refine(run, fps, found + seeds, keep)
     run.found = found
+
+
+def _pool(run: _Run) -> int:
+    """How many circuits the search keeps for ranking: never fewer than RANKED_POOL + 3, so that the
+    list for ``max_candidates`` N is the first N of the same ranking."""
+    return max(run.max_candidates, RANKED_POOL) + 3
+
+
+def _direct(run: _Run) -> srch.Found:
+    """The direct connection (no part on any position) as a found circuit, with its cost."""
+    fp = srch.FOOTPRINTS[run.network][0]
+    k = len(fp.connections)
+    kinds, values = (srch.NONE,) * k, (math.nan,) * k
+    return srch.Found(srch.cost_of(run.problem, fp.connections, kinds, values), fp, kinds, values, (0,) * k)
 
 
 def _closed_form_seeds(run: _Run, fps) -> list[srch.Found]:
@@ -589,7 +604,12 @@ def topology_name(footprint: str, elements: Sequence[Element]) -> str:
 def _step_rank(run: _Run) -> None:
     """Best first; a direct connection only when the antenna meets the limits; networks with more
     parts only when they beat every simpler one by more than SIMPLER_GAIN_DB."""
-    found = sorted(run.found, key=lambda f: f.cost)
+    found = list(run.found)
+    if run.meets and not any(all(k == srch.NONE for k in fd.kinds) for fd in found):
+        # the search keeps the best few by cost; networks that gain a trace over a wire can fill
+        # them all, but an antenna that already meets the limit is always compared with the wire
+        found.append(_direct(run))
+    found.sort(key=lambda f: f.cost)
     kept: list[srch.Found] = []
     for fd in found:
         n = sum(k != srch.NONE for k in fd.kinds)

@@ -138,6 +138,19 @@ def no_network_text(r) -> str:
             f"{MEANINGFUL_GAIN_DB:g} dB of delivered power over a direct connection")
 
 
+def already_meets_text(r) -> str:
+    """The line for an antenna that meets the limit but gains from a network: which listed networks
+    beat the direct connection (it may lie beyond the listed ones, with a short ``--candidates``)."""
+    from ...matching import MEANINGFUL_GAIN_DB
+
+    head = f"The antenna already meets the limit {_target_text(r)}"
+    if any(not c.elements for c in r.candidates):
+        return (f"{head}; the networks listed above 'direct' gain more than {MEANINGFUL_GAIN_DB:g} dB of delivered "
+                "power over it.")
+    return (f"{head}; every network listed gains more than {MEANINGFUL_GAIN_DB:g} dB of delivered power over a "
+            "direct connection (not listed here: list more networks with --candidates to see it).")
+
+
 def short_of_threshold_text(r) -> str | None:
     """A warning when no listed network meets the limits over the target (None otherwise)."""
     with_parts = [c for c in r.candidates if c.elements]
@@ -178,7 +191,9 @@ def bode_fano_text(report, proposal_rl_db: float | None) -> str | None:
 
 
 def tolerance_text(ys) -> str:
-    """``L +-5 %, C +-5 % (below 10 pF: +-0.1 pF)`` (or absolute values as given)."""
+    """``L +-5 %, C +-5 % (capacitors below 10 pF: +-0.1 pF, the usual tolerance of small chip
+    capacitors)`` (or absolute values as given). The +-0.1 pF is common practice, no source (see
+    :mod:`matchtool.matching.yield_`); that note stays here, out of the user's text."""
     from ...matching import SMALL_C_LIMIT_F
 
     lt = (f"+-{ys.tolerance_l_h / 1e-9:g} nH" if ys.tolerance_l_h is not None else f"+-{100 * ys.tolerance_l:g} %")
@@ -187,8 +202,8 @@ def tolerance_text(ys) -> str:
     else:
         ct = f"+-{100 * ys.tolerance_c:g} %"
         if ys.small_c_tolerance_f is not None:
-            ct += (f" (below {SMALL_C_LIMIT_F / 1e-12:g} pF: +-{ys.small_c_tolerance_f / 1e-12:g} pF, "
-                   "common practice, no source)")
+            ct += (f" (capacitors below {SMALL_C_LIMIT_F / 1e-12:g} pF: +-{ys.small_c_tolerance_f / 1e-12:g} pF, "
+                   "the usual tolerance of small chip capacitors)")
     return f"L {lt}, C {ct}"
 
 
@@ -323,10 +338,7 @@ def lines_of(r, width: int = 80) -> list[str]:
     if r.no_network_needed:
         out += _wrap(no_network_text(r), width)
     elif r.before_meets_threshold:
-        from ...matching import MEANINGFUL_GAIN_DB
-
-        out += _wrap(f"The antenna already meets the limit {_target_text(r)}; the networks listed above 'direct' "
-                     f"gain more than {MEANINGFUL_GAIN_DB:g} dB of delivered power over it.", width)
+        out += _wrap(already_meets_text(r), width)
     out.append("")
     out += _wrap(f"Networks, best first, ranked by {r.rank_by}; parts from the radio side (1) to the antenna side:",
                  width)
@@ -357,7 +369,7 @@ def lines_of(r, width: int = 80) -> list[str]:
     if r.yield_settings is not None and r.candidates:
         ys = r.yield_settings
         tol = "each part within its own tolerance from the library" if lib is not None else tolerance_text(ys)
-        out += _wrap(f"Tolerance yield: {ys.trials} builds, {tol} (uniform, seed {ys.seed}): "
+        out += _wrap(f"Tolerance yield: {ys.trials} builds, {tol}; values drawn uniformly, seed {ys.seed}: "
                      f"{100 * (r.candidates[0].yield_fraction or 0):.1f} % of builds of #1 meet the limit "
                      f"{_target_text(r)}.", width)
     out.append("")
