@@ -27,6 +27,9 @@ Q is Yaghjian-Best Q_Z from R, X and their slopes (a local cubic fit, stated in 
 The bandwidth potential is what a lossless single-resonator match at f0 could reach; the
 Chu-McLean bound needs --radius, the radius of the smallest sphere enclosing the antenna; the
 cap method needs a second sweep of the same antenna inside a closed metal cap (low power).
+The efficiency is marked UNRELIABLE when the capped resonance lies outside the free antenna's
+half-power band f0 +- f0/(2Q). f0 is called a resonance only where |X| <= 0.1 R; elsewhere the
+output names the series reactance that would tune it.
 """
 
 
