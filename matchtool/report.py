@@ -65,7 +65,7 @@ class ReportContext:
     @property
     def failed(self) -> bool:
         """A spec requirement failed, or the budget misses its required margin."""
-        return bool(self.comparison.spec_failed or (self.budget is not None and not self.budget.closes))
+        return bool(self.comparison.spec_failed or (self.budget is not None and not self.budget.passed))
 
     @property
     def judged(self) -> bool:

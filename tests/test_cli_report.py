@@ -340,3 +340,23 @@ def test_sweeps_section_honours_min_band_width(cli, tmp_path):
         assert sweeps.count("wide)") == noise and "Noise-level crossings, not bands" in sweeps
         assert ("none wide enough to count" in sweeps) == (bands == 0)
         assert "never reaches the threshold" not in sweeps  # it does reach it, if only for noise
+
+
+def test_report_budget_eirp_is_the_highest_in_the_band_and_an_exceeded_limit_fails(cli, bench, tmp_path):
+    # a 30 dBm transmitter with a 6 dBi antenna into ant_r1 (badly matched in 902-928 MHz): the EIRP
+    # is highest where the mismatch is smallest; 'budget --json' gives that highest EIRP and its
+    # frequency, and the report must state that value (not the one at the worst-margin frequency)
+    link = bench / "band.toml"
+    link.write_text('f_low = "902 MHz"\nf_high = "928 MHz"\nstep = "2 MHz"\ndistance_m = 1000\ntx_power_dbm = 30\n'
+                    'tx_gain_dbi = 6\ntx_sweep = "ant_r1.s1p"\nrx_gain_dbi = 2.15\nrx_sweep = "ant_r2.s1p"\n'
+                    'rx_sensitivity_dbm = -100.0\nfade_margin_db = 10.0\npath_loss_exponent = 3.0\n'
+                    'reference_distance_m = 10\neirp_limit_dbm = 34.5\n')
+    b = cli("budget", link, "--json")
+    doc = b.json()
+    assert b.code == 1 and doc["eirp_over_limit"] is True
+    out = tmp_path / "r.html"
+    r = cli("report", bench / "ant_r1.s1p", "--budget", link, "--out", out)
+    assert r.code == 1, r.err  # an exceeded EIRP limit is a failed requirement, as in 'budget'
+    page = " ".join(out.read_text().split())
+    assert f"{doc['max_eirp_dbm']:.2f} dBm, the highest, at" in page
+    assert "EXCEEDS your limit of 34.5 dBm" in page and "CAUTION: transmit VSWR" in page

@@ -189,7 +189,7 @@ def register(app: typer.Typer) -> None:
         c = ctx.comparison
         if json_out:
             emit_json(report_doc(out, sweeps, not ctx.failed, ctx.judged, c.failing_files,
-                                 None if ctx.budget is None else ctx.budget.closes, ctx.warnings,
+                                 None if ctx.budget is None else ctx.budget.passed, ctx.warnings,
                                  sections=section_ids))
         else:
             verdict = "FAIL" if ctx.failed else ("pass" if ctx.judged else "no spec or budget to judge")

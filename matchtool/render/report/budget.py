@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from ...units import format_frequency as ff
 from .. import html as h
+from ..text.budget import tx_vswr_caution
 from ..words import budget_range_lines, estimate_words, fixed, margin, mismatch_cost_line, model_words, range_text
 
 
@@ -19,7 +20,9 @@ def section(ctx, names) -> h.Section | None:
              h.table(["item", "dB", "running total dBm"], [[r.name, fixed(r.value_db, 3), fixed(r.total_dbm, 2)]
                                                           for r in w.rows],
                      [False, True, True], caption="Link budget", css_class="budget")]
-    eirp = f"{fixed(w.eirp_dbm)} dBm"
+    eirp = f"{fixed(b.max_eirp_dbm)} dBm"
+    if b.band is not None:
+        eirp += f", the highest, at {ff(b.max_eirp_f_hz)}"
     if b.eirp_limit_dbm is not None:
         eirp += f" (your limit {b.eirp_limit_dbm:g} dBm: {'EXCEEDED' if b.eirp_over_limit else 'met'})"
     items = [("EIRP", eirp), ("received power", f"{fixed(w.received_power_dbm)} dBm"),
@@ -41,6 +44,9 @@ def section(ctx, names) -> h.Section | None:
                                range_text(p.max_range_model_m)] for p in b.points],
                              [True] * 7, caption=f"Per frequency (range at {b.required_margin_db:g} dB margin, "
                                                  f"{model_words(b)} model)"))
+    caution = tx_vswr_caution(b)
+    if caution:
+        parts.append(h.paragraph(caution, "note warn"))
     if b.warnings:
         parts.append(h.bullet_list(b.warnings, "note warn"))
     limit_note = ("; the EIRP limit above is the user's number" if b.eirp_limit_dbm is not None

@@ -24,9 +24,12 @@ def budget_headline(b) -> str:
     w = b.worst
     rng = range_text(w.max_range_model_m)
     met = "met" if b.closes else "NOT MET"
+    eirp = ""
+    if b.eirp_limit_dbm is not None and b.eirp_over_limit:
+        eirp = f" EIRP {b.max_eirp_dbm:.2f} dBm at {ff(b.max_eirp_f_hz)} EXCEEDS your limit of {b.eirp_limit_dbm:g} dBm."
     return (f"Link budget {b.path}: margin {margin(w.margin_db, 2, 'dB', b.closes)} at {ff(w.f_hz)} (required "
             f"{b.required_margin_db:g} dB: {met}); range at {b.required_margin_db:g} dB margin {rng} "
-            f"({model_words(b)} model).")
+            f"({model_words(b)} model).{eirp}")
 
 
 def section(ctx, names) -> h.Section:
@@ -70,7 +73,7 @@ def section(ctx, names) -> h.Section:
                                 f"{fixed(pm.result.before_worst_return_loss_db)} dB -> "
                                 f"{fixed(pm.candidate.worst_return_loss_db)} dB)."))
     if ctx.budget is not None:
-        body.append(h.paragraph(budget_headline(ctx.budget), "pass" if ctx.budget.closes else "fail"))
+        body.append(h.paragraph(budget_headline(ctx.budget), "pass" if ctx.budget.passed else "fail"))
     if ctx.warnings:
         body.append("<h3>Warnings</h3>" + h.bullet_list(ctx.warnings, "note warn"))
     body.append('<div class="note caution"><strong>Cautions</strong>' + h.bullet_list(CAUTIONS) + "</div>")
