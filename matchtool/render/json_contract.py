@@ -550,9 +550,12 @@ def report_doc(out: str, inputs, passed: bool, judged: bool, failing_files=(), b
     """The ``report --json`` document: the page written, its inputs, the verdict (``pass``; whether
     anything was judged: a spec or a budget), the files failing the spec, whether the budget closes
     and the ids of the page's sections, in page order."""
-    return {"out": str(out), "inputs": [str(x) for x in inputs], "pass": passed, "judged": judged,
+    # nothing judged (no spec, no budget): no verdict, as 'plot --json' gives (null, not a pass)
+    return {"out": str(out), "inputs": [str(x) for x in inputs], "pass": passed if judged else None, "judged": judged,
             "failing_files": list(failing_files), "budget_pass": budget_closes, "sections": list(sections),
             "warnings": list(warnings)}
+
+
 # --- match ---------------------------------------------------------------------------------------
 
 def _none_if_inf(x: float | None) -> float | None:
