@@ -25,6 +25,7 @@ MaxS11Opt = Annotated[float | None, typer.Option("--max-s11-db", metavar="DB", h
 
 # core parameter name -> the flag that sets it; add a line when a command exposes a new parameter
 PARAMETER_FLAGS: dict[str, str] = {
+    "kind": "--kind",
     "z0_ohm": "--z0",
     "port": "--port",
     "threshold_return_loss_db": "--min-return-loss",

@@ -207,15 +207,15 @@ def parse_kinds(values: Sequence[str] | None) -> list[str]:
             if not k:
                 continue
             if k not in KINDS and k not in FIGURE_KINDS:
-                raise UsageError(f"unknown plot kind {k!r}", key="--kind",
+                raise UsageError("unknown plot kind", parameter="kind", value=k,
                                  expected=", ".join((*KINDS, *FIGURE_KINDS)))
             if k not in out:
                 out.append(k)
     if not out:
-        raise UsageError("no plot kind given", key="--kind", expected=", ".join((*KINDS, *FIGURE_KINDS)))
+        raise UsageError("no plot kind given", parameter="kind", expected=", ".join((*KINDS, *FIGURE_KINDS)))
     alone = [k for k in out if k in FIGURE_KINDS]
     if alone and len(out) > 1:
-        raise UsageError(f"--kind {alone[0]} is drawn as a picture of its own", key="--kind",
+        raise UsageError("is drawn as a picture of its own", parameter="kind", value=alone[0],
                          expected=f"--kind {alone[0]} alone")
     return out
 
@@ -225,6 +225,8 @@ def output_format(path: str) -> str:
     from pathlib import Path
 
     ext = Path(path).suffix.lower().lstrip(".")
+    if Path(path).is_dir():
+        raise UsageError("is a directory", path=path, expected="a picture file name ending in .png, .svg or .pdf")
     if ext not in FORMATS:
         raise UsageError(f"unknown picture extension {('.' + ext) if ext else '(none)'!r}", path=path,
                          expected="a file name ending in .png, .svg or .pdf")
