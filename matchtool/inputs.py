@@ -103,21 +103,26 @@ def read_bytes(path: str | Path, max_bytes: int | None = None, what: str = "a To
     try:
         with open(p, "rb") as fh:
             # read(limit + 1) would allocate the whole limit up front: read the size stat() gave
-            raw = fh.read(st.st_size + 1)
-            more, total = [], len(raw)
-            while total <= limit:  # the file grew after stat(): read on in small pieces
-                piece = fh.read(1 << 20)
-                if not piece:
-                    break
-                more.append(piece)
-                total += len(piece)
+            raw, total = _read_on(fh, fh.read(st.st_size + 1), 0, limit)
     except OSError as exc:
         raise error(f"cannot read: {exc.strerror or exc}", path=path) from None
     if total > limit:
         raise error(f"file is over the input limit of {limit / 2**20:.1f} MB", path=path, expected=LIMIT_HINT)
-    if more:
-        raw = b"".join([raw, *more])
     return raw
+
+
+def _read_on(fh, first: bytes, before: int, limit: int) -> tuple[bytes, int]:
+    """``first`` and whatever follows it in ``fh`` while the total (``before`` + bytes read) is
+    within ``limit``: a file that grew after ``stat()`` is read on in small pieces, never past the
+    limit. Returns (bytes, total including ``before``)."""
+    more, total = [], before + len(first)
+    while total <= limit:
+        piece = fh.read(1 << 20)
+        if not piece:
+            break
+        more.append(piece)
+        total += len(piece)
+    return (b"".join([first, *more]) if more else first), total
 
 
 def _utf16(raw: bytes) -> bool:
@@ -232,21 +237,12 @@ def read_touchstone(path: str | Path, max_bytes: int | None = None) -> str | byt
             split = _first_data_line(head)
             head = head[:split]
             fh.seek(split)
-            rest = fh.read(size - split + 1)
-            more, total = [], split + len(rest)
-            while total <= limit:  # the file grew after stat(): read on in small pieces
-                piece = fh.read(1 << 20)
-                if not piece:
-                    break
-                more.append(piece)
-                total += len(piece)
+            rest, total = _read_on(fh, fh.read(size - split + 1), split, limit)
     except OSError as exc:
         raise TouchstoneError(f"cannot read: {exc.strerror or exc}", path=path) from None
     if total > limit:
         raise TouchstoneError(f"file is over the input limit of {limit / 2**20:.1f} MB", path=path,
                               expected=LIMIT_HINT)
-    if more:
-        rest = b"".join([rest, *more])
     if _plain(head) and _plain(rest):
         return PlainParts(head, rest)
     return decode_touchstone(head + rest, path)
