@@ -223,6 +223,10 @@ def test_no_network_needed_whatever_the_candidates(cli, tmp_path):
     text = " ".join(t.out.split())
     assert "no network needed" in text and "connect the antenna directly" in text
     assert "listed above 'direct'" not in text and "solder" not in text
+    full = " ".join(cli("match", p, "--band", "902MHz:928MHz").out.split())
+    # the recommendation is no network: the Bode-Fano line must not call a network "the proposal"
+    assert "Bode-Fano limit" in full
+    assert "the proposal holds" not in full and "the best network with parts holds" in full
 
 
 def test_meaningful_networks_cut_before_direct_say_so(cli, tmp_path):

@@ -167,8 +167,9 @@ def short_of_threshold_text(r) -> str | None:
             f"consider a wider-band antenna or a higher-order network (see the Bode-Fano limit)")
 
 
-def bode_fano_text(report, proposal_rl_db: float | None) -> str | None:
-    """The Bode-Fano reading for one band in words a bench engineer uses, or None without a bound."""
+def bode_fano_text(report, proposal_rl_db: float | None, who: str = "the proposal") -> str | None:
+    """The Bode-Fano reading for one band in words a bench engineer uses, or None without a bound;
+    ``who`` names the network whose return loss ``proposal_rl_db`` is."""
     b = report.bound
     if b is None:
         return None
@@ -179,7 +180,7 @@ def bode_fano_text(report, proposal_rl_db: float | None) -> str | None:
             f"{lim_text} dB return loss across the whole band on this antenna (a {b.model} fitted to it, "
             f"R {b.r_ohm:.3g} ohm)")
     if proposal_rl_db is not None:
-        text += f"; the proposal holds {rl_text(proposal_rl_db)} dB."
+        text += f"; {who} holds {rl_text(proposal_rl_db)} dB."
     else:
         text += "."
     if lim >= LOOSE_BOUND_DB and (proposal_rl_db is None or lim - proposal_rl_db >= LOOSE_GAP_DB):
@@ -362,7 +363,8 @@ def lines_of(r, width: int = 80) -> list[str]:
         if with_parts:
             o = next((o for o in with_parts[0].per_band if o.target == t.target), None)
             prop = o.worst_return_loss_db if o is not None else with_parts[0].worst_return_loss_db
-        text = bode_fano_text(t, prop)
+        who = "the best network with parts" if best is not None and not best.elements else "the proposal"
+        text = bode_fano_text(t, prop, who)
         if text and with_parts:
             out.append("")
             out += _wrap(text, width)
