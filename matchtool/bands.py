@@ -56,8 +56,9 @@ def _crossing(f0: float, f1: float, y0: float, y1: float, level: float) -> float
     return f0 + (level - y0) * (f1 - f0) / (y1 - y0)
 
 
-MIN_BAND_SAMPLES = 2
-"""A run of fewer samples at or above the threshold is a noise-level crossing, not a band."""
+MIN_RUN_SAMPLES = 2
+"""A run of fewer samples at or above the threshold is a noise-level crossing, not a band (not to be
+confused with MIN_BAND_SAMPLES, the samples a spec or match band should hold)."""
 MIN_BAND_FRACTION = 1e-3
 """A run narrower than this fraction of the sweep's span is a noise-level crossing, not a band
 (unless ``min_width_hz`` is given, which replaces it). Chosen by us: measurement noise on a
@@ -76,7 +77,7 @@ class BandSearch:
 
 
 def search_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float, min_width_hz: float | None = None,
-                 min_samples: int = MIN_BAND_SAMPLES) -> BandSearch:
+                 min_samples: int = MIN_RUN_SAMPLES) -> BandSearch:
     """Runs where ``value_db >= threshold_db`` (e.g. return loss in dB against a minimum), with
     interpolated edges, split into bands and noise-level crossings.
 
@@ -114,7 +115,7 @@ def search_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float, mi
 
 
 def find_bands(f_hz: np.ndarray, value_db: np.ndarray, threshold_db: float, min_width_hz: float | None = None,
-               min_samples: int = MIN_BAND_SAMPLES) -> list[Band]:
+               min_samples: int = MIN_RUN_SAMPLES) -> list[Band]:
     """Bands where ``value_db >= threshold_db``, without the noise-level crossings (see
     :func:`search_bands` for the minimum-width rule and the crossings themselves).
 

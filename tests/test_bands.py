@@ -7,7 +7,7 @@ import pytest
 from helpers import gamma_of, series_rlc_z
 
 from matchtool import reflection as rf
-from matchtool.bands import MIN_BAND_FRACTION, MIN_BAND_SAMPLES, band_samples, find_bands, search_bands
+from matchtool.bands import MIN_BAND_FRACTION, MIN_BAND_SAMPLES, MIN_RUN_SAMPLES, band_samples, find_bands, search_bands
 
 
 def test_series_rlc_ten_db_band_exact():
@@ -102,6 +102,12 @@ def test_a_one_sample_noise_crossing_is_not_a_band():
 def test_default_minimum_is_a_fraction_of_the_span_and_two_samples():
     f, y, _ = _noisy_2g4()
     found = search_bands(f, y, 10.0)
-    assert found.min_width_hz == pytest.approx(MIN_BAND_FRACTION * 1e9) and found.min_samples == MIN_BAND_SAMPLES == 2
+    assert found.min_width_hz == pytest.approx(MIN_BAND_FRACTION * 1e9) and found.min_samples == MIN_RUN_SAMPLES == 2
     # a sweep that meets the threshold everywhere is one band, however short
     assert len(search_bands(np.array([1.0, 2.0]), np.array([20.0, 20.0]), 10.0).bands) == 1
+
+
+def test_the_two_sample_minimums_are_distinct():
+    # a threshold band is a run of at least 2 samples (noise-level crossings below that); a spec or
+    # match band should hold at least 3 measured samples (its worst case leans on interpolation)
+    assert (MIN_RUN_SAMPLES, MIN_BAND_SAMPLES) == (2, 3)

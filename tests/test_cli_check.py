@@ -258,7 +258,8 @@ def test_file_names_are_never_truncated_a_common_folder_is_named_once(cli, tmp_p
     r = cli("check", samples, "--spec", samples / "spec_915.toml")
     assert r.code == 1
     assert "…" not in r.out and "..." not in r.out
-    assert f"(files in {samples}/)" in r.out
+    # the title may wrap at the terminal width (between words: a long checkout path moves it)
+    assert f"(files in {samples}/)" in " ".join(r.out.split())
     for name in ("ant_r2_coarse.s1p", "ant_r3_via_cable.s1p", "dualband_wifi.s1p", "module_port2.s2p"):
         assert any(ln.startswith(f"{name}: ") for ln in r.out.splitlines()), name
 
