@@ -270,15 +270,18 @@ def _assert_fits(text, width, must):
         assert m in text, (width, m)
 
 
-def test_every_table_fits_80_100_and_120_columns_without_cutting_a_cell():
+def test_every_table_fits_80_100_and_120_columns_without_cutting_a_cell(monkeypatch):
     from matchtool.compare import BandOfInterest, revisions
     from matchtool.render.text.compare import render
     from matchtool.render.words import margin
     from matchtool.spec import load_spec
     from matchtool.sweep import load
 
-    sweeps = [load(SAMPLES / f"ant_r{k}.s1p") for k in (1, 2, 3)]
-    c = revisions(sweeps, 10.0, [BandOfInterest("ism", 902e6, 928e6, 10.0)], spec=load_spec(SAMPLES / "spec_915.toml"))
+    # relative paths, as a user types them: a path longer than the terminal is one word no layout
+    # can break, and the checkout's own path must not decide the test
+    monkeypatch.chdir(SAMPLES.parent)
+    sweeps = [load(f"sample_sweeps/ant_r{k}.s1p") for k in (1, 2, 3)]
+    c = revisions(sweeps, 10.0, [BandOfInterest("ism", 902e6, 928e6, 10.0)], spec=load_spec("sample_sweeps/spec_915.toml"))
     must = [f"{b.worst_return_loss_db:.2f}" for r in c.rows for b in r.bands[:c.adhoc_bands]]
     must += ["ant_r1.s1p", "ism guard", "Verdict"]
     must += [margin(q.margin_db, 2, "dB", q.passed) for r in c.rows for q in r.spec.requirements if q.margin_db is not None]
