@@ -27,6 +27,7 @@ from .options import (
     LossDbPerMOpt,
     LossRefOpt,
     PortOpt,
+    SweepArg,
     VelocityFactorOpt,
     Z0Opt,
     frequencies,
@@ -113,8 +114,7 @@ def _cable_from_options(length: str | None, velocity_factor: float | None, loss_
 def register(app: typer.Typer) -> None:
     @app.command("feedline", epilog=EPILOG)
     def feedline_cmd(
-        sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
-                                             show_default=False)],
+        sweep: SweepArg,
         toward: Annotated[str | None, typer.Option(
             "--toward", metavar="radio|antenna",
             help="radio: add the cable in front of the antenna; antenna: remove (de-embed) it.")] = None,

@@ -11,7 +11,7 @@ from ..render.json_contract import emit_json, inspect_doc, inspect_overview_doc,
 from ..render.text import warn
 from ..summary import summarize, summarize_ports, threshold_from_options
 from ..sweep import load
-from .options import JsonOpt, MaxS11Opt, MaxVswrOpt, MinBandWidthOpt, MinRLOpt, Z0Opt, frequencies, min_band_width
+from .options import JsonOpt, MaxS11Opt, MaxVswrOpt, MinBandWidthOpt, MinRLOpt, SweepArg, Z0Opt, frequencies, min_band_width
 
 EPILOG = """Examples:
 
@@ -50,8 +50,7 @@ def parse_port(text: str | None) -> int | str | None:
 def register(app: typer.Typer) -> None:
     @app.command("inspect", epilog=EPILOG)
     def inspect_cmd(
-        sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
-                                             show_default=False)],
+        sweep: SweepArg,
         port: PortChoice = None,
         z0: Z0Opt = None,
         at: Annotated[list[str] | None, typer.Option(

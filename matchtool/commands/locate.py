@@ -22,6 +22,7 @@ from .options import (
     LossDbPerMOpt,
     LossRefOpt,
     PortOpt,
+    SweepArg,
     VelocityFactorOpt,
     loss_ref_hz,
 )
@@ -82,8 +83,7 @@ def parse_gate(text: str) -> tuple[str, float, float]:
 def register(app: typer.Typer) -> None:
     @app.command("locate", epilog=EPILOG)
     def locate_cmd(
-        sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
-                                             show_default=False)],
+        sweep: SweepArg,
         velocity_factor: VelocityFactorOpt = None,
         loss_db_per_m: LossDbPerMOpt = None,
         loss_ref: LossRefOpt = None,

@@ -5,7 +5,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Annotated
 
 import typer
 
@@ -41,6 +40,7 @@ from .options import (  # noqa: F401  (re-exported: the option types of match, s
     SeedOpt,
     SeriesOpt,
     ShowBandOpt,
+    SweepArg,
     ToleranceCapacitorOpt,
     ToleranceInductorOpt,
     ToleranceOpt,
@@ -185,8 +185,7 @@ def _write(r: mt.MatchResult, o: MatchOptions, sw, force: bool) -> None:
 def register(app: typer.Typer) -> None:
     @app.command("match", epilog=EPILOG)
     def match_cmd(
-        sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna.",
-                                             show_default=False)],
+        sweep: SweepArg,
         at: AtOpt = None,
         band: BandsOpt = None,
         spec: MatchSpecOpt = None,

@@ -13,6 +13,8 @@ import typer
 from ..errors import UsageError
 from ..units import parse_band, parse_frequency
 
+SweepArg = Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file (.s1p, .s2p, .sNp, .ts).",
+                                         show_default=False)]
 PortOpt = Annotated[int, typer.Option("--port", metavar="N", help="Port N whose reflection S_NN is analysed (1-based).")]
 Z0Opt = Annotated[float | None, typer.Option(
     "--z0", metavar="OHM", help="Renormalise to this system impedance in ohms (default: the file's reference).")]

@@ -13,7 +13,7 @@ from ..render.text import warn
 from ..summary import threshold_from_options
 from ..sweep import load
 from ..units import parse_frequency, parse_length
-from .options import JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, Z0Opt
+from .options import JsonOpt, MaxS11Opt, MaxVswrOpt, MinRLOpt, PortOpt, SweepArg, Z0Opt
 
 EPILOG = """Examples:
 
@@ -36,8 +36,7 @@ output names the series reactance that would tune it.
 def register(app: typer.Typer) -> None:
     @app.command("qfactor", epilog=EPILOG)
     def qfactor_cmd(
-        sweep: Annotated[str, typer.Argument(metavar="SWEEP", help="Touchstone file of the antenna (.s1p, .s2p, .sNp, .ts).",
-                                             show_default=False)],
+        sweep: SweepArg,
         at: Annotated[str | None, typer.Option(
             "--at", metavar="FREQ",
             help="Evaluate Q here (915MHz); default: the X = 0 resonance nearest the best-matched sample.")] = None,

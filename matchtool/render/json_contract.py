@@ -1,4 +1,4 @@
-"""The whole JSON interface contract (``../shared/design.md``): one function per document, each
+"""The whole JSON interface contract (the keys the README and ``docs/`` promise to scripts): one function per document, each
 built from a core result dataclass, and the one writer that prints it.
 
 Keys named by the contract must stay; more may be added. Non-finite numbers are written as null

@@ -64,6 +64,29 @@ def _write(fig, out: str | Path | IO[bytes], fmt: str, force: bool) -> bytes:
     return data
 
 
+def _limit_line(ax, m, scale: float, kind: str, y: float, forbidden_to: float, text: str) -> None:
+    """A spec limit of two ports over its band: the line, the forbidden side (from ``y`` to
+    ``forbidden_to``) in the light tint of the reflection masks, and its name and ports."""
+    x = [m.f_low_hz / scale, m.f_high_hz / scale]
+    ax.fill_between(x, [y, y], [forbidden_to, forbidden_to], facecolor=MASK_TINT, alpha=MASK_ALPHA,
+                    edgecolor="none", zorder=1, gid=f"{kind}:tint:{m.name}")
+    ax.hlines(y, x[0], x[1], colors=MASK_COLOR, linewidth=2.2, gid=f"{kind}:mask:{m.name}")
+    # the name sits on the allowed side of the line, away from the tint a failing trace runs through
+    up = forbidden_to < y
+    ax.annotate(f"{m.name}: {text} (ports {m.pair[0]},{m.pair[1]})", (x[0], y), xytext=(0, 4 if up else -11),
+                textcoords="offset points", fontsize=7.5)
+
+
+def _frame(ax, f: np.ndarray, scale: float, unit: str, ylabel: str, title: str, ncol: int | None = None) -> None:
+    """Frequency axis over the sweep, labels, title, and the legend under the plot."""
+    ax.set_xlim(f[0] / scale, f[-1] / scale)
+    ax.set_xlabel(f"Frequency ({unit})")
+    ax.set_ylabel(ylabel)
+    ax.set_title(title)
+    n = len(ax.get_legend_handles_labels()[1])
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=ncol or min(4, max(1, n)), frameon=False)
+
+
 def isolation_figure(result, masks=None):
     """The Figure of :func:`draw_isolation` (a ``coupling.CouplingResult``)."""
     from matplotlib import rc_context
@@ -86,20 +109,9 @@ def isolation_figure(result, masks=None):
                         gid=f"isolation:trace:S{a}{b}", **_look(k))
                 k += 1
         for m in _masks(masks, "isolation"):
-            # the forbidden side of the limit (coupling above -limit) tinted, as the reflection masks are
-            ax.fill_between([m.f_low_hz / scale, m.f_high_hz / scale], [-m.limit, -m.limit], [0.0, 0.0],
-                            facecolor=MASK_TINT, alpha=MASK_ALPHA, edgecolor="none", zorder=1,
-                            gid=f"isolation:tint:{m.name}")
-            ax.hlines(-m.limit, m.f_low_hz / scale, m.f_high_hz / scale, colors=MASK_COLOR, linewidth=2.2,
-                      gid=f"isolation:mask:{m.name}")
-            ax.annotate(f"{m.name}: isolation >= {m.limit:g} dB (ports {m.pair[0]},{m.pair[1]})",
-                        (m.f_low_hz / scale, -m.limit), xytext=(0, 4), textcoords="offset points", fontsize=7.5)
-        ax.set_xlim(f[0] / scale, f[-1] / scale)
-        ax.set_xlabel(f"Frequency ({unit})")
-        ax.set_ylabel("|S_ij| (dB); isolation is its negative")
-        ax.set_title(f"Coupling between ports ({Path(result.path).name})")
-        n = len(ax.get_legend_handles_labels()[1])
-        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=min(4, max(1, n)), frameon=False)
+            _limit_line(ax, m, scale, "isolation", -m.limit, 0.0, f"isolation >= {m.limit:g} dB")
+        _frame(ax, f, scale, unit, "|S_ij| (dB); isolation is its negative",
+               f"Coupling between ports ({Path(result.path).name})")
     return fig
 
 
@@ -120,21 +132,11 @@ def ecc_figure(result, masks=None):
                     gid=f"ecc:trace:{i}-{j}", **_look(k))
         top = max([0.1] + [float(np.max(p.ecc)) for p in result.pairs])
         for m in _masks(masks, "correlation"):
-            ax.fill_between([m.f_low_hz / scale, m.f_high_hz / scale], [m.limit, m.limit], [1.0, 1.0],
-                            facecolor=MASK_TINT, alpha=MASK_ALPHA, edgecolor="none", zorder=1,
-                            gid=f"ecc:tint:{m.name}")
-            ax.hlines(m.limit, m.f_low_hz / scale, m.f_high_hz / scale, colors=MASK_COLOR, linewidth=2.2,
-                      gid=f"ecc:mask:{m.name}")
-            ax.annotate(f"{m.name}: ECC <= {m.limit:g} (ports {m.pair[0]},{m.pair[1]})",
-                        (m.f_low_hz / scale, m.limit), xytext=(0, 4), textcoords="offset points", fontsize=7.5)
+            _limit_line(ax, m, scale, "ecc", m.limit, 1.0, f"ECC <= {m.limit:g}")
             top = max(top, m.limit)
         ax.set_ylim(0, min(1.0, 1.15 * top))
-        ax.set_xlim(f[0] / scale, f[-1] / scale)
-        ax.set_xlabel(f"Frequency ({unit})")
-        ax.set_ylabel("Envelope correlation (from S-parameters)")
-        ax.set_title("ECC; lossless antennas assumed: optimistic for low efficiency")
-        n = len(ax.get_legend_handles_labels()[1])
-        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=min(4, max(1, n)), frameon=False)
+        _frame(ax, f, scale, unit, "Envelope correlation (from S-parameters)",
+               "ECC; lossless antennas assumed: optimistic for low efficiency")
     return fig
 
 
@@ -155,11 +157,8 @@ def tarc_figure(result):
         ax.plot(f / scale, t.best_db, label="best over phase", gid="tarc:best", **{**_look(2), "marker": None})
         ax.axhline(-10.0, color=MASK_COLOR, linewidth=1.0, linestyle=(0, (4, 2)), label="-10 dB TARC")
         ax.set_ylim(max(-60.0, float(np.min(t.best_db)) - 3.0), 1.0)
-        ax.set_xlim(f[0] / scale, f[-1] / scale)
-        ax.set_xlabel(f"Frequency ({unit})")
-        ax.set_ylabel("TARC (dB)")
-        ax.set_title(f"Total active reflection of ports {', '.join(map(str, t.ports))}")
-        ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.13), ncol=3, frameon=False)
+        _frame(ax, f, scale, unit, "TARC (dB)", f"Total active reflection of ports {', '.join(map(str, t.ports))}",
+               ncol=3)
     return fig
 
 
