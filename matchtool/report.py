@@ -185,7 +185,13 @@ def _capabilities(sweeps: Sequence[Sweep], threshold_return_loss_db: float, coup
     if coupling and multi:
         from .coupling import analyze_coupling
 
-        out["coupling"] = tuple(analyze_coupling(s) for s in multi)
+        bands: tuple[tuple[float, float], ...] = ()
+        if spec is not None:
+            # the bands the spec judges coupling (or, without pair tables, its reflection bands), so the
+            # section's worst values are the ones the verdict speaks of, not the whole sweep's
+            pair_reqs = (*spec.isolations, *spec.correlations) or spec.bands
+            bands = tuple(dict.fromkeys((float(r.f_low_hz), float(r.f_high_hz)) for r in pair_reqs))
+        out["coupling"] = tuple(analyze_coupling(s, bands=bands) for s in multi)
         if spec is not None and (spec.isolations or spec.correlations):
             out["coupling_masks"] = spec
     if locate is not None:
