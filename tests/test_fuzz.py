@@ -259,31 +259,40 @@ def test_byte_edits_of_valid_files_load_cleanly_or_fail_with_our_error(case):
 # what the exact path gives, or hands over to it: the same numbers and counts per line, or the
 # same error (message and line) for text made of number-like pieces.
 _PIECES = ["0", "1", "23", "4.5", ".5", "6.", "-7", "+8", "1e3", "2E-2", "-", "+", ".", "e", "1.2.3", "1-2",
-           "nan", "inf", "1e999", "0,5", "x", "0x10", " ", "  ", "\t", "\f", "\v", "\n", "\n\n"]
+           "nan", "inf", "1e999", "0,5", "x", "0x10", " ", "  ", "\t", "\f", "\v", "\n", "\n\n",
+           # what JSON reads differently from strtod, or not at all (the JSON reader must hand over)
+           "-0", "-0.0", "007", "1.e5", "-.5", "+-1", "+.5", "+0", "1E+05", "9007199254740993",
+           "123456789012345678901234567890", "true", "null", "[1]", ","]
 
 
 @FUZZ
-@given(st.lists(st.sampled_from(_PIECES), min_size=1, max_size=60))
-def test_fast_path_agrees_with_the_exact_path(pieces):
+@given(st.lists(st.sampled_from(_PIECES), min_size=1, max_size=60), st.booleans())
+def test_fast_path_agrees_with_the_exact_path(pieces, as_bytes):
+    import orjson
+
     import matchtool.touchstone.numbers as nm
     from matchtool.errors import TouchstoneError
 
     text = "".join(pieces)
+    data = text.encode("ascii") if as_bytes else text
 
-    def run(fast: bool):
-        saved = nm._numbers_fast
-        if not fast:
+    def run(path: str):
+        saved = nm._numbers_fast, nm._json_reader
+        if path == "exact":
             nm._numbers_fast = lambda data: None
+        else:  # the fast path with the JSON reader, or with np.fromstring alone
+            nm._json_reader = (lambda size: orjson) if path == "json" else (lambda size: None)
         try:
-            v, c = nm.numbers(text, 10, "f.s1p", "network data")
-            return ("ok", v.tolist(), c.tolist())
+            v, c = nm.numbers(data, 10, "f.s1p", "network data")
+            return ("ok", [(x, math.copysign(1.0, x)) for x in v.tolist()], c.tolist())
         except TouchstoneError as exc:
             return ("error", str(exc), exc.line)
         finally:
-            nm._numbers_fast = saved
+            nm._numbers_fast, nm._json_reader = saved
 
-    fast = run(True)
-    assert fast == run(False)
-    if fast[0] == "ok":  # and both agree with Python's own reading of the same text
-        assert fast[1] == [float(t) for t in text.split()]
-        assert fast[2] == [len(line.split()) for line in text.split("\n")]
+    exact = run("exact")
+    assert run("json") == exact
+    assert run("fromstring") == exact
+    if exact[0] == "ok":  # and all agree with Python's own reading of the same text, sign of zero too
+        assert exact[1] == [(float(t), math.copysign(1.0, float(t))) for t in text.split()]
+        assert exact[2] == [len(line.split()) for line in text.split("\n")]

@@ -70,6 +70,30 @@ def test_library_outcome(tmp_path, name):
     assert np.all(np.isfinite(sw.network.s)) and np.all(np.diff(sw.f_hz) > 0)
 
 
+def _outcome(path: str):
+    try:
+        sw = load(path)
+    except MatchtoolError as exc:
+        return ("error", str(exc), getattr(exc, "line", None))
+    return ("ok", sw.f_hz.tobytes(), np.asarray(sw.network.s).tobytes(), np.asarray(sw.z0_ports_ohm).tobytes(),
+            tuple(sw.warnings))
+
+
+@pytest.mark.parametrize("name", [c.name for c in ALL])
+def test_the_json_reader_changes_no_outcome(tmp_path, monkeypatch, name):
+    """With the numbers read by the JSON reader (a lot's setting) or by np.fromstring alone (a
+    single small file's), every case ends alike: the same bits, warnings, or error and line."""
+    import orjson
+
+    import matchtool.touchstone.numbers as nm
+
+    case, path = _build(tmp_path, name)
+    monkeypatch.setattr(nm, "_json_reader", lambda size: orjson)
+    with_reader = _outcome(path)
+    monkeypatch.setattr(nm, "_json_reader", lambda size: None)
+    assert _outcome(path) == with_reader
+
+
 @pytest.mark.parametrize("name", [c.name for c in ALL])
 def test_cli_outcome(tmp_path, cli, name):
     case, path = _build(tmp_path, name)
