@@ -27,16 +27,22 @@ import numpy as np
 
 from .errors import InputError, UsageError
 from .spec import RequirementResult, Spec, UnitResult, check_file
+from .touchstone.numbers import use_json_reader
 
 TOUCHSTONE = re.compile(r"\.(s\d+p|ts)$", re.I)
 IN_PROCESS_MAX = 64
 """Lots of at most this many files run in-process whatever ``jobs`` says (a pool costs more)."""
-IN_PROCESS_S = 0.5
-"""A larger lot also starts in-process; worker processes take over the rest only once this many
-seconds have passed and the rest would still take longer than :data:`POOL_MIN_S` (so a lot that
-is quick anyway never pays for starting a pool: two jobs are never slower than one)."""
-POOL_MIN_S = 0.4
+SAMPLE_FILES = 16
+"""A larger lot starts in-process; after this many files (and after every file from then on) the
+time the rest would take in one process is estimated from the files so far."""
+POOL_MIN_S = 0.2
+"""The rest goes to worker processes only when it would take longer than this in one process: a
+forked worker starts in a few milliseconds, but the results come back pickled, so a lot that is
+quick anyway stays in-process (two jobs are never slower than one)."""
 MAX_JOBS_PER_CORE = 4
+LOT_READER_MIN_FILES = 16
+"""A lot of more files than this imports the JSON reader for its numbers up front (about 14 ms,
+paid back after a few dozen files of 1,601 points; see ``touchstone.numbers``)."""
 """``--jobs`` above this many processes per usable core is lowered to it (``--jobs 100000`` on a lot
 of a thousand files would otherwise fork a thousand processes on a shared machine)."""
 
@@ -187,6 +193,8 @@ def _work_chunk(paths: list[str], hashes: bool = False) -> list[CheckedUnit]:
 
 def check_chunk(paths: list[str], spec: Spec, hashes: bool = False) -> list[CheckedUnit]:
     """Check a batch of files (the task a Dask worker runs)."""
+    if len(paths) > LOT_READER_MIN_FILES:
+        use_json_reader()
     return [_check_one(p, spec, hashes) for p in paths]
 
 
@@ -200,21 +208,43 @@ def default_jobs() -> int:
 
 def _run_pool(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
               progress: Callable[[int], None] | None) -> list[CheckedUnit]:
+    """Check ``paths`` with ``jobs`` processes: ``jobs - 1`` forked workers and this one, in
+    chunks handed out as the processes come free (each worker keeps two chunks queued; this
+    process takes the next chunk itself whenever the queues are full). Input order is kept."""
     import multiprocessing as mp
-    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
     ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
     jobs = min(jobs, len(paths), MAX_JOBS_PER_CORE * default_jobs())
+    workers = max(1, jobs - 1)
     chunk = max(1, min(64, math.ceil(len(paths) / (jobs * 8))))
-    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_init_worker, initargs=(spec, tune))
-    out: list[CheckedUnit] = []
-    try:
-        futures = [pool.submit(_work_chunk, paths[k:k + chunk], hashes) for k in range(0, len(paths), chunk)]
+    ranges = [(k, min(k + chunk, len(paths))) for k in range(0, len(paths), chunk)]
+    parts: list[list[CheckedUnit] | None] = [None] * len(ranges)
+    pool = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_init_worker, initargs=(spec, tune))
+
+    def collect(futures) -> None:
         for fut in futures:
-            part = fut.result()
-            out.extend(part)
+            parts[pending.pop(fut)] = part = fut.result()
             if progress:
                 progress(len(part))
+
+    pending: dict = {}
+    try:
+        nxt = 0
+        while nxt < len(ranges) or pending:
+            while nxt < len(ranges) and len(pending) < 2 * workers:
+                a, b = ranges[nxt]
+                pending[pool.submit(_work_chunk, paths[a:b], hashes)] = nxt
+                nxt += 1
+            collect([f for f in pending if f.done()])
+            if nxt < len(ranges):  # this process's own share
+                a, b = ranges[nxt]
+                parts[nxt] = [_check_one(p, spec, hashes) for p in paths[a:b]]
+                if progress:
+                    progress(b - a)
+                nxt += 1
+            elif pending:
+                collect(wait(pending, return_when=FIRST_COMPLETED).done)
     except BaseException:
         # Ctrl-C (or any failure): stop now, not after the queued chunks. The workers are this
         # process's own children; end each by its handle.
@@ -228,26 +258,24 @@ def _run_pool(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
                 proc.join(timeout=2)
         raise
     pool.shutdown(wait=True)
-    return out
+    return [u for part in parts for u in part]
 
 
 def _run_local(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
                progress: Callable[[int], None] | None) -> list[CheckedUnit]:
     """In-process first; hand the rest to worker processes only when it is worth it (see
-    :data:`IN_PROCESS_S`)."""
+    :data:`POOL_MIN_S`)."""
     out: list[CheckedUnit] = []
     t0 = time.perf_counter()
     k = 0
+    sample = min(IN_PROCESS_MAX, SAMPLE_FILES)
     while k < len(paths):
         out.append(_check_one(paths[k], spec, hashes))
         k += 1
         if progress:
             progress(1)
-        if jobs > 1 and len(paths) > IN_PROCESS_MAX and k >= min(IN_PROCESS_MAX, 16) and k < len(paths):
-            if IN_PROCESS_S <= 0:
-                break
-            elapsed = time.perf_counter() - t0
-            if elapsed >= IN_PROCESS_S and elapsed / k * (len(paths) - k) > POOL_MIN_S:
+        if jobs > 1 and len(paths) > IN_PROCESS_MAX and k >= sample and k < len(paths):
+            if (time.perf_counter() - t0) / k * (len(paths) - k) > POOL_MIN_S:
                 break
     if k < len(paths):
         out.extend(_run_pool(paths[k:], spec, jobs, tune, hashes, progress))
@@ -306,6 +334,8 @@ def run_units(inputs: Iterable[Input | str], spec: Spec, jobs: int | None = None
     tune = fast_malloc and len(todo) > 16
     if tune:
         tune_malloc()
+    if len(todo) > LOT_READER_MIN_FILES:
+        use_json_reader()  # paid back after a few dozen files (see touchstone.numbers)
     if scheduler:
         done = _run_dask(todo, spec, scheduler, hashes, batch_size, progress) if todo else []
     else:

@@ -52,7 +52,7 @@ def test_parallel_equals_serial(tmp_path, spec, monkeypatch):
     (tmp_path / "broken.s1p").write_text("# MHz S RI R 50\n900 0.1 0.2\n910 0.3\n")
     inputs = batch.expand_inputs([tmp_path])
     monkeypatch.setattr(batch, "IN_PROCESS_MAX", 4)  # force the process pool for this small lot
-    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)
+    monkeypatch.setattr(batch, "POOL_MIN_S", 0.0)
     calls = []
     par = batch.run_batch(inputs, spec, jobs=3, progress=calls.append)
     ser = batch.run_batch(inputs, spec, jobs=1)
@@ -126,9 +126,9 @@ def test_absurd_job_count_is_capped_per_core(tmp_path, spec, monkeypatch):
 
     monkeypatch.setattr(concurrent.futures, "ProcessPoolExecutor", recording)
     monkeypatch.setattr(batch, "default_jobs", lambda: 1)
-    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)  # hand the rest to the pool at once
+    monkeypatch.setattr(batch, "POOL_MIN_S", 0.0)  # hand the rest to the pool at once
     results = batch.run_batch(files, spec, jobs=100_000)
-    assert seen == [batch.MAX_JOBS_PER_CORE]
+    assert seen == [batch.MAX_JOBS_PER_CORE - 1]  # workers, beside this process
     assert [r.file for r in results] == [str(f) for f in files] and all(r.error is None for r in results)
 
 

@@ -222,7 +222,7 @@ def test_interrupt_in_a_worker_process_stops_the_lot(cli, tmp_path, monkeypatch)
     for k in range(8):
         write_rlc(tmp_path / f"u{k}.s1p", n=101)
     monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
-    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)
+    monkeypatch.setattr(batch, "POOL_MIN_S", 0.0)
     real = batch._check_one
 
     def work(path, spec, hashes):  # runs in the forked workers
@@ -562,6 +562,6 @@ def test_jobs_two_is_the_same_lot(cli, tmp_path, monkeypatch):
         write_rlc(tmp_path / f"u{k}.s1p", n=101, f0_hz=880e6 + 6e6 * k)
     one = cli("check", tmp_path, "--spec", spec, "--json", "--jobs", "1").json()
     monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
-    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)  # worker processes take over after the first files
+    monkeypatch.setattr(batch, "POOL_MIN_S", 0.0)  # worker processes take over after the first files
     two = cli("check", tmp_path, "--spec", spec, "--json", "--jobs", "2").json()
     assert one == two

@@ -103,7 +103,7 @@ def test_jobs_and_dask_give_the_same_store(cli, lot, monkeypatch):
     d, spec, folder = lot
     single = cli("check", folder, "--spec", spec, "--json").json()
     monkeypatch.setattr(batch, "IN_PROCESS_MAX", 2)
-    monkeypatch.setattr(batch, "IN_PROCESS_S", 0.0)
+    monkeypatch.setattr(batch, "POOL_MIN_S", 0.0)
     two = cli("check", folder, "--spec", spec, "--json", "--jobs", "2", "--store", d / "j.db", "--lot", "L").json()
     assert two["files"] == [dict(f, sha256=g["sha256"]) for f, g in zip(single["files"], two["files"], strict=True)]
     same_summary(single, cli("history", "--store", d / "j.db", "--json").json()["lots"][0])
