@@ -206,21 +206,28 @@ def default_jobs() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+QUEUED_PER_WORKER = 4
+"""Chunks kept queued for each worker process: enough that a worker never waits for this process
+to hand it the next one (the hand-over needs this process's interpreter lock)."""
+
+
 def _run_pool(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
               progress: Callable[[int], None] | None) -> list[CheckedUnit]:
     """Check ``paths`` with ``jobs`` processes: ``jobs - 1`` forked workers and this one, in
-    chunks handed out as the processes come free (each worker keeps two chunks queued; this
-    process takes the next chunk itself whenever the queues are full). Input order is kept."""
+    chunks. Each worker keeps :data:`QUEUED_PER_WORKER` chunks queued; this process takes the next
+    chunk itself whenever the queues are full, and at the end takes back the queued chunks no
+    worker has started (so no process idles while another has a backlog). Input order is kept."""
     import multiprocessing as mp
     from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
     ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
     jobs = min(jobs, len(paths), MAX_JOBS_PER_CORE * default_jobs())
     workers = max(1, jobs - 1)
-    chunk = max(1, min(64, math.ceil(len(paths) / (jobs * 8))))
+    chunk = max(1, min(32, math.ceil(len(paths) / (jobs * 16))))
     ranges = [(k, min(k + chunk, len(paths))) for k in range(0, len(paths), chunk)]
     parts: list[list[CheckedUnit] | None] = [None] * len(ranges)
     pool = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_init_worker, initargs=(spec, tune))
+    pending: dict = {}
 
     def collect(futures) -> None:
         for fut in futures:
@@ -228,23 +235,28 @@ def _run_pool(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool,
             if progress:
                 progress(len(part))
 
-    pending: dict = {}
+    def here(i: int) -> None:  # a chunk checked by this process
+        a, b = ranges[i]
+        parts[i] = [_check_one(p, spec, hashes) for p in paths[a:b]]
+        if progress:
+            progress(b - a)
+
     try:
         nxt = 0
-        while nxt < len(ranges) or pending:
-            while nxt < len(ranges) and len(pending) < 2 * workers:
+        while nxt < len(ranges):
+            while nxt < len(ranges) and len(pending) < QUEUED_PER_WORKER * workers:
                 a, b = ranges[nxt]
                 pending[pool.submit(_work_chunk, paths[a:b], hashes)] = nxt
                 nxt += 1
             collect([f for f in pending if f.done()])
-            if nxt < len(ranges):  # this process's own share
-                a, b = ranges[nxt]
-                parts[nxt] = [_check_one(p, spec, hashes) for p in paths[a:b]]
-                if progress:
-                    progress(b - a)
+            if nxt < len(ranges):
+                here(nxt)
                 nxt += 1
-            elif pending:
-                collect(wait(pending, return_when=FIRST_COMPLETED).done)
+        for fut in sorted(pending, key=pending.get, reverse=True):  # take back what no worker started
+            if fut.cancel():
+                here(pending.pop(fut))
+        while pending:
+            collect(wait(pending, return_when=FIRST_COMPLETED).done)
     except BaseException:
         # Ctrl-C (or any failure): stop now, not after the queued chunks. The workers are this
         # process's own children; end each by its handle.

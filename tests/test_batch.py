@@ -64,6 +64,28 @@ def test_parallel_equals_serial(tmp_path, spec, monkeypatch):
     assert all(u.error is None and u.requirements for u in par if u is not bad[0])
 
 
+def test_this_process_works_beside_the_workers(tmp_path, spec, monkeypatch):
+    """--jobs 2: one forked worker and this process share the chunks; every file is checked once."""
+    paths = make_lot(tmp_path / "lot", np.linspace(900e6, 930e6, 120))
+    seen = tmp_path / "seen"
+    seen.mkdir()
+    real = batch._check_one
+
+    def record(path, spec, hashes):  # runs here and in the worker (forked: it sees this patch)
+        with open(seen / os.path.basename(path), "a") as fh:
+            fh.write(f"{os.getpid()}\n")
+        return real(path, spec, hashes)
+
+    monkeypatch.setattr(batch, "_check_one", record)
+    monkeypatch.setattr(batch, "POOL_MIN_S", 0.0)
+    results = batch.run_batch(paths, spec, jobs=2)
+    assert [r.file for r in results] == [str(p) for p in paths] and all(r.error is None for r in results)
+    pids = [(seen / os.path.basename(p)).read_text().split() for p in paths]
+    assert all(len(x) == 1 for x in pids)  # each file once
+    by = {x[0] for x in pids}
+    assert str(os.getpid()) in by and len(by) == 2  # this process and one worker
+
+
 def test_lot_summary(tmp_path, spec):
     # resonant frequencies on the sweep's 1 MHz grid, so the best sample lies exactly at f0
     f0s = [900e6, 915e6, 918e6, 930e6, 912e6]
