@@ -30,6 +30,7 @@ database; PostgreSQL serialises the conflicting inserts itself. No row is lost w
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import json
 import math
@@ -495,6 +496,120 @@ class Store:
         else:
             from sqlalchemy.dialects.postgresql import insert
         return insert
+
+
+class StoreProcess:
+    """A :class:`Store` opened and written by a forked helper process, so that the import of
+    SQLAlchemy and the connection (about 0.2 s, the most of what a store adds to a check) overlap
+    the check itself. For what ``check`` needs (``add_lot``, ``close``) it behaves as the Store
+    does: the same results, and the same exceptions (raised here, by ``add_lot``, including the
+    one of a store that could not be opened). The files of ``hash_paths`` are hashed by the helper
+    too (SHA-256 of their bytes), once the store is open, and units handed to :meth:`add_lot`
+    without a hash get theirs. Use :func:`open_store`."""
+
+    def __init__(self, url: str, hash_paths: list[str] | None = None) -> None:
+        import multiprocessing as mp
+
+        self.url = normalise_url(url)  # (not shown_url here: it imports SQLAlchemy)
+        ctx = mp.get_context("fork")
+        self._conn, child = ctx.Pipe()
+        self._proc = ctx.Process(target=_serve_store, args=(self.url, child, os.getpid(), hash_paths or []),
+                                 daemon=True)
+        self._proc.start()
+        child.close()
+        self._opened = False
+        self.hashes: dict[str, str | None] = {}
+        """The hashes the helper found for the files of ``hash_paths`` (after :meth:`add_lot`)."""
+
+    def _reply(self):
+        try:
+            return self._conn.recv()
+        except (EOFError, OSError):
+            raise OutputError("the results-store helper process ended unexpectedly", path=shown_url(self.url)) from None
+
+    def add_lot(self, units: Iterable[CheckedUnit], spec: Spec, lot: str, station: str) -> StoreInfo:
+        """:meth:`Store.add_lot`, in the helper process."""
+        if not self._opened:
+            _, exc = self._reply()  # ("open", None | the exception Store() raised)
+            if exc is not None:
+                raise exc
+            self._opened = True
+        self._conn.send(("add", list(units), spec, lot, station))
+        kind, value, self.hashes = self._reply()
+        if kind == "error":
+            raise value
+        return value
+
+    def close(self) -> None:
+        """End the helper (at once when it is still opening or writing: Ctrl-C, a failure)."""
+        with contextlib.suppress(OSError, ValueError):
+            self._conn.send(("close",))
+        self._proc.join(timeout=5 if self._opened else 0.05)
+        if self._proc.is_alive():
+            self._proc.terminate()
+            self._proc.join(timeout=2)
+        self._conn.close()
+
+
+def _portable(exc: BaseException) -> BaseException:
+    """``exc`` if it survives pickling (every MatchtoolError does), else an OutputError saying it."""
+    import pickle
+
+    try:
+        pickle.loads(pickle.dumps(exc))
+        return exc
+    except Exception:  # noqa: BLE001 - anything unpicklable is described instead
+        return OutputError(f"the results store failed ({type(exc).__name__}: {' '.join(str(exc).split())})")
+
+
+def _serve_store(url: str, conn, parent_pid: int, hash_paths: list[str]) -> None:  # pragma: no cover - helper
+    """The helper process of :class:`StoreProcess`: open the store, hash the files, then write
+    what it is sent."""
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and ends this process
+    try:
+        db = Store(url)
+    except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
+        conn.send(("open", _portable(exc)))
+        return
+    conn.send(("open", None))
+    try:
+        from .batch import file_sha256
+
+        hashed = {p: file_sha256(p) for p in hash_paths}
+        while True:
+            if not conn.poll(1.0):
+                if os.getppid() != parent_pid:  # the parent is gone: nothing will come
+                    return
+                continue
+            try:
+                msg = conn.recv()
+            except EOFError:
+                return
+            if msg[0] != "add":
+                return
+            from dataclasses import replace
+
+            units = [replace(c, sha256=hashed[c.result.file]) if c.sha256 is None and c.result.file in hashed else c
+                     for c in msg[1]]
+            try:
+                conn.send(("done", db.add_lot(units, *msg[2:]), hashed))
+            except BaseException as exc:  # noqa: BLE001
+                conn.send(("error", _portable(exc), hashed))
+    finally:
+        db.close()
+
+
+def open_store(url: str, hash_paths: list[str] | None = None) -> Store | StoreProcess:
+    """The store at ``url`` for one check: a :class:`StoreProcess` where processes can be forked
+    (its errors come from ``add_lot``; it hashes ``hash_paths``), else a :class:`Store` (its errors
+    come from here; the caller hashes the files)."""
+    import multiprocessing as mp
+
+    if "fork" in mp.get_all_start_methods():
+        return StoreProcess(url, hash_paths)
+    return Store(url)
 
 
 def _bulk(conn, stmt, table, rows: list[dict]) -> None:

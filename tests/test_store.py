@@ -184,3 +184,77 @@ def test_a_lot_larger_than_one_transaction(tmp_path, spec, monkeypatch):
     import numpy as np
 
     assert r.evaluated == 30 and r.mean == pytest.approx(np.mean(vals)) and r.std == pytest.approx(np.std(vals, ddof=1))
+
+
+# --- the helper process that opens and writes the store while check works (store.StoreProcess) ---
+
+def test_the_helper_process_stores_what_the_store_does(tmp_path, spec):
+    files = []
+    for k in range(3):
+        p = tmp_path / f"f{k}.s1p"
+        p.write_bytes(f"file {k}".encode())
+        files.append(str(p))
+    units = [CheckedUnit(UnitResult(file=f, passed=True, requirements=unit(k, 14.0).result.requirements))
+             for k, f in enumerate(files)]
+    direct, helper = tmp_path / "direct.db", tmp_path / "helper.db"
+    with store.Store(str(direct)) as st:
+        want = st.add_lot([CheckedUnit(u.result, sha256=hashlib.sha256(open(u.result.file, "rb").read()).hexdigest())
+                           for u in units], spec, "L", "st")
+    sp = store.StoreProcess(str(helper), hash_paths=files)
+    try:
+        got = sp.add_lot(units, spec, "L", "st")
+    finally:
+        sp.close()
+    assert not sp._proc.is_alive()
+    assert (got.added, got.duplicates, got.lot, got.station) == (want.added, want.duplicates, "L", "st") == (3, 0, "L", "st")
+    # the hashes the helper took are those of the files' bytes (hashlib here), and rows are alike
+    assert sp.hashes == {f: hashlib.sha256(open(f, "rb").read()).hexdigest() for f in files}
+    q = "select file, sweep_sha256, uid, passed from units order by file"
+    with sqlite3.connect(direct) as a, sqlite3.connect(helper) as b:
+        assert a.execute(q).fetchall() == b.execute(q).fetchall()
+
+
+def test_the_helper_process_raises_the_stores_own_errors(tmp_path, spec):
+    bad = tmp_path / "junk.db"
+    bad.write_bytes(b"this is not a database, just some bytes" * 50)
+    with pytest.raises(InputError) as direct:
+        store.Store(str(bad))
+    sp = store.StoreProcess(str(bad))
+    with pytest.raises(InputError) as helper:
+        sp.add_lot([unit(0, 12.0)], spec, "L", "st")
+    sp.close()
+    assert str(helper.value) == str(direct.value)
+    sp = store.StoreProcess(str(tmp_path / "ok.db"))
+    with pytest.raises(UsageError, match="lot"):
+        sp.add_lot([unit(0, 12.0)], spec, "  ", "st")  # refused by Store.add_lot, in the helper
+    sp.close()
+
+
+def test_closing_the_helper_while_it_opens_ends_it_at_once(tmp_path):
+    import time
+
+    sp = store.StoreProcess(str(tmp_path / "r.db"))
+    t0 = time.perf_counter()
+    sp.close()  # (Ctrl-C during the check: the helper may still be importing)
+    assert not sp._proc.is_alive() and time.perf_counter() - t0 < 3
+
+
+def test_check_store_leaves_sqlalchemy_to_the_helper(tmp_path):
+    # the process that checks the lot never imports SQLAlchemy: that and the connection overlap the check
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    spec = tmp_path / "spec.toml"
+    spec.write_text(SPEC)
+    sweep = tmp_path / "u.s1p"
+    sweep.write_text("# MHz S RI R 50\n900 0.1 0.0\n915 0.05 0.0\n930 0.1 0.0\n")
+    code = ("import sys; from matchtool.cli import main\n"
+            f"rc = main(['check', {str(sweep)!r}, '--spec', {str(spec)!r}, '--store', {str(tmp_path / 'r.db')!r},"
+            " '--lot', 'L', '--json'])\n"
+            "print('SQLALCHEMY', 'sqlalchemy' in sys.modules, rc, file=sys.stderr)")
+    env = dict(os.environ, PYTHONPATH=str(Path(__file__).resolve().parents[1]))
+    p = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120, env=env)
+    assert "SQLALCHEMY False 0" in p.stderr, p.stderr
+    assert '"added": 1' in p.stdout and count(tmp_path / "r.db") == 1

@@ -4,12 +4,13 @@ optionally appended to a results store, split into shards or run on a Dask clust
 from __future__ import annotations
 
 import sys
+from dataclasses import replace
 from pathlib import Path
 from typing import Annotated
 
 import typer
 
-from ..batch import check_lot, default_jobs, expand_inputs, parse_shard
+from ..batch import check_lot, default_jobs, expand_inputs, parse_shard, select_shard
 from ..errors import ExitStatus, MatchtoolError, UsageError
 from ..outputs import atomic_write_many, check_output
 from ..render.json_contract import check_doc, emit_json
@@ -118,21 +119,25 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
         if p and Path(p).suffix.lower() != ext:
             raise UsageError(f"{opt} needs a {ext} file name for the {kind} report", path=p,
                              expected=f"e.g. results{ext}")
-    # the store is opened before the work (a wrong URL is known at once); if it cannot be, the lot
-    # is still checked and the reports written, and the exit status is 2
+    # the store's URL was checked above (a wrong one is known at once); the store itself opens
+    # while the lot is checked; if it cannot be opened, the lot is still checked and the reports
+    # written, and the exit status is 2
     db, store_error = None, None
-    if store:
-        from ..store import Store, default_station
+    if store:  # (opened by a helper process while the lot is checked: its errors come from add_lot)
+        from ..store import StoreProcess, default_station, open_store
 
         station = station or default_station()
+        # the helper process hashes the files while this one checks them (not for a Dask cluster:
+        # its workers hash what they read)
+        ahead = None if scheduler else [i.path for i in select_shard(inputs, shard_kn) if i.error is None]
         try:
-            db = Store(store)
+            db = open_store(store, ahead)
         except MatchtoolError as exc:
             store_error = exc.message_for(PARAMETER_FLAGS)
     from ..render.text.check import PROGRESS_MIN, Progress
 
     kw = dict(jobs=default_jobs() if jobs is None else jobs, shard=shard_kn, scheduler=scheduler,
-              hashes=db is not None, fast_malloc=True)
+              hashes=db is not None and (bool(scheduler) or not isinstance(db, StoreProcess)), fast_malloc=True)
     try:
         if sys.stderr.isatty() and len(inputs) >= PROGRESS_MIN:
             with Progress(len(inputs) if shard_kn is None else -(-len(inputs) // shard_kn[1])) as bar:
@@ -164,6 +169,10 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
                 store_error = exc.message_for(PARAMETER_FLAGS)
             finally:
                 db.close()
+            if getattr(db, "hashes", None):  # hashed by the store's helper process: shown in the JSON too
+                result = replace(result, units=tuple(
+                    replace(c, sha256=db.hashes[c.result.file]) if c.sha256 is None and c.result.file in db.hashes
+                    else c for c in result.units))
     if json_out:
         emit_json(check_doc(result, info, store_error, lot))
     else:
