@@ -26,6 +26,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError, UsageError
+from .numeric import median
 from .spec import RequirementResult, Spec, UnitResult, check_file
 from .touchstone.numbers import use_json_reader
 
@@ -570,7 +571,7 @@ def summarize_lot(results: list[UnitResult], n_worst: int = 5) -> LotSummary:
             counts[r.name][1] += 1
             counts[r.name][0] += int(r.passed)
     f_best = np.array([u.best_f_hz for u in ok if u.best_f_hz is not None], dtype=float)
-    spread = (float(f_best.min()), float(np.median(f_best)), float(f_best.max())) if f_best.size else (None,) * 3
+    spread = (float(f_best.min()), median(f_best), float(f_best.max())) if f_best.size else (None,) * 3
     passed = sum(1 for u in results if u.passed)
     errors = len(results) - len(ok)
     return LotSummary(units=len(results), passed=passed, failed=len(results) - passed - errors, errors=errors,

@@ -45,6 +45,7 @@ import numpy as np
 from .bands import band_samples, sweep_covers
 from .errors import OutOfRangeError, UsageError
 from .feedline import C0_M_PER_S, CableModel
+from .numeric import median
 
 MODES = ("auto", "bandpass", "lowpass-impulse", "lowpass-step")
 """``auto`` picks low-pass on a harmonic sweep from near 0 Hz, band-pass otherwise."""
@@ -522,7 +523,7 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
         # feed's response is sparse (most of the time axis holds no reflection), so that constant is
         # the median of the real response: remove it (derived; it makes the guess of the 0 Hz value
         # harmless); a measured 0 Hz point is kept as it is
-        offset = float(np.median(np.real(h))) if extrapolated else 0.0
+        offset = median(np.real(h)) if extrapolated else 0.0
         h = np.real(h) - offset
         # the envelope of the real response (its analytic signal, as scipy.signal.hilbert forms it;
         # written with numpy because importing scipy.signal costs more than the whole command)
@@ -577,7 +578,7 @@ def analyze(sweep_or_network, cable: CableModel | None = None, velocity_factor: 
     ddist = float(dist_full[1] - dist_full[0])
     # the floors are properties of the measurement, so they apply to the uncompensated trace (loss
     # compensation would otherwise lift the far noise and sidelobes into the list)
-    noise = float(np.median(raw)) * 10 ** (NOISE_MARGIN_DB / 20) if raw.size else 0.0
+    noise = median(raw) * 10 ** (NOISE_MARGIN_DB / 20) if raw.size else 0.0
     if floor_return_loss_db is not None:
         fd = float(floor_return_loss_db)
         if not (math.isfinite(fd) and fd >= 0):

@@ -34,6 +34,7 @@ import numpy as np
 from .. import eseries
 from ..bands import MIN_BAND_SAMPLES, Band, band_samples, find_bands
 from ..errors import NoSolutionError, UsageError
+from ..numeric import median
 from ..parts import Part, PartsLibrary
 from ..reflection import impedance_ohm, return_loss_db
 from ..sweep import Sweep, as_sweep, gamma_at_many
@@ -341,7 +342,7 @@ def _step_targets(run: _Run) -> None:
         gamma_at_many(sw.f_hz, sw.gamma, np.array([t.f_low_hz, t.f_high_hz]), sw.path)  # raises outside
         inside = int(np.count_nonzero((sw.f_hz >= t.f_low_hz) & (sw.f_hz <= t.f_high_hz)))
         if inside < MIN_BAND_SAMPLES:
-            step = float(np.median(np.diff(sw.f_hz))) if sw.f_hz.size > 1 else math.nan
+            step = median(np.diff(sw.f_hz)) if sw.f_hz.size > 1 else math.nan
             raise UsageError(f"band {t.f_low_hz / 1e6:.6g} to {t.f_high_hz / 1e6:.6g} MHz holds only {inside} "
                              f"measured sample(s) (sweep step {step / 1e6:.4g} MHz)", path=sw.path,
                              expected=f"a band holding at least {MIN_BAND_SAMPLES} samples, or --at FREQ")
