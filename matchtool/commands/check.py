@@ -50,7 +50,7 @@ def register(app: typer.Typer) -> None:
         junit: Annotated[str | None, typer.Option("--junit", metavar="FILE", help="Write a JUnit XML report.")] = None,
         csv_path: Annotated[str | None, typer.Option("--csv", metavar="FILE", help="Write a CSV report.")] = None,
         jobs: Annotated[int | None, typer.Option(
-            "--jobs", metavar="N", help="Worker processes [default: the machine's cores; small lots run in-process].",
+            "--jobs", metavar="N", help="Processes: this one and N-1 workers [default: the machine's cores; small lots run in this one].",
             show_default=False)] = None,
         force: ForceOpt = False,
         store: Annotated[str | None, typer.Option(
