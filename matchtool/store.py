@@ -226,7 +226,8 @@ def shown_url(url: str) -> str:
 
         return make_url(url).render_as_string(hide_password=True).replace("postgresql+psycopg://", "postgresql://")
     except Exception:  # an unparseable URL: show no part of what may hold a password
-        return url.split("://", 1)[0] + "://..." if "@" in url else url
+        shown = url.split("://", 1)[0] + "://..." if "@" in url else url
+        return shown.replace("postgresql+psycopg://", "postgresql://")
 
 
 def _db_reason(exc: BaseException) -> str:
@@ -258,7 +259,7 @@ class Store:
                 if not os.path.isdir(parent):
                     raise InputError(f"directory {parent!r} does not exist", path=path)
             # isolation_level=None: the driver leaves transactions to us (BEGIN IMMEDIATE below)
-            self.engine = create_engine(self.url, connect_args={"timeout": BUSY_TIMEOUT_S, "isolation_level": None})
+            self.engine = self._engine(create_engine, connect_args={"timeout": BUSY_TIMEOUT_S, "isolation_level": None})
 
             @event.listens_for(self.engine, "connect")
             def _pragmas(dbapi_conn, _rec):  # pragma: no cover - exercised through every sqlite test
@@ -273,14 +274,27 @@ class Store:
             except ImportError:
                 raise UsageError("a PostgreSQL store needs the psycopg driver", parameter="store", value=self.shown,
                                  expected="pip install 'psycopg[binary]'") from None
-            self.engine = create_engine(self.url, pool_pre_ping=False, connect_args={"connect_timeout": 10})
+            self.engine = self._engine(create_engine, pool_pre_ping=False, connect_args={"connect_timeout": 10})
         try:
             self._prepare(create)
         except SQLAlchemyError as exc:
             self.engine.dispose()
             raise InputError(f"cannot open the results store ({_db_reason(exc)})", path=self.shown) from None
 
-    def close(self) -> None:
+    def _engine(self, create_engine, **kw):
+        """SQLAlchemy's engine for the URL; a URL it cannot read (a port that is not a number, a
+        malformed host) is a bad --store value, said in one line."""
+        from sqlalchemy.exc import ArgumentError
+
+        try:
+            return create_engine(self.url, **kw)
+        except (ArgumentError, ValueError, TypeError):
+            raise UsageError("is not a store URL that can be read", parameter="store", value=self.shown,
+                             expected="a file path, sqlite:///path or postgresql://user@host[:port]/db") from None
+
+    def close(self, abort: bool = False) -> None:
+        """Close the connections (``abort`` is for :class:`StoreProcess`; here a transaction in
+        progress is rolled back by the interrupt itself)."""
         self.engine.dispose()
 
     def __enter__(self) -> Store:
@@ -502,30 +516,30 @@ class StoreProcess:
     """A :class:`Store` opened and written by a forked helper process, so that the import of
     SQLAlchemy and the connection (about 0.2 s, the most of what a store adds to a check) overlap
     the check itself. For what ``check`` needs (``add_lot``, ``close``) it behaves as the Store
-    does: the same results, and the same exceptions (raised here, by ``add_lot``, including the
-    one of a store that could not be opened). The files of ``hash_paths`` are hashed by the helper
-    too (SHA-256 of their bytes), once the store is open, and units handed to :meth:`add_lot`
-    without a hash get theirs. Use :func:`open_store`."""
+    does: the same rows, and the same exceptions (raised here, by ``add_lot``, including the one of
+    a store that could not be opened). The files are still hashed by the process that checks them,
+    right after reading them (a file rewritten during a long lot must not get another file's
+    hash). Use :func:`open_store`."""
 
-    def __init__(self, url: str, hash_paths: list[str] | None = None) -> None:
+    def __init__(self, url: str) -> None:
         import multiprocessing as mp
 
         self.url = normalise_url(url)  # (not shown_url here: it imports SQLAlchemy)
         ctx = mp.get_context("fork")
         self._conn, child = ctx.Pipe()
-        self._proc = ctx.Process(target=_serve_store, args=(self.url, child, os.getpid(), hash_paths or []),
-                                 daemon=True)
+        self._proc = ctx.Process(target=_serve_store, args=(self.url, child, self._conn, os.getpid()), daemon=True)
         self._proc.start()
         child.close()
         self._opened = False
-        self.hashes: dict[str, str | None] = {}
-        """The hashes the helper found for the files of ``hash_paths`` (after :meth:`add_lot`)."""
+
+    def _gone(self) -> OutputError:
+        return OutputError("the results-store helper process ended unexpectedly", path=shown_url(self.url))
 
     def _reply(self):
         try:
             return self._conn.recv()
         except (EOFError, OSError):
-            raise OutputError("the results-store helper process ended unexpectedly", path=shown_url(self.url)) from None
+            raise self._gone() from None
 
     def add_lot(self, units: Iterable[CheckedUnit], spec: Spec, lot: str, station: str) -> StoreInfo:
         """:meth:`Store.add_lot`, in the helper process."""
@@ -534,17 +548,22 @@ class StoreProcess:
             if exc is not None:
                 raise exc
             self._opened = True
-        self._conn.send(("add", list(units), spec, lot, station))
-        kind, value, self.hashes = self._reply()
+        try:
+            self._conn.send(("add", list(units), spec, lot, station))
+        except (OSError, ValueError):  # the helper died after opening (killed, out of memory)
+            raise self._gone() from None
+        kind, value = self._reply()
         if kind == "error":
             raise value
         return value
 
-    def close(self) -> None:
-        """End the helper (at once when it is still opening or writing: Ctrl-C, a failure)."""
-        with contextlib.suppress(OSError, ValueError):
-            self._conn.send(("close",))
-        self._proc.join(timeout=5 if self._opened else 0.05)
+    def close(self, abort: bool = False) -> None:
+        """End the helper: at once when it is still opening, or when ``abort`` (Ctrl-C, a failure:
+        a write in progress is then not committed), else after it has closed the store."""
+        if not abort:
+            with contextlib.suppress(OSError, ValueError):
+                self._conn.send(("close",))
+        self._proc.join(timeout=5 if self._opened and not abort else 0.05)
         if self._proc.is_alive():
             self._proc.terminate()
             self._proc.join(timeout=2)
@@ -552,32 +571,48 @@ class StoreProcess:
 
 
 def _portable(exc: BaseException) -> BaseException:
-    """``exc`` if it survives pickling (every MatchtoolError does), else an OutputError saying it."""
+    """``exc`` if it is a MatchtoolError that survives pickling, else an OutputError describing it
+    (a library's exception text never reaches the user raw)."""
     import pickle
 
-    try:
-        pickle.loads(pickle.dumps(exc))
-        return exc
-    except Exception:  # noqa: BLE001 - anything unpicklable is described instead
-        return OutputError(f"the results store failed ({type(exc).__name__}: {' '.join(str(exc).split())})")
+    from .errors import MatchtoolError
+
+    if isinstance(exc, MatchtoolError):
+        try:
+            pickle.loads(pickle.dumps(exc))
+            return exc
+        except Exception:  # noqa: BLE001 - described below instead
+            pass
+    return OutputError(f"the results store failed ({type(exc).__name__}: {' '.join(str(exc).split())[:200]})")
 
 
-def _serve_store(url: str, conn, parent_pid: int, hash_paths: list[str]) -> None:  # pragma: no cover - helper
-    """The helper process of :class:`StoreProcess`: open the store, hash the files, then write
-    what it is sent."""
+def _die_with_parent() -> None:  # pragma: no cover - Linux only, runs in the helper process
+    """Ask the kernel for SIGTERM when the parent ends (prctl PR_SET_PDEATHSIG; Linux only)."""
+    import ctypes
+    import signal
+    import sys
+
+    if sys.platform.startswith("linux"):
+        with contextlib.suppress(OSError, AttributeError):
+            ctypes.CDLL(None, use_errno=True).prctl(1, int(signal.SIGTERM), 0, 0, 0)
+
+
+def _serve_store(url: str, conn, parent_end, parent_pid: int) -> None:  # pragma: no cover - the helper
+    """The helper process of :class:`StoreProcess`: open the store, then write what it is sent."""
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # the parent handles Ctrl-C and ends this process
+    parent_end.close()  # so that the parent's end closing (it exits) reaches this process as EOF
+    _die_with_parent()
+    if os.getppid() != parent_pid:  # the parent ended before the request above
+        return
     try:
         db = Store(url)
     except BaseException as exc:  # noqa: BLE001 - every failure goes back to the parent
         conn.send(("open", _portable(exc)))
         return
-    conn.send(("open", None))
     try:
-        from .batch import file_sha256
-
-        hashed = {p: file_sha256(p) for p in hash_paths}
+        conn.send(("open", None))
         while True:
             if not conn.poll(1.0):
                 if os.getppid() != parent_pid:  # the parent is gone: nothing will come
@@ -589,26 +624,21 @@ def _serve_store(url: str, conn, parent_pid: int, hash_paths: list[str]) -> None
                 return
             if msg[0] != "add":
                 return
-            from dataclasses import replace
-
-            units = [replace(c, sha256=hashed[c.result.file]) if c.sha256 is None and c.result.file in hashed else c
-                     for c in msg[1]]
             try:
-                conn.send(("done", db.add_lot(units, *msg[2:]), hashed))
+                conn.send(("done", db.add_lot(*msg[1:])))
             except BaseException as exc:  # noqa: BLE001
-                conn.send(("error", _portable(exc), hashed))
+                conn.send(("error", _portable(exc)))
     finally:
         db.close()
 
 
-def open_store(url: str, hash_paths: list[str] | None = None) -> Store | StoreProcess:
+def open_store(url: str) -> Store | StoreProcess:
     """The store at ``url`` for one check: a :class:`StoreProcess` where processes can be forked
-    (its errors come from ``add_lot``; it hashes ``hash_paths``), else a :class:`Store` (its errors
-    come from here; the caller hashes the files)."""
+    (its errors come from ``add_lot``), else a :class:`Store` (its errors come from here)."""
     import multiprocessing as mp
 
     if "fork" in mp.get_all_start_methods():
-        return StoreProcess(url, hash_paths)
+        return StoreProcess(url)
     return Store(url)
 
 

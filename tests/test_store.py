@@ -189,29 +189,24 @@ def test_a_lot_larger_than_one_transaction(tmp_path, spec, monkeypatch):
 # --- the helper process that opens and writes the store while check works (store.StoreProcess) ---
 
 def test_the_helper_process_stores_what_the_store_does(tmp_path, spec):
-    files = []
-    for k in range(3):
-        p = tmp_path / f"f{k}.s1p"
-        p.write_bytes(f"file {k}".encode())
-        files.append(str(p))
-    units = [CheckedUnit(UnitResult(file=f, passed=True, requirements=unit(k, 14.0).result.requirements))
-             for k, f in enumerate(files)]
+    units = [unit(k, 9.0 + k) for k in range(5)]
     direct, helper = tmp_path / "direct.db", tmp_path / "helper.db"
     with store.Store(str(direct)) as st:
-        want = st.add_lot([CheckedUnit(u.result, sha256=hashlib.sha256(open(u.result.file, "rb").read()).hexdigest())
-                           for u in units], spec, "L", "st")
-    sp = store.StoreProcess(str(helper), hash_paths=files)
+        want = st.add_lot(units, spec, "L", "st")
+    sp = store.StoreProcess(str(helper))
     try:
         got = sp.add_lot(units, spec, "L", "st")
+        again = sp.add_lot(units, spec, "L", "st")  # the same units again: duplicates, as in the Store
     finally:
         sp.close()
     assert not sp._proc.is_alive()
-    assert (got.added, got.duplicates, got.lot, got.station) == (want.added, want.duplicates, "L", "st") == (3, 0, "L", "st")
-    # the hashes the helper took are those of the files' bytes (hashlib here), and rows are alike
-    assert sp.hashes == {f: hashlib.sha256(open(f, "rb").read()).hexdigest() for f in files}
-    q = "select file, sweep_sha256, uid, passed from units order by file"
+    assert (got.added, got.duplicates, got.lot, got.station) == (want.added, want.duplicates, "L", "st") == (5, 0, "L", "st")
+    assert (again.added, again.duplicates) == (0, 5)
+    q = "select file, sweep_sha256, uid, passed, best_f_hz from units order by file"
+    r = "select name, worst, margin_db, relative_margin from requirements order by worst"
     with sqlite3.connect(direct) as a, sqlite3.connect(helper) as b:
         assert a.execute(q).fetchall() == b.execute(q).fetchall()
+        assert a.execute(r).fetchall() == b.execute(r).fetchall()
 
 
 def test_the_helper_process_raises_the_stores_own_errors(tmp_path, spec):
@@ -230,13 +225,74 @@ def test_the_helper_process_raises_the_stores_own_errors(tmp_path, spec):
     sp.close()
 
 
-def test_closing_the_helper_while_it_opens_ends_it_at_once(tmp_path):
+@pytest.mark.parametrize("url", ["postgresql://u@h:abc/db", "postgresql://u@[::1/db", "sqlite://relative"])
+def test_a_url_sqlalchemy_cannot_read_is_one_line_naming_store(url, spec):
+    with pytest.raises(UsageError) as direct:
+        store.Store(url)
+    assert direct.value.parameter == "store" and "is not a store URL" in str(direct.value)
+    sp = store.StoreProcess(url)
+    with pytest.raises(UsageError) as helper:
+        sp.add_lot([unit(0, 12.0)], spec, "L", "st")
+    sp.close()
+    assert str(helper.value) == str(direct.value) and "\n" not in str(helper.value)
+    assert "invalid literal" not in str(helper.value)  # no library text
+
+
+def test_a_helper_that_dies_after_opening_is_one_error(tmp_path, spec):
+    sp = store.StoreProcess(str(tmp_path / "r.db"))
+    assert sp._conn.poll(30)  # opened
+    sp._proc.kill()
+    sp._proc.join(5)
+    with pytest.raises(OutputError, match="helper process ended unexpectedly"):
+        sp.add_lot([unit(0, 12.0)], spec, "L", "st")
+    sp.close()
+
+
+def test_closing_the_helper_ends_it_at_once(tmp_path):
     import time
 
-    sp = store.StoreProcess(str(tmp_path / "r.db"))
-    t0 = time.perf_counter()
-    sp.close()  # (Ctrl-C during the check: the helper may still be importing)
-    assert not sp._proc.is_alive() and time.perf_counter() - t0 < 3
+    for abort in (False, True):
+        sp = store.StoreProcess(str(tmp_path / "r.db"))
+        t0 = time.perf_counter()
+        sp.close(abort=abort)  # (Ctrl-C during the check: the helper may still be importing)
+        assert not sp._proc.is_alive() and time.perf_counter() - t0 < 3
+
+
+def test_the_helper_ends_when_its_parent_is_killed(tmp_path):
+    import os
+    import signal
+    import time
+
+    pid_file = tmp_path / "helper.pid"
+    parent = os.fork()
+    if parent == 0:  # a parent that opens a store, then dies without closing it
+        try:
+            sp = store.StoreProcess(str(tmp_path / "r.db"))
+            sp._conn.poll(30)
+            pid_file.write_text(str(sp._proc.pid))
+            time.sleep(60)
+        finally:
+            os._exit(0)
+    for _ in range(300):
+        if pid_file.exists() and pid_file.read_text():
+            break
+        time.sleep(0.05)
+    helper = int(pid_file.read_text())
+    os.kill(parent, signal.SIGKILL)
+    os.waitpid(parent, 0)
+    deadline = time.monotonic() + 10
+    while time.monotonic() < deadline:
+        try:
+            os.kill(helper, 0)
+        except ProcessLookupError:
+            break
+        with open(f"/proc/{helper}/stat") as fh:  # an exited child of init may linger as a zombie
+            if fh.read().split(")")[-1].split()[0] == "Z":
+                break
+        time.sleep(0.05)
+    else:
+        os.kill(helper, signal.SIGKILL)
+        pytest.fail("the store's helper process outlived its parent")
 
 
 def test_check_store_leaves_sqlalchemy_to_the_helper(tmp_path):

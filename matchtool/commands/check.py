@@ -4,13 +4,12 @@ optionally appended to a results store, split into shards or run on a Dask clust
 from __future__ import annotations
 
 import sys
-from dataclasses import replace
 from pathlib import Path
 from typing import Annotated
 
 import typer
 
-from ..batch import check_lot, default_jobs, expand_inputs, parse_shard, select_shard
+from ..batch import check_lot, default_jobs, expand_inputs, parse_shard
 from ..errors import ExitStatus, MatchtoolError, UsageError
 from ..outputs import atomic_write_many, check_output
 from ..render.json_contract import check_doc, emit_json
@@ -50,7 +49,8 @@ def register(app: typer.Typer) -> None:
         junit: Annotated[str | None, typer.Option("--junit", metavar="FILE", help="Write a JUnit XML report.")] = None,
         csv_path: Annotated[str | None, typer.Option("--csv", metavar="FILE", help="Write a CSV report.")] = None,
         jobs: Annotated[int | None, typer.Option(
-            "--jobs", metavar="N", help="Processes: this one and N-1 workers [default: the machine's cores; small lots run in this one].",
+            "--jobs", metavar="N",
+            help="Processes: this one and N-1 workers [default: the machine's cores; small lots run in this one].",
             show_default=False)] = None,
         force: ForceOpt = False,
         store: Annotated[str | None, typer.Option(
@@ -124,20 +124,17 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     # written, and the exit status is 2
     db, store_error = None, None
     if store:  # (opened by a helper process while the lot is checked: its errors come from add_lot)
-        from ..store import StoreProcess, default_station, open_store
+        from ..store import default_station, open_store
 
         station = station or default_station()
-        # the helper process hashes the files while this one checks them (not for a Dask cluster:
-        # its workers hash what they read)
-        ahead = None if scheduler else [i.path for i in select_shard(inputs, shard_kn) if i.error is None]
         try:
-            db = open_store(store, ahead)
+            db = open_store(store)
         except MatchtoolError as exc:
             store_error = exc.message_for(PARAMETER_FLAGS)
     from ..render.text.check import PROGRESS_MIN, Progress
 
     kw = dict(jobs=default_jobs() if jobs is None else jobs, shard=shard_kn, scheduler=scheduler,
-              hashes=db is not None and (bool(scheduler) or not isinstance(db, StoreProcess)), fast_malloc=True)
+              hashes=db is not None, fast_malloc=True)
     try:
         if sys.stderr.isatty() and len(inputs) >= PROGRESS_MIN:
             with Progress(len(inputs) if shard_kn is None else -(-len(inputs) // shard_kn[1])) as bar:
@@ -146,7 +143,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
             result = check_lot(inputs, spec, **kw)
     except BaseException:
         if db is not None:
-            db.close()
+            db.close(abort=True)
         raise
     outputs: list[tuple[str, str]] = []
     if junit:
@@ -167,12 +164,12 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
                 info = db.add_lot(result.units, spec, lot.strip(), station)
             except MatchtoolError as exc:
                 store_error = exc.message_for(PARAMETER_FLAGS)
-            finally:
                 db.close()
-            if getattr(db, "hashes", None):  # hashed by the store's helper process: shown in the JSON too
-                result = replace(result, units=tuple(
-                    replace(c, sha256=db.hashes[c.result.file]) if c.sha256 is None and c.result.file in db.hashes
-                    else c for c in result.units))
+            except BaseException:  # Ctrl-C while writing: the write is not committed
+                db.close(abort=True)
+                raise
+            else:
+                db.close()
     if json_out:
         emit_json(check_doc(result, info, store_error, lot))
     else:
