@@ -36,10 +36,11 @@ IN_PROCESS_MAX = 64
 SAMPLE_FILES = 16
 """A larger lot starts in-process; after this many files (and after every file from then on) the
 time the rest would take in one process is estimated from the files so far."""
-POOL_MIN_S = 0.2
-"""The rest goes to worker processes only when it would take longer than this in one process: a
-forked worker starts in a few milliseconds, but the results come back pickled, so a lot that is
-quick anyway stays in-process (two jobs are never slower than one)."""
+POOL_MIN_S = 0.3
+"""The rest goes to worker processes only when it would take longer than this in one process
+(estimated from the files after the first, which pays one-time costs): a forked worker starts in
+a few milliseconds, but the hand-over of chunks and results costs some 0.05-0.1 s on two cores,
+so a lot that is quick anyway stays in-process (two jobs are never slower than one)."""
 MAX_JOBS_PER_CORE = 4
 LOT_READER_MIN_FILES = 16
 """A lot of more files than this imports the JSON reader for its numbers up front (about 14 ms,
@@ -279,16 +280,18 @@ def _run_local(paths: list[str], spec: Spec, jobs: int, tune: bool, hashes: bool
     """In-process first; hand the rest to worker processes only when it is worth it (see
     :data:`POOL_MIN_S`)."""
     out: list[CheckedUnit] = []
-    t0 = time.perf_counter()
+    t1 = 0.0
     k = 0
-    sample = min(IN_PROCESS_MAX, SAMPLE_FILES)
+    sample = max(2, min(IN_PROCESS_MAX, SAMPLE_FILES))
     while k < len(paths):
         out.append(_check_one(paths[k], spec, hashes))
         k += 1
+        if k == 1:
+            t1 = time.perf_counter()  # the first file pays one-time costs (lazy imports): not counted
         if progress:
             progress(1)
         if jobs > 1 and len(paths) > IN_PROCESS_MAX and k >= sample and k < len(paths):
-            if (time.perf_counter() - t0) / k * (len(paths) - k) > POOL_MIN_S:
+            if (time.perf_counter() - t1) / (k - 1) * (len(paths) - k) > POOL_MIN_S:
                 break
     if k < len(paths):
         out.extend(_run_pool(paths[k:], spec, jobs, tune, hashes, progress))

@@ -173,11 +173,16 @@ class Row:
             return None
         return self.ours_cpu / self.base_cpu
 
-    def set_times(self, ours: list[Run], base: list[Run] | None) -> None:
-        self.ours, self.ours_cpu = median_wall(ours), median_cpu(ours)
+    def set_times(self, ours: list[Run], base: list[Run] | None, best: bool = False) -> None:
+        """Medians of the runs; ``best``: their minima instead (for two commands that do the same
+        work, where the question is whether one adds a cost: the fastest run of each is the one
+        least disturbed by the machine; the timeit documentation gives the same advice)."""
+        wall, cpu = (lambda rs: min(r.wall_s for r in rs), lambda rs: min(r.cpu_s for r in rs)) if best else \
+            (median_wall, median_cpu)
+        self.ours, self.ours_cpu = wall(ours), cpu(ours)
         self.samples["ours_wall_s"] = [round(x.wall_s, 4) for x in ours]
         if base:
-            self.base, self.base_cpu = median_wall(base), median_cpu(base)
+            self.base, self.base_cpu = wall(base), cpu(base)
             self.samples["base_wall_s"] = [round(x.wall_s, 4) for x in base]
 
     def judge(self) -> None:
@@ -348,15 +353,18 @@ def p1(run: Runner, tmp: Path, sz: Sizes) -> list[Row]:
             r.status = "not built yet" if nb else "error"
             r.note = nb or failed([probe], (0, 1)) or ""
         return rows
-    res = run.compare(cands, sz.reps_slow)
+    res = run.compare({k: cands[k] for k in ("base", "j1", "j2")}, sz.reps_slow)
+    # the small lot takes a third of a second: more repetitions, so that the 5 % judged is not noise
+    res.update(run.compare({k: cands[k] for k in ("s1", "s2")}, sz.reps_fast))
     for r, key, base in zip(rows, ("j1", "j2", "s2"), ("base", "base", "s1"), strict=True):
         bad = failed(res[key], (0, 1)) or failed(res[base], (0, 1) if base == "s1" else (0,))
         if bad:
             r.status, r.note = "error", bad
             continue
-        r.set_times(res[key], res[base])
+        r.set_times(res[key], res[base], best=key == "s2")
     rows[0].note = f"baseline: one process, skrf.Network over the {sz.p1_files} files"
-    rows[2].note = f"baseline: the same {small} files with --jobs 1"
+    rows[2].note = (f"baseline: the same {small} files with --jobs 1; fastest of {sz.reps_fast} interleaved runs "
+                    "each (both stay in one process: is --jobs 2 adding a cost?)")
     return rows
 
 
