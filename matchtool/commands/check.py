@@ -119,9 +119,10 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
         if p and Path(p).suffix.lower() != ext:
             raise UsageError(f"{opt} needs a {ext} file name for the {kind} report", path=p,
                              expected=f"e.g. results{ext}")
-    # the store's URL was checked above (a wrong one is known at once); the store itself opens
-    # while the lot is checked; if it cannot be opened, the lot is still checked and the reports
-    # written, and the exit status is 2
+    # the kind of store URL was checked above (an unknown one is refused at once); the store itself
+    # opens while the lot is checked; if it cannot be opened (a URL it cannot read, a missing
+    # directory, a server that does not answer), the lot is still checked and the reports written,
+    # and the exit status is 2
     db, store_error = None, None
     if store:  # (opened by a helper process while the lot is checked: its errors come from add_lot)
         from ..store import default_station, open_store
