@@ -42,11 +42,11 @@ POOL_MIN_S = 0.3
 a few milliseconds, but the hand-over of chunks and results costs some 0.05-0.1 s on two cores,
 so a lot that is quick anyway stays in-process (two jobs are never slower than one)."""
 MAX_JOBS_PER_CORE = 4
+"""``--jobs`` above this many processes per usable core is lowered to it (``--jobs 100000`` on a lot
+of a thousand files would otherwise fork a thousand processes on a shared machine)."""
 LOT_READER_MIN_FILES = 16
 """A lot of more files than this imports the JSON reader for its numbers up front (about 14 ms,
 paid back after a few dozen files of 1,601 points; see ``touchstone.numbers``)."""
-"""``--jobs`` above this many processes per usable core is lowered to it (``--jobs 100000`` on a lot
-of a thousand files would otherwise fork a thousand processes on a shared machine)."""
 
 _GLOB_CHARS = re.compile(r"[*?\[]")
 
@@ -152,10 +152,14 @@ def file_sha256(path: str | Path) -> str | None:
 
 
 def _check_one(path: str, spec: Spec, hashes: bool) -> CheckedUnit:
+    """Check one file; with ``hashes``, the SHA-256 of the very bytes that were checked (None when
+    the file could not be read)."""
     t0 = time.perf_counter()
-    u = check_file(path, spec)
-    digest = file_sha256(path) if hashes else None
-    return CheckedUnit(u, digest, time.perf_counter() - t0)
+    if not hashes:
+        return CheckedUnit(check_file(path, spec), None, time.perf_counter() - t0)
+    h, read = hashlib.sha256(), []
+    u = check_file(path, spec, on_bytes=lambda raw: (h.update(raw), read.append(True)))
+    return CheckedUnit(u, h.hexdigest() if read else None, time.perf_counter() - t0)
 
 
 _WORKER_SPEC: Spec | None = None

@@ -23,6 +23,7 @@ from __future__ import annotations
 import os
 import re
 import stat
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -216,10 +217,20 @@ def _first_data_line(head: bytes) -> int:
         k = end + 1
 
 
-def read_touchstone(path: str | Path, max_bytes: int | None = None) -> str | bytes | PlainParts:
+def read_touchstone(path: str | Path, max_bytes: int | None = None,
+                    on_bytes: Callable[[bytes], object] | None = None) -> str | bytes | PlainParts:
     """:func:`read_text` of a Touchstone file, with the same refusals and messages, as plain
     ASCII bytes where the file is plain ASCII (see :func:`plain_touchstone`), a large one as
-    :class:`PlainParts`; ``matchtool.touchstone.parse_touchstone`` takes each of them."""
+    :class:`PlainParts`; ``matchtool.touchstone.parse_touchstone`` takes each of them.
+
+    ``on_bytes`` is called with the file's bytes as they are read, in order, before any decoding
+    (so a file that cannot be decoded is still seen; one refused before reading is not): the
+    store hashes what was checked, not a second read of the file."""
+    def seen(raw: bytes) -> bytes:
+        if on_bytes is not None:
+            on_bytes(raw)
+        return raw
+
     if not str(path) or "\x00" in str(path):
         return plain_touchstone(read_bytes(path, max_bytes, "a Touchstone file", TouchstoneError), path)
     try:
@@ -227,7 +238,7 @@ def read_touchstone(path: str | Path, max_bytes: int | None = None) -> str | byt
     except (OSError, ValueError):
         size = 0
     if size < SPLIT_MIN_BYTES:
-        return plain_touchstone(read_bytes(path, max_bytes, "a Touchstone file", TouchstoneError), path)
+        return plain_touchstone(seen(read_bytes(path, max_bytes, "a Touchstone file", TouchstoneError)), path)
     # the checks of read_bytes (missing, directory, special file, over the limit) on a small read
     read_bytes(path, max_bytes, "a Touchstone file", TouchstoneError, _probe=True)
     limit = _default_max_bytes if max_bytes is None else int(max_bytes)
@@ -243,6 +254,8 @@ def read_touchstone(path: str | Path, max_bytes: int | None = None) -> str | byt
     if total > limit:
         raise TouchstoneError(f"file is over the input limit of {limit / 2**20:.1f} MB", path=path,
                               expected=LIMIT_HINT)
+    seen(head)
+    seen(rest)
     if _plain(head) and _plain(rest):
         return PlainParts(head, rest)
     return decode_touchstone(head + rest, path)

@@ -69,6 +69,7 @@ from __future__ import annotations
 import math
 import tomllib
 import unicodedata
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, ClassVar
@@ -1061,7 +1062,8 @@ def evaluate(sweep: Sweep | Any, spec: Spec) -> UnitResult:
 from .inputs import SPECIAL_FILE, is_special_file, read_touchstone, special_file_error  # noqa: E402,F401
 
 
-def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, list[str], int]:
+def _read_unit(path: str | Path, spec: Spec, on_bytes: Callable[[bytes], object] | None = None
+               ) -> tuple[np.ndarray, np.ndarray, list[str], int]:
     """(f_hz, S-matrix (n, N, N) at the spec's impedance, warnings, N) of one file, read once.
 
     Like :func:`matchtool.sweep.load` but without an ``skrf.Network`` in the common case (no
@@ -1069,7 +1071,8 @@ def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, li
     objects would cost more than the evaluation itself. A spec naming a port the file lacks raises
     SpecError (one line naming the file, the port and the spec key).
     """
-    ts = parse_touchstone(read_touchstone(path), path, ports_from_name(path), checked=True)  # ASCII files stay bytes
+    ts = parse_touchstone(read_touchstone(path, on_bytes=on_bytes), path, ports_from_name(path),
+                          checked=True)  # ASCII files stay bytes
     n = ts.s.shape[1]
     err = _missing_port(str(path), n, spec)
     if err is not None:
@@ -1090,14 +1093,15 @@ def _read_unit(path: str | Path, spec: Spec) -> tuple[np.ndarray, np.ndarray, li
     return ts.f_hz, s, warnings, n
 
 
-def check_file(path: str | Path, spec: Spec) -> UnitResult:
+def check_file(path: str | Path, spec: Spec, on_bytes: Callable[[bytes], object] | None = None) -> UnitResult:
     """Load one file with the spec's ports and impedance and evaluate it; a file that cannot be
-    read (or lacks a port the spec names) gives a UnitResult with ``error`` set instead of raising."""
+    read (or lacks a port the spec names) gives a UnitResult with ``error`` set instead of raising.
+    ``on_bytes`` sees the file's bytes as they are read (see ``inputs.read_touchstone``)."""
     special = special_file_error(path)
     if special is not None:
         return UnitResult(file=str(path), passed=False, error=special)
     try:
-        f_hz, s, warnings, n = _read_unit(path, spec)
+        f_hz, s, warnings, n = _read_unit(path, spec, on_bytes)
         if spec.needs_matrix:
             return evaluate_arrays(f_hz, s, spec, file=str(path), warnings=warnings)
         # the one-port fast path: the reflection alone (the N-port warning added here)

@@ -241,3 +241,40 @@ def test_a_unit_is_listed_under_every_requirement_it_misses_most():
     assert batch.worst_of_requirement(s, "resonance").file == "big.s1p"
     assert batch.worst_of_requirement(s, "resonance").margin_hz == pytest.approx(-22.75e6)
     assert batch.worst_of_requirement(s, "nothing") is None
+
+
+def test_the_hash_is_of_the_bytes_checked_read_once(tmp_path, spec, monkeypatch):
+    """With hashes (a store), each file is opened once: its SHA-256 is taken from the bytes the
+    check read (hashlib over the file here), also for a large file read in two parts and for one
+    that reads but does not parse; a missing file, a FIFO and one over the size limit get none."""
+    import builtins
+    import hashlib
+
+    from matchtool import inputs
+
+    small = make_lot(tmp_path / "lot", [915e6])[0]
+    big = tmp_path / "big.s1p"
+    big.write_text("! a big one\n# MHz S RI R 50\n" + "".join(f"{800 + k * 1e-4:.4f} 0.1 0.2\n"
+                                                            for k in range(inputs.SPLIT_MIN_BYTES // 12)))
+    assert big.stat().st_size >= inputs.SPLIT_MIN_BYTES
+    broken = tmp_path / "broken.s1p"
+    broken.write_text("# MHz S RI R 50\n900 0.1\n")
+    fifo = tmp_path / "pipe.s1p"
+    os.mkfifo(fifo)
+    opened = []
+    real_open = builtins.open
+
+    def counting(file, *a, **k):
+        opened.append(str(file))
+        return real_open(file, *a, **k)
+
+    monkeypatch.setattr(builtins, "open", counting)
+    for p in (small, big, broken):
+        c = batch._check_one(str(p), spec, True)
+        assert opened.count(str(p)) == 1  # one read for the check and the hash
+        assert c.sha256 == hashlib.sha256(p.read_bytes()).hexdigest()
+    assert batch._check_one(str(tmp_path / "missing.s1p"), spec, True).sha256 is None
+    assert batch._check_one(str(fifo), spec, True).sha256 is None  # never opened (it would block)
+    monkeypatch.setattr(inputs, "_default_max_bytes", 100)
+    over = batch._check_one(str(small), spec, True)
+    assert over.result.error and "over the input limit" in over.result.error and over.sha256 is None
