@@ -518,7 +518,7 @@ class StoreProcess:
     the check itself. For what ``check`` needs (``add_lot``, ``close``) it behaves as the Store
     does: the same rows, and the same exceptions (raised here, by ``add_lot``, including the one of
     a store that could not be opened). The files are still hashed by the process that checks them,
-    right after reading them (a file rewritten during a long lot must not get another file's
+    from the bytes it checked (a file rewritten during a long lot must not get another file's
     hash). Use :func:`open_store`."""
 
     def __init__(self, url: str) -> None:
@@ -583,7 +583,7 @@ def _portable(exc: BaseException) -> BaseException:
             return exc
         except Exception:  # noqa: BLE001 - described below instead
             pass
-    return OutputError(f"the results store failed ({type(exc).__name__}: {' '.join(str(exc).split())[:200]})")
+    return OutputError(f"the results store failed unexpectedly ({type(exc).__name__})")
 
 
 def _die_with_parent() -> None:  # pragma: no cover - Linux only, runs in the helper process

@@ -124,7 +124,7 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
     # directory, a server that does not answer), the lot is still checked and the reports written,
     # and the exit status is 2
     db, store_error = None, None
-    if store:  # (opened by a helper process while the lot is checked: its errors come from add_lot)
+    if store:
         from ..store import default_station, open_store
 
         station = station or default_station()
@@ -165,12 +165,10 @@ def run_check(sweeps: list[str], spec_path: str, json_out: bool = False, junit: 
                 info = db.add_lot(result.units, spec, lot.strip(), station)
             except MatchtoolError as exc:
                 store_error = exc.message_for(PARAMETER_FLAGS)
-                db.close()
             except BaseException:  # Ctrl-C while writing: the write is not committed
                 db.close(abort=True)
                 raise
-            else:
-                db.close()
+            db.close()
     if json_out:
         emit_json(check_doc(result, info, store_error, lot))
     else:
